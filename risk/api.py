@@ -1,0 +1,63 @@
+"""Public entry points: one call per CLI command, usable from scripts and notebooks."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from risk.errors import ScenarioError
+from risk.scenario import MAX_SAMPLES, load_scenario
+
+__all__ = ["RunResult", "run_scenario"]
+
+
+@dataclass(frozen=True)
+class RunResult:
+    """What :func:`run_scenario` produced: the JSON summary and where it was written."""
+
+    summary: dict[str, Any]
+    out_dir: Path
+    assessment: Any
+
+
+def _check_overrides(samples: int | None, seed: int | None) -> None:
+    if samples is not None and not 1 <= samples <= MAX_SAMPLES:
+        raise ScenarioError.single("--samples", samples,
+                                   f"a whole number of samples from 1 to {MAX_SAMPLES:,}")
+    if seed is not None and not 0 <= seed < 2**63:
+        raise ScenarioError.single("--seed", seed, "a whole number >= 0")
+
+
+def run_scenario(path: str | Path, *, out: str | Path = "reports", samples: int | None = None,
+                 seed: int | None = None, show_progress: bool = False) -> RunResult:
+    """Load, assess and write ``results.json`` into ``out``.
+
+    Raises
+    ------
+    ScenarioError
+        For any bad input (the file, the overrides or the output folder).
+    """
+    _check_overrides(samples, seed)
+    scenario = load_scenario(path)
+    from risk.report.writer import prepare_output_dir, write_json
+
+    out_dir = prepare_output_dir(out)
+    from risk.assessment import assess
+    from risk.report.results import summarize
+
+    if show_progress:
+        from rich.progress import Progress
+
+        with Progress(transient=True) as bar:
+            task = bar.add_task("evaluating samples", total=None)
+
+            def tick(done: int, total: int) -> None:
+                bar.update(task, completed=done, total=total)
+
+            assessment = assess(scenario, samples=samples, seed=seed, progress=tick)
+    else:
+        assessment = assess(scenario, samples=samples, seed=seed)
+    summary = summarize(assessment)
+    write_json(summary, out_dir / "results.json")
+    return RunResult(summary, out_dir, assessment)

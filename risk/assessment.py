@@ -1,0 +1,211 @@
+"""The one orchestrator: scenario -> sampled inputs -> mechanics -> a frozen result.
+
+Steps are kept apart: sampling (:mod:`risk.uncertainty`), evaluation (:func:`evaluate`, pure and
+vectorised over samples x directions x stages, run in chunks so memory stays bounded) and
+analysis (:mod:`risk.probability`, and the summaries in :mod:`risk.report.results`).
+
+Directions: an open hole is one direction (the well itself); a perforated well has one
+direction per shot. The well-level critical drawdown of a sample is the smallest over its
+directions (the first tunnel to fail).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from typing import Final
+
+import numpy as np
+from numpy.typing import NDArray
+
+from risk import __version__
+from risk.mechanics import stresses as st
+from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
+from risk.mechanics.yield_onset import critical_wall_pressure
+from risk.scenario import Scenario
+from risk.uncertainty import UnitSampler, build_joint, input_columns, to_inputs
+
+Array = NDArray[np.float64]
+Progress = Callable[[int, int], None]
+
+__all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "MECHANISMS", "physical_inputs"]
+
+#: Mechanisms by result key, with the human name used in tables and the memo.
+MECHANISMS: Final[dict[str, str]] = {
+    "yield_onset": "Yield onset at the wall",
+}
+
+CHUNK: Final = 4096  # samples per evaluation chunk (a power of two keeps Sobol' balanced)
+
+
+@dataclass(frozen=True)
+class MechanismResult:
+    """Per-sample outcomes of one mechanism.
+
+    by_direction : critical drawdown [MPa], shape (n, n_directions, n_stages); +inf = never
+    theta : wall angle [rad] where the limit is first reached, same shape (nan = never)
+    """
+
+    name: str
+    by_direction: Array
+    theta: Array
+
+    @property
+    def well(self) -> Array:
+        """Well-level critical drawdown [MPa], (n, n_stages): first direction to fail."""
+        return np.asarray(self.by_direction.min(axis=1))
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """Everything one run produced (internal units)."""
+
+    scenario: Scenario
+    samples: int
+    seed: int
+    sampling: str
+    deterministic: bool
+    directions: tuple[float, ...]  # shot angles [rad]; (nan,) for an open hole
+    stages: tuple[float, ...]  # reservoir pressures [MPa]
+    inputs: Mapping[str, Array]  # every input by name, (n,) [internal units]
+    uncertain: tuple[str, ...]
+    xi: Array  # independent standard normals behind the samples (n, d)
+    mechanisms: Mapping[str, MechanismResult]
+    version: str = __version__
+    provenance: Mapping[str, object] = field(default_factory=dict)
+
+
+def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Array]:
+    """Absolute stresses and pore pressure [MPa] from the sampled columns (gradients x depth)."""
+    depth = scenario.well.depth
+    out: dict[str, Array] = {}
+    for name in ("sv", "shmax", "shmin", "pp"):
+        if scenario.stress_given[name] == "absolute":
+            out[name] = np.asarray(cols[name], dtype=float)
+        else:
+            out[name] = np.asarray(cols[f"{name}_gradient"], dtype=float) * depth
+    return out
+
+
+def _frames(scenario: Scenario) -> Array:
+    w = scenario.well
+    if w.completion == "openhole":
+        return st.cavity_frame(w.inclination, w.azimuth)[None]
+    return st.tunnel_frame(well_inclination=w.inclination, well_azimuth=w.azimuth,
+                           shot_angle=np.asarray(w.shot_angles))
+
+
+def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, MechanismResult]:
+    """Run every mechanism on a block of samples.
+
+    Parameters
+    ----------
+    cols : mapping of name -> ndarray (n,)
+        Every scenario input [internal units] (fixed ones as constant columns).
+    scenario : Scenario
+
+    Returns
+    -------
+    dict of mechanism key -> MechanismResult, arrays (n, n_directions, n_stages)
+    """
+    phys = physical_inputs(cols, scenario)
+    n = phys["sv"].size
+    stages = np.asarray(scenario.reservoir_pressure)[None, :]  # (1, k)
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    big_a = st.poroelastic_coefficient(biot=biot, poisson_ratio=nu)
+    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
+            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    p0 = phys["pp"][:, None]
+    sh_max = st.depleted_stress(initial=phys["shmax"][:, None], initial_pore_pressure=p0,
+                                reservoir_pressure=stages, path=path[:, None])
+    sh_min = st.depleted_stress(initial=phys["shmin"][:, None], initial_pore_pressure=p0,
+                                reservoir_pressure=stages, path=path[:, None])
+    tensor = st.far_field_tensor(shmax=sh_max, shmin=sh_min, sv=phys["sv"][:, None],
+                                 shmax_azimuth=np.asarray(cols["shmax_azimuth"])[:, None])
+    frames = _frames(scenario)  # (m, 3, 3)
+    local = st.local_stress(tensor[:, None], frames[None, :, None])  # (n, m, k)
+
+    def per_sample(a: Array) -> Array:
+        return np.asarray(a, dtype=float).reshape(n, 1, 1)
+
+    if scenario.criterion == "hoek-brown":
+        gsi = cols.get("gsi", np.full(n, 100.0))
+        mb, s, a = hoek_brown_rock_mass(mi=cols["hb_mi"], gsi=gsi)
+    else:
+        mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
+    strength = StrengthParameters(per_sample(cols["ucs"]), per_sample(cols["friction_angle"]),
+                                  per_sample(mb), per_sample(s), per_sample(a))
+    p_r = stages[:, None, :]  # (1, 1, k)
+    onset = critical_wall_pressure(
+        local, reservoir_pressure=p_r, poro_coefficient=per_sample(big_a),
+        poisson_ratio=per_sample(nu), strength=strength,
+        tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
+    )
+    dc = p_r - onset.wall_pressure
+    return {"yield_onset": MechanismResult("yield_onset", dc, onset.theta)}
+
+
+def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
+           progress: Progress | None = None) -> Assessment:
+    """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
+
+    Parameters
+    ----------
+    scenario : Scenario
+    samples, seed : int, optional
+        Override the scenario's ``[analysis] samples`` and ``seed``.
+    progress : callable(done, total), optional
+        Called after each evaluated chunk (the CLI shows a progress bar).
+
+    Notes
+    -----
+    With every input fixed the run is deterministic: one evaluation, ``samples = 1``.
+    The same scenario, samples and seed give bit-identical results.
+    """
+    n_req = scenario.samples if samples is None else int(samples)
+    seed_ = scenario.seed if seed is None else int(seed)
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    deterministic = joint.d == 0
+    n = 1 if deterministic else n_req
+    rng = np.random.default_rng(seed_)
+    sampler = UnitSampler(scenario.sampling, joint.d, rng)
+    blocks: dict[str, list[Array]] = {}
+    theta_blocks: dict[str, list[Array]] = {}
+    col_blocks: dict[str, list[Array]] = {k: [] for k in names}
+    xi_blocks: list[Array] = []
+    done = 0
+    while done < n:
+        m = min(CHUNK, n - done)
+        u = sampler.draw(m)
+        x, xi = to_inputs(joint, u)
+        cols = input_columns(joint, x)
+        out = evaluate(cols, scenario)
+        for key, res in out.items():
+            blocks.setdefault(key, []).append(res.by_direction)
+            theta_blocks.setdefault(key, []).append(res.theta)
+        for k in names:
+            col_blocks[k].append(cols[k])
+        xi_blocks.append(xi)
+        done += m
+        if progress is not None:
+            progress(done, n)
+    mechanisms = {
+        key: MechanismResult(key, np.concatenate(blocks[key]), np.concatenate(theta_blocks[key]))
+        for key in blocks
+    }
+    directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
+                  else (float("nan"),))
+    import scipy
+
+    return Assessment(
+        scenario=scenario, samples=n, seed=seed_, sampling=scenario.sampling,
+        deterministic=deterministic, directions=tuple(directions),
+        stages=scenario.reservoir_pressure,
+        inputs={k: np.concatenate(v) for k, v in col_blocks.items()},
+        uncertain=tuple(joint.names), xi=np.concatenate(xi_blocks), mechanisms=mechanisms,
+        provenance={"numpy": np.__version__, "scipy": scipy.__version__,
+                    "chunk": CHUNK, "sobol_balanced": sampler.balanced},
+    )

@@ -1,0 +1,92 @@
+"""Command line: parse, call one library function, map the domain error to exit code 2.
+
+Exit codes: 0 success; 2 bad input (scenario, options, paths) with one message and no
+traceback; 1 an internal error (a bug: please report it with the scenario).
+Heavy libraries are imported inside the commands so that ``risk --help`` answers fast.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+app = typer.Typer(
+    add_completion=False, no_args_is_help=True,
+    help="Sand-production and perforation-tunnel failure risk: drawdown limits over depletion "
+         "from uncertain rock strength, stresses and pressures.",
+)
+
+EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 1
+
+
+def _fail(message: str, code: int) -> None:
+    from rich.console import Console
+
+    Console(stderr=True, highlight=False, soft_wrap=True).print(
+        f"[bold red]error:[/] {message}", markup=True)
+    raise typer.Exit(code)
+
+
+def _guard(fn: Any, *args: Any, **kwargs: Any) -> Any:
+    from risk.errors import ScenarioError
+
+    try:
+        return fn(*args, **kwargs)
+    except ScenarioError as err:
+        _fail(_escape(err.message), EXIT_BAD_INPUT)
+    except typer.Exit:
+        raise
+    except KeyboardInterrupt:
+        _fail("interrupted; no output was changed", 130)
+    except Exception as exc:  # noqa: BLE001 - last line of defence: no traceback for users
+        _fail(f"internal error ({type(exc).__name__}: {_escape(str(exc))}). This is a bug in "
+              "risk; please report it with the scenario file.", EXIT_INTERNAL)
+
+
+def _escape(text: str) -> str:
+    from rich.markup import escape
+
+    return escape(text)
+
+
+@app.command()
+def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -> None:
+    """Validate a scenario and print its inputs in its own units."""
+    from risk.scenario import load_scenario
+
+    scenario = _guard(load_scenario, file)
+    from risk.report.console import print_scenario
+
+    print_scenario(scenario)
+
+
+@app.command()
+def run(
+    file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")],
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output folder.")] = Path("reports"),
+    samples: Annotated[int | None, typer.Option(help="Override [analysis] samples.")] = None,
+    seed: Annotated[int | None, typer.Option(help="Override [analysis] seed.")] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
+    as_json: Annotated[bool, typer.Option("--json", help="Print results.json.")] = False,
+) -> None:
+    """Run every analysis of a scenario and write results.json into the output folder."""
+    from risk.api import run_scenario
+
+    result = _guard(run_scenario, file, out=out, samples=samples, seed=seed,
+                    show_progress=not quiet and not as_json and sys.stderr.isatty())
+    if as_json:
+        from risk.report.writer import dumps
+
+        sys.stdout.write(dumps(result.summary))
+    elif not quiet:
+        from risk.report.console import print_summary
+
+        print_summary(result.summary, result.out_dir)
+
+
+def main() -> None:  # pragma: no cover - console entry point
+    app()

@@ -1,0 +1,278 @@
+"""Yield onset at the wall of an open hole or a perforation tunnel.
+
+For one set of inputs (vectorised over any number of them) this finds the highest flowing wall
+pressure ``p_wc`` in [0, p_r] at which the effective stress somewhere on the cavity wall reaches
+the chosen failure criterion or the tensile cut-off, and the wall angle where it happens.
+
+Method
+------
+At the wall the effective radial stress is zero (permeable, producing wall: the fluid pressure is
+``p_w``), and the hoop and axial effective stresses are affine in ``p_w`` at a fixed wall angle
+``t``::
+
+    s'_t = a_t - (2 - A) p_w,     s'_z = a_z - (1 - A) p_w,     t_tz independent of p_w
+
+(:func:`risk.mechanics.stresses.wall_stresses`, Terzaghi effective stress). Every criterion in
+:mod:`risk.mechanics.criteria` has a convex elastic domain, so along this straight stress path
+the safe wall pressures at one angle form a single interval. Hence:
+
+1. at each angle the critical wall pressure ``v(t)`` is the lower end of that interval, found by
+   a bracketed root (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``) on
+   ``[p_lo, p_r]`` with ``p_lo`` far below zero; ``v(t) >= p_r`` where the wall already fails
+   at zero drawdown;
+2. the worst angle maximises ``v(t)``: a grid of ``n_theta`` angles over [0, pi) (the wall
+   stresses have period pi) gives a bracket that is refined by Chandrupatla's minimiser
+   (1998, ``scipy.optimize.elementwise.find_minimum``) to the floating-point limit;
+3. the tensile cut-off can only be reached at zero drawdown for this stress path (the smallest
+   principal effective stress does not fall as ``p_w`` falls; derived), so it is checked at
+   ``p_w = p_r`` with its own refined maximum over the angle.
+
+Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with no drawdown and
+``p_wc = -inf`` when it does not fail for any wall pressure in [0, p_r] ("never").
+"""
+
+from __future__ import annotations
+
+from typing import Any, NamedTuple
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+from scipy.optimize import elementwise
+
+from risk.mechanics.criteria import CRITERIA, StrengthParameters, tensile_cutoff
+from risk.mechanics.stresses import LocalStress
+
+Array = NDArray[np.float64]
+
+__all__ = ["OnsetResult", "critical_wall_pressure", "critical_drawdown", "wall_excess"]
+
+_ROOT_TOL = {"xatol": 1e-12, "xrtol": 4 * np.finfo(float).eps}
+
+
+class OnsetResult(NamedTuple):
+    """Critical wall pressure [MPa] (``p_r``: fails with no drawdown; ``-inf``: never) and the
+    wall angle [rad] in [0, pi) where the limit state is first reached (nan for never)."""
+
+    wall_pressure: Array
+    theta: Array
+
+
+def _principal(st: Array, sz: Array, tau: Array) -> tuple[Array, Array, Array]:
+    """Sorted principal effective stresses at the wall, radial effective stress being zero."""
+    mean = 0.5 * (st + sz)
+    rad = np.hypot(0.5 * (st - sz), tau)
+    hi, lo = mean + rad, mean - rad
+    s1 = np.maximum(hi, 0.0)
+    s3 = np.minimum(lo, 0.0)
+    s2 = np.minimum(np.maximum(lo, 0.0), hi)
+    return s1, s2, s3
+
+
+def _coefficients(theta: Array, c: tuple[Array, ...]) -> tuple[Array, Array, Array]:
+    """a_t, a_z and t_tz at wall angle theta from the packed per-case constants."""
+    sum_xy, diff_xy, sxy, szz, sxz, syz, inflow, nu = c
+    c2, s2 = np.cos(2.0 * theta), np.sin(2.0 * theta)
+    dev = 2.0 * diff_xy * c2 + 4.0 * sxy * s2
+    a_t = sum_xy - dev - inflow
+    a_z = szz - nu * dev - inflow
+    tau = 2.0 * (syz * np.cos(theta) - sxz * np.sin(theta))
+    return a_t, a_z, tau
+
+
+def wall_excess(
+    p_w: ArrayLike, theta: ArrayLike, local: LocalStress, *, reservoir_pressure: ArrayLike,
+    poro_coefficient: ArrayLike, poisson_ratio: ArrayLike, strength: StrengthParameters,
+    criterion: str,
+) -> Array:
+    """Criterion excess F [MPa] at wall pressure ``p_w`` [MPa] and wall angle ``theta`` [rad].
+
+    ``F >= 0`` means the criterion is reached there. Exposed for checks and plots.
+    """
+    consts = _pack(local, reservoir_pressure, poro_coefficient, poisson_ratio)
+    a_t, a_z, tau = _coefficients(np.asarray(theta, dtype=float), consts)
+    big_a = np.asarray(poro_coefficient, dtype=float)
+    pw = np.asarray(p_w, dtype=float)
+    s1, s2, s3 = _principal(a_t - (2.0 - big_a) * pw, a_z - (1.0 - big_a) * pw, tau)
+    return CRITERIA[criterion](s1, s2, s3, strength)
+
+
+def _pack(local: LocalStress, p_r: ArrayLike, big_a: ArrayLike, nu: ArrayLike
+          ) -> tuple[Array, ...]:
+    a = np.asarray(big_a, dtype=float)
+    return (local.sxx + local.syy, local.sxx - local.syy, np.asarray(local.sxy),
+            np.asarray(local.szz), np.asarray(local.sxz), np.asarray(local.syz),
+            a * np.asarray(p_r, dtype=float), np.asarray(nu, dtype=float))
+
+
+def critical_wall_pressure(
+    local: LocalStress,
+    *,
+    reservoir_pressure: ArrayLike,
+    poro_coefficient: ArrayLike,
+    poisson_ratio: ArrayLike,
+    strength: StrengthParameters,
+    tensile_strength: ArrayLike,
+    criterion: str = "mohr-coulomb",
+    n_theta: int = 36,
+) -> OnsetResult:
+    """Highest wall pressure in [0, p_r] at which the cavity wall reaches yield onset.
+
+    Parameters
+    ----------
+    local : LocalStress
+        Far-field total stress in the cavity frame at this depletion stage [MPa].
+    reservoir_pressure : array_like
+        Far-field pore pressure p_r of the stage [MPa].
+    poro_coefficient : array_like
+        A = alpha (1 - 2 nu)/(1 - nu) [1].
+    poisson_ratio : array_like
+        nu [1].
+    strength : StrengthParameters
+        UCS [MPa], friction angle [rad] and Hoek-Brown constants [1].
+    tensile_strength : array_like
+        Tensile strength T0 [MPa] of the cut-off (``inf`` switches it off).
+    criterion : str
+        A key of :data:`risk.mechanics.criteria.CRITERIA`.
+    n_theta : int
+        Number of wall angles in the bracketing grid over [0, pi).
+
+    Returns
+    -------
+    OnsetResult
+        Critical wall pressure [MPa] and worst wall angle [rad], shaped like the broadcast
+        inputs.
+
+    Notes
+    -----
+    With G(p) = max over the wall angle of F(t, p), the answer is the largest root of G in
+    [0, p_r]. G is convex in p (a maximum of functions convex along the path), so the iteration
+    p_{k+1} = root of F(t_k, .), t_{k+1} = argmax_t F(t, p_{k+1}) rises monotonically to it:
+    F(t_k, .) touches G at p_k with the same slope (envelope theorem), so each step is at least
+    as good as a Newton step on G. Every root is bracketed and every maximum is refined from a
+    grid bracket, so no step relies on a starting guess.
+
+    References
+    ----------
+    Wall stresses: Fjaer et al. (2008) sec. 4.4; Zoback (2007) ch. 8. Root and minimum:
+    Chandrupatla, T.R. (1997) Adv. Eng. Softw. 28, 145; (1998) CMAME 152, 211.
+    """
+    if criterion not in CRITERIA:
+        raise ValueError(f"unknown criterion {criterion!r}; expected one of {sorted(CRITERIA)}")
+    parts = np.broadcast_arrays(
+        *(np.asarray(v, dtype=float) for v in local),
+        np.asarray(reservoir_pressure, dtype=float), np.asarray(poro_coefficient, dtype=float),
+        np.asarray(poisson_ratio, dtype=float), np.asarray(tensile_strength, dtype=float),
+        *(np.asarray(v, dtype=float) for v in strength),
+    )
+    shape = parts[0].shape
+    flat = [np.ascontiguousarray(p).ravel() for p in parts]
+    loc = LocalStress(*flat[:6])
+    p_r, big_a, nu, t0 = flat[6:10]
+    prm = tuple(flat[10:])
+    # per case: 8 stress constants, A, then the strength parameters
+    case = (*_pack(loc, p_r, big_a, nu), big_a, *prm)
+    solver = _Solver(CRITERIA[criterion], n_theta)
+    n = p_r.size
+    p_wc = np.full(n, -np.inf)
+    theta = np.full(n, np.nan)
+
+    # zero drawdown: shear criterion and tensile cut-off at p_w = p_r
+    g_r, t_r = solver.max_over_theta(solver.shear, p_r, case)
+    tens = np.isfinite(t0)
+    g_t = np.full(n, -np.inf)
+    t_t = np.zeros(n)
+    if np.any(tens):
+        idx = np.nonzero(tens)[0]
+        g_t[idx], t_t[idx] = solver.max_over_theta(
+            solver.tension, p_r[idx], (*_take(case, idx), t0[idx]))
+    zero = (g_r >= 0.0) | (g_t >= 0.0)
+    p_wc[zero] = p_r[zero]
+    theta[zero] = np.where(g_r[zero] >= 0.0, t_r[zero], t_t[zero])
+
+    # full drawdown (p_w = 0): no failure there means no failure in [0, p_r]
+    rest = np.nonzero(~zero)[0]
+    g_0, t_0 = solver.max_over_theta(solver.shear, np.zeros(rest.size), _take(case, rest))
+    fails = g_0 >= 0.0
+    idx = rest[fails]
+    p_k = np.zeros(idx.size)
+    t_k = t_0[fails]
+    active = np.arange(idx.size)
+    for _ in range(60):
+        if active.size == 0:
+            break
+        sub = _take(case, idx[active])
+        p_new = solver.root_in_p(t_k[active], p_k[active], p_r[idx[active]], sub)
+        g_new, t_new = solver.max_over_theta(solver.shear, p_new, sub)
+        moved = p_new - p_k[active]
+        p_k[active] = p_new
+        t_k[active] = t_new
+        tol = 1e-13 * (1.0 + np.abs(p_new))
+        done = (g_new <= 0.0) | (moved <= tol)
+        active = active[~done]
+    p_wc[idx] = p_k
+    theta[idx] = t_k
+    theta = np.where(np.isneginf(p_wc), np.nan, np.mod(theta, np.pi))
+    return OnsetResult(p_wc.reshape(shape), theta.reshape(shape))
+
+
+def _take(arrays: tuple[Array, ...], idx: NDArray[np.intp]) -> tuple[Array, ...]:
+    return tuple(np.broadcast_to(a, idx.shape if np.ndim(a) == 0 else a.shape)[idx]
+                 if np.ndim(a) else a for a in arrays)
+
+
+class _Solver:
+    """Vectorised maximum over the wall angle and root in wall pressure for one criterion."""
+
+    def __init__(self, excess: object, n_theta: int) -> None:
+        self.excess = excess
+        self.grid = np.arange(n_theta) * (np.pi / n_theta)
+        self.step = np.pi / n_theta
+
+    def shear(self, theta: Array, p: Array, *case: Array) -> Array:
+        a_t, a_z, tau = _coefficients(theta, case[:8])
+        ba = case[8]
+        s1, s2, s3 = _principal(a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p, tau)
+        return self.excess(s1, s2, s3, StrengthParameters(*case[9:]))  # type: ignore[operator]
+
+    def tension(self, theta: Array, p: Array, *case: Array) -> Array:
+        a_t, a_z, tau = _coefficients(theta, case[:8])
+        ba = case[8]
+        _, _, s3 = _principal(a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p, tau)
+        return tensile_cutoff(s3, case[-1])
+
+    def max_over_theta(self, fun: object, p: Array, case: tuple[Array, ...]
+                       ) -> tuple[Array, Array]:
+        """max over t of fun(t, p, *case), grid bracket refined to the floating-point limit."""
+        f = fun  # type: Any
+        n = p.size
+        if n == 0:
+            return np.zeros(0), np.zeros(0)
+        col = tuple(a[:, None] if np.ndim(a) else a for a in case)
+        vals = f(self.grid[None, :], p[:, None], *col)
+        k = np.argmax(vals, axis=1)
+        best = vals[np.arange(n), k]
+        t = self.grid[k].copy()
+        h = self.step
+        res = elementwise.find_minimum(
+            lambda x, pp, *c: -f(x, pp, *c), (t - h, t, t + h), args=(p, *case),
+            tolerances={"xatol": 1e-15, "xrtol": 0.0, "fatol": 0.0, "frtol": 0.0},
+        )
+        better = res.success & (-res.f_x > best)
+        best = np.where(better, -res.f_x, best)
+        t = np.where(better, res.x, t)
+        return best, t
+
+    def root_in_p(self, theta: Array, p_fail: Array, p_safe: Array,
+                  case: tuple[Array, ...]) -> Array:
+        """Root of shear(theta, .) between a failing and a safe wall pressure."""
+        res = elementwise.find_root(
+            lambda p, t, *c: self.shear(t, p, *c), (p_fail, p_safe), args=(theta, *case),
+            tolerances=_ROOT_TOL,
+        )
+        # invalid bracket only where F(theta, p_fail) is exactly 0: p_fail is the root
+        return np.where(res.success, res.x, p_fail)
+
+
+def critical_drawdown(wall_pressure: ArrayLike, reservoir_pressure: ArrayLike) -> Array:
+    """D_c = p_r - p_wc [MPa]; ``+inf`` where ``p_wc`` is ``-inf`` (never fails)."""
+    return np.asarray(reservoir_pressure, dtype=float) - np.asarray(wall_pressure, dtype=float)

@@ -1,0 +1,87 @@
+"""Terminal output of the CLI (rich tables). Reads a scenario or a summary; writes no files."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Any
+
+from rich.console import Console
+from rich.table import Table
+
+from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
+from risk.scenario import _SPEC, Scenario
+
+__all__ = ["print_scenario", "print_summary"]
+
+
+def _fmt(v: float | None, digits: int = 4) -> str:
+    if v is None:
+        return "never"
+    return f"{v:,.{digits}g}" if abs(v) < 1e5 else f"{v:,.0f}"
+
+
+def print_scenario(sc: Scenario, console: Console | None = None) -> None:
+    """The normalised inputs, each in the scenario's unit, with its distribution."""
+    con = console or Console()
+    disp = DISPLAY_UNITS[sc.units]
+    w = sc.well
+    con.print(f"[bold]{sc.title}[/]  ({sc.source_name}, units = {sc.units!r})")
+    t = Table("well", "value", title=None, show_edge=False)
+    t.add_row("true vertical depth", f"{w.depth / TO_INTERNAL[sc.units]['length']:,.6g} "
+              f"{disp['length']}")
+    t.add_row("inclination / azimuth", f"{math.degrees(w.inclination):.4g} deg / "
+              f"{math.degrees(w.azimuth):.4g} deg")
+    t.add_row("completion", w.completion)
+    if w.completion == "perforated":
+        t.add_row("shot angles", ", ".join(f"{math.degrees(a):.4g}" for a in w.shot_angles)
+                  + " deg from the high side")
+        if w.tunnel_diameter:
+            t.add_row("tunnel diameter", f"{w.tunnel_diameter / TO_INTERNAL[sc.units]['small_length']:.4g} "
+                      f"{disp['small_length']}")
+    con.print(t)
+    t = Table("input", "distribution", "meaning", "source", show_edge=False)
+    for name, m in sc.inputs.items():
+        spec = _SPEC[name]
+        scale = TO_INTERNAL[sc.units][spec.dimension]
+        unit = disp[spec.dimension]
+        t.add_row(f"{spec.section}.{name}", m.describe(scale, unit), spec.description,
+                  m.source or "")
+    con.print(t)
+    p = disp["pressure"]
+    stages = ", ".join(f"{sc.to_display(s, 'pressure'):,.6g}" for s in sc.reservoir_pressure)
+    con.print(f"reservoir pressure stages: {stages} {p}; max drawdown "
+              f"{sc.to_display(sc.max_drawdown, 'pressure'):,.6g} {p}; accepted risk "
+              f"{sc.accepted_risk:g}")
+    con.print(f"criterion {sc.criterion}; {sc.samples:,} samples ({sc.sampling}), seed {sc.seed}")
+    con.print("[green]scenario is valid[/]")
+
+
+def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | None = None
+                  ) -> None:
+    """A compact table per mechanism: limits and critical values per depletion stage."""
+    con = console or Console()
+    u = summary["units"]["pressure"]
+    con.print(f"[bold]{summary['title']}[/] - {summary['samples']:,} samples "
+              f"({summary['sampling']}), seed {summary['seed']}, criterion "
+              f"{summary['criterion']}")
+    for key, mech in summary["mechanisms"].items():
+        t = Table(title=f"{mech['name']} ({key})", show_edge=False)
+        for col in (f"p_r [{u}]", f"limit @ {summary['accepted_risk']:g} [{u}]",
+                    f"95% lower [{u}]", f"Dc p10/p50/p90 [{u}]", f"p_wf,c p50 [{u}]",
+                    "never", "worst shot/wall [deg]"):
+            t.add_column(col, justify="right")
+        for s in mech["stages"]:
+            dc = s["critical_drawdown"]
+            worst = s.get("worst_shot_angle", s.get("worst_wall_angle"))
+            t.add_row(_fmt(s["reservoir_pressure"]), _fmt(s["drawdown_limit"]),
+                      _fmt(s["drawdown_limit_lower"]),
+                      " / ".join(_fmt(dc[k]) for k in ("p10", "p50", "p90")),
+                      _fmt(s["critical_wall_pressure"]["p50"]),
+                      f"{s['never_fraction']:.1%}", _fmt(worst))
+        con.print(t)
+        for s in mech["stages"]:
+            if s.get("convergence_warning"):
+                con.print(f"[yellow]warning[/] (p_r {_fmt(s['reservoir_pressure'])} {u}): "
+                          f"{s['convergence_warning']}")
+    con.print(f"results: {out_dir / 'results.json'}")

@@ -1,0 +1,126 @@
+"""The run summary: an :class:`~risk.assessment.Assessment` -> a JSON-ready dict in the
+scenario's units (pure; :mod:`risk.report.writer` writes it).
+
+Percentile keys follow :mod:`risk.conventions`: ``p10`` of a critical drawdown is the drawdown
+at or below which 10% of the samples fail. For critical flowing wall pressure the same key is
+the wall pressure at or above which 10% of the samples fail (``p_r - D_p10``). ``null`` stands
+for "never fails within [0, p_r]" wherever a number is infinite.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from risk import probability
+from risk.assessment import MECHANISMS, Assessment
+
+__all__ = ["summarize", "GRID_POINTS", "rounded"]
+
+GRID_POINTS = 51
+SCHEMA = "risk.results/1"
+
+
+def rounded(x: float, digits: int = 6) -> float | None:
+    """Round to significant digits for output; None for non-finite values."""
+    if x is None or not math.isfinite(x):
+        return None
+    if x == 0:
+        return 0.0
+    return float(f"{x:.{digits}g}")
+
+
+def _pressure(a: Assessment, v: float) -> float | None:
+    return rounded(a.scenario.to_display(v, "pressure"))
+
+
+def _angle(a: Assessment, v: float) -> float | None:
+    return rounded(math.degrees(v)) if math.isfinite(v) else None
+
+
+def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
+    sc = a.scenario
+    mech = a.mechanisms[key]
+    p_r = a.stages[k]
+    dc = mech.well[:, k]
+    q = probability.percentiles(dc, [0.1, 0.5, 0.9])
+    finite = np.isfinite(dc)
+    mean = float(dc.mean()) if finite.all() else math.inf
+    grid = np.linspace(0.0, sc.max_drawdown, GRID_POINTS)
+    p, lo, hi = probability.failure_curve(dc, grid)
+    limit, lower = probability.drawdown_limit(dc, sc.accepted_risk)
+    out: dict[str, Any] = {
+        "reservoir_pressure": _pressure(a, p_r),
+        "critical_drawdown": {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
+                              "p90": _pressure(a, q[2]), "mean": _pressure(a, mean)},
+        "critical_wall_pressure": {"p10": _pressure(a, p_r - q[0]),
+                                   "p50": _pressure(a, p_r - q[1]),
+                                   "p90": _pressure(a, p_r - q[2])},
+        "never_fraction": rounded(float(np.mean(~finite))),
+        "zero_drawdown_fraction": rounded(float(np.mean(dc <= 0.0))),
+        "drawdown_limit": _pressure(a, min(limit, p_r)),
+        "drawdown_limit_lower": _pressure(a, min(lower, p_r)) if lower > -math.inf else None,
+        "failure_probability": [
+            {"drawdown": _pressure(a, float(d)), "p": rounded(float(pi)),
+             "low": rounded(float(li)), "high": rounded(float(hi_))}
+            for d, pi, li, hi_ in zip(grid, p, lo, hi, strict=True)
+        ],
+        "convergence_warning": (None if a.deterministic
+                                else probability.convergence_warning(dc, sc.accepted_risk)),
+    }
+    if not math.isfinite(limit):
+        out["drawdown_limit_note"] = (
+            f"fewer than {sc.accepted_risk:.0%} of samples fail within the available "
+            "drawdown; the limit is the full reservoir pressure")
+        out["drawdown_limit"] = _pressure(a, p_r)
+    if sc.well.completion == "perforated":
+        by_dir = mech.by_direction[:, :, k]
+        lim = limit if math.isfinite(limit) else p_r
+        p50s = [float(probability.percentiles(by_dir[:, j], [0.5])[0])
+                for j in range(by_dir.shape[1])]
+        shots = [{"angle": _angle(a, ang), "critical_drawdown_p50": _pressure(a, v),
+                  "probability_at_limit": rounded(float(np.mean(by_dir[:, j] <= lim)))}
+                 for j, (ang, v) in enumerate(zip(a.directions, p50s, strict=True))]
+        worst = int(np.argmin(p50s))
+        out["worst_shot_angle"] = _angle(a, a.directions[worst])
+        out["shots"] = shots
+    else:
+        th = mech.theta[:, 0, k]
+        ok = np.isfinite(th)
+        out["worst_wall_angle"] = (_angle(a, float(np.median(th[ok]))) if ok.any() else None)
+    return out
+
+
+def summarize(a: Assessment) -> dict[str, Any]:
+    """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``)."""
+    sc = a.scenario
+    units = {"pressure": sc.display_unit("pressure"), "angle": "deg",
+             "length": sc.display_unit("length"), "probability": "-"}
+    mechanisms = {
+        key: {"name": MECHANISMS[key],
+              "stages": [_stage_summary(a, key, k) for k in range(len(a.stages))]}
+        for key in a.mechanisms
+    }
+    return {
+        "schema": SCHEMA,
+        "tool": "risk",
+        "version": a.version,
+        "title": sc.title,
+        "scenario_file": sc.source_name,
+        "scenario_sha256": sc.sha256,
+        "units": units,
+        "unit_system": sc.units,
+        "samples": a.samples,
+        "seed": a.seed,
+        "sampling": a.sampling,
+        "deterministic": a.deterministic,
+        "criterion": sc.criterion,
+        "completion": sc.well.completion,
+        "accepted_risk": sc.accepted_risk,
+        "max_drawdown": _pressure(a, sc.max_drawdown),
+        "uncertain_inputs": list(a.uncertain),
+        "mechanisms": mechanisms,
+        "provenance": {k: v for k, v in a.provenance.items()},
+    }

@@ -1,0 +1,517 @@
+"""Scenario files: TOML in field or SI units -> a validated, frozen scenario in internal units.
+
+The engineer's file is read once here; every value is converted to internal units
+(:mod:`risk.conventions`) and every problem found is reported at once in one
+:class:`~risk.errors.ScenarioError`. Nothing downstream converts units or re-validates input.
+
+Each numeric input listed in :data:`INPUTS` may be a plain number (fixed) or a distribution
+table such as ``{ dist = "normal", mean = 9000, sd = 900, source = "core plugs" }``
+(:func:`risk.uncertainty.parse_input`). Stresses and the initial pore pressure are given either
+as an absolute value (``sv = ...``) or as a gradient from surface (``sv_gradient = ...``), exactly
+one of the two.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import math
+import tomllib
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Final
+
+from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, UNIT_SYSTEMS
+from risk.errors import Problem, ScenarioError
+from risk.mechanics.criteria import CRITERIA
+from risk.uncertainty import Bounds, Marginal, parse_input
+
+__all__ = [
+    "InputSpec",
+    "INPUTS",
+    "Well",
+    "Scenario",
+    "load_scenario",
+    "parse_scenario",
+    "MAX_SAMPLES",
+    "SAMPLING_RULES",
+]
+
+MAX_SAMPLES: Final = 10_000_000
+SAMPLING_RULES: Final = ("sobol", "lhs", "random")
+COMPLETIONS: Final = ("perforated", "openhole")
+STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
+
+
+@dataclass(frozen=True)
+class InputSpec:
+    """A numeric scenario input that may carry a distribution.
+
+    name : the key in its section (also the input's name in results and the sensitivity list)
+    section : TOML table it lives in
+    dimension : key of :data:`risk.conventions.TO_INTERNAL`
+    bounds : physical range in internal units
+    required : whether the scenario must give it (False: optional or conditional)
+    description : one line for ``risk check`` and the memo
+    """
+
+    name: str
+    section: str
+    dimension: str
+    bounds: Bounds
+    required: bool
+    description: str
+
+
+_POS = Bounds.positive()
+_NONNEG = Bounds.nonnegative()
+_ANY = Bounds()
+
+#: Every numeric input that may be uncertain, in the order they are listed to the user.
+INPUTS: Final[tuple[InputSpec, ...]] = (
+    InputSpec("sv", "stress", "pressure", _POS, False, "vertical (overburden) stress"),
+    InputSpec("sv_gradient", "stress", "gradient", _POS, False, "overburden gradient"),
+    InputSpec("shmax", "stress", "pressure", _POS, False, "maximum horizontal stress"),
+    InputSpec("shmax_gradient", "stress", "gradient", _POS, False, "SHmax gradient"),
+    InputSpec("shmin", "stress", "pressure", _POS, False, "minimum horizontal stress"),
+    InputSpec("shmin_gradient", "stress", "gradient", _POS, False, "Shmin gradient"),
+    InputSpec("pp", "stress", "pressure", _POS, False, "initial pore pressure"),
+    InputSpec("pp_gradient", "stress", "gradient", _POS, False, "initial pore-pressure gradient"),
+    InputSpec("shmax_azimuth", "stress", "angle", _ANY, True,
+              "SHmax azimuth, clockwise from north"),
+    InputSpec("depletion_path", "stress", "dimensionless",
+              Bounds(0.0, 1.0, text="in [0, 1]"), False,
+              "depletion stress path dSh/dPp (default: uniaxial strain)"),
+    InputSpec("ucs", "rock", "pressure", _POS, True, "unconfined compressive strength"),
+    InputSpec("friction_angle", "rock", "angle",
+              Bounds(0.0, math.pi / 2, lower_inclusive=False, upper_inclusive=False,
+                     text="in (0, 90) degrees"), True, "internal friction angle"),
+    InputSpec("tensile_strength", "rock", "pressure", _NONNEG, True, "tensile strength"),
+    InputSpec("poisson_ratio", "rock", "dimensionless",
+              Bounds(0.0, 0.5, upper_inclusive=False, text="in [0, 0.5)"), True,
+              "Poisson's ratio (drained)"),
+    InputSpec("biot", "rock", "dimensionless",
+              Bounds(0.0, 1.0, lower_inclusive=False, text="in (0, 1]"), True,
+              "Biot coefficient"),
+    InputSpec("hb_mi", "rock", "dimensionless", _POS, False,
+              "Hoek-Brown m_i of the intact rock (criterion hoek-brown)"),
+    InputSpec("gsi", "rock", "dimensionless", Bounds(0.0, 100.0, lower_inclusive=False,
+                                                     text="in (0, 100]"), False,
+              "geological strength index (Hoek-Brown rock mass; default 100 = intact)"),
+)
+_SPEC: Final = {s.name: s for s in INPUTS}
+
+_SECTIONS: Final[dict[str, tuple[str, ...]]] = {
+    "": ("title", "units", "well", "stress", "rock", "production", "analysis", "correlation"),
+    "well": ("depth", "inclination", "azimuth", "completion", "shot_angles", "tunnel_diameter",
+             "hole_diameter"),
+    "stress": tuple(s.name for s in INPUTS if s.section == "stress"),
+    "rock": tuple(s.name for s in INPUTS if s.section == "rock"),
+    "production": ("reservoir_pressure", "max_drawdown", "accepted_risk"),
+    "analysis": ("criterion", "samples", "seed", "sampling"),
+    "correlation": ("pairs",),
+}
+
+
+@dataclass(frozen=True)
+class Well:
+    """Well geometry and completion (internal units).
+
+    depth [m] true vertical depth of the interval; inclination, azimuth [rad];
+    completion "perforated" or "openhole"; shot_angles [rad] from the high side
+    (empty for an open hole); tunnel_diameter, hole_diameter [m] or None.
+    """
+
+    depth: float
+    inclination: float
+    azimuth: float
+    completion: str
+    shot_angles: tuple[float, ...]
+    tunnel_diameter: float | None
+    hole_diameter: float | None
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A validated scenario in internal units (:mod:`risk.conventions`).
+
+    ``inputs`` maps each given numeric input name (see :data:`INPUTS`) to its distribution;
+    ``stress_given`` says for each of sv, shmax, shmin, pp whether the file gave the absolute
+    value ("absolute") or the gradient ("gradient").
+    """
+
+    title: str
+    units: str
+    well: Well
+    inputs: Mapping[str, Marginal]
+    stress_given: Mapping[str, str]
+    reservoir_pressure: tuple[float, ...]
+    max_drawdown: float
+    accepted_risk: float
+    criterion: str
+    samples: int
+    seed: int
+    sampling: str
+    correlation: tuple[tuple[str, str, float], ...]
+    source_name: str = ""
+    sha256: str = ""
+    raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
+
+    @property
+    def initial_pore_pressure_key(self) -> str:
+        return "pp" if self.stress_given["pp"] == "absolute" else "pp_gradient"
+
+    def display_unit(self, dimension: str) -> str:
+        """The scenario's unit for a dimension (for output)."""
+        return DISPLAY_UNITS[self.units][dimension]
+
+    def to_display(self, value: float, dimension: str) -> float:
+        """Internal value -> the scenario's unit."""
+        return value / TO_INTERNAL[self.units][dimension]
+
+    @property
+    def uncertain_names(self) -> tuple[str, ...]:
+        return tuple(n for n, m in self.inputs.items() if not m.is_fixed)
+
+
+# --------------------------------------------------------------------------------------------
+def _did_you_mean(word: str, choices: tuple[str, ...] | list[str]) -> str:
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+def _is_number(v: object) -> bool:
+    return isinstance(v, int | float) and not isinstance(v, bool)
+
+
+class _Collector:
+    """Gathers problems so that one pass reports all of them."""
+
+    def __init__(self) -> None:
+        self.problems: list[Problem] = []
+
+    def add(self, key: str, value: Any, expected: str, found_text: str | None = None) -> None:
+        self.problems.append(Problem(key, value, expected, found_text))
+
+    def extend(self, err: ScenarioError) -> None:
+        self.problems.extend(err.problems)
+
+    def number(self, table: Mapping[str, Any], section: str, key: str, *, required: bool,
+               expected: str, check: Any = None, integer: bool = False) -> float | None:
+        full = f"{section}.{key}" if section else key
+        if key not in table:
+            if required:
+                self.add(full, None, expected, found_text="nothing (the key is missing)")
+            return None
+        v = table[key]
+        if integer:
+            if not isinstance(v, int) or isinstance(v, bool):
+                self.add(full, v, expected)
+                return None
+        elif not _is_number(v):
+            self.add(full, v, expected)
+            return None
+        fv = float(v)
+        if not math.isfinite(fv) or (check is not None and not check(fv)):
+            self.add(full, v, expected)
+            return None
+        return fv
+
+
+def _check_keys(c: _Collector, table: Mapping[str, Any], section: str) -> None:
+    allowed = _SECTIONS[section]
+    for key in table:
+        if key not in allowed:
+            where = f"{section}.{key}" if section else key
+            kind = "section" if not section and isinstance(table[key], dict) else "key"
+            c.add(where, table[key],
+                  f"a known {kind}{' in [' + section + ']' if section else ''}: "
+                  f"{', '.join(allowed)}{_did_you_mean(str(key), allowed)}",
+                  found_text=f"unknown {kind} {key!r}")
+
+
+def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str = ""
+                   ) -> Scenario:
+    """Validate a parsed TOML document and convert it to a :class:`Scenario`.
+
+    Raises
+    ------
+    ScenarioError
+        With every problem found (key, value found, what is expected).
+    """
+    c = _Collector()
+    _check_keys(c, doc, "")
+    title = doc.get("title", "")
+    if not isinstance(title, str):
+        c.add("title", title, "a text")
+        title = ""
+    units = doc.get("units")
+    if units not in UNIT_SYSTEMS:
+        c.add("units", units, 'units = "field" (psi, ft, in, degrees, psi/ft) or "si" '
+              "(MPa, m, mm, degrees, kPa/m)"
+              + (_did_you_mean(units, list(UNIT_SYSTEMS)) if isinstance(units, str) else ""),
+              found_text="nothing (the key is missing)" if units is None else None)
+        raise ScenarioError(c.problems, source_name)
+    conv = TO_INTERNAL[units]
+    disp = DISPLAY_UNITS[units]
+
+    sections: dict[str, Mapping[str, Any]] = {}
+    for name in ("well", "stress", "rock", "production", "analysis", "correlation"):
+        t = doc.get(name, {})
+        if not isinstance(t, dict):
+            c.add(name, t, f"a table [{name}]")
+            t = {}
+        elif name != "correlation" and name not in doc:
+            c.add(name, None, f"a [{name}] table", found_text="nothing (the table is missing)")
+        else:
+            _check_keys(c, t, name)
+        sections[name] = t
+
+    # ---- well --------------------------------------------------------------------------------
+    w = sections["well"]
+    depth = c.number(w, "well", "depth", required=True, check=lambda v: v > 0,
+                     expected=f"a true vertical depth > 0 [{disp['length']}]")
+    inc = c.number(w, "well", "inclination", required=True, check=lambda v: 0 <= v <= 180,
+                   expected="an inclination from vertical in [0, 180] degrees")
+    azi = c.number(w, "well", "azimuth", required=False, check=math.isfinite,
+                   expected="an azimuth in degrees clockwise from north")
+    completion = w.get("completion")
+    if completion not in COMPLETIONS:
+        c.add("well.completion", completion, 'completion = "perforated" or "openhole"'
+              + (_did_you_mean(completion, list(COMPLETIONS))
+                 if isinstance(completion, str) else ""),
+              found_text="nothing (the key is missing)" if completion is None else None)
+    shots: tuple[float, ...] = ()
+    tunnel_d = c.number(w, "well", "tunnel_diameter", required=completion == "perforated",
+                        check=lambda v: v > 0,
+                        expected=f"a perforation tunnel diameter > 0 [{disp['small_length']}]")
+    hole_d = c.number(w, "well", "hole_diameter", required=False, check=lambda v: v > 0,
+                      expected=f"a hole diameter > 0 [{disp['small_length']}]")
+    if completion == "perforated":
+        raw_shots = w.get("shot_angles")
+        if (not isinstance(raw_shots, list) or not raw_shots
+                or not all(_is_number(a) and math.isfinite(a) for a in raw_shots)):
+            c.add("well.shot_angles", raw_shots,
+                  "a non-empty list of shot angles in degrees from the high side, "
+                  "e.g. [0, 60, 120, 180, 240, 300]",
+                  found_text="nothing (the key is missing)" if raw_shots is None else None)
+        elif len(raw_shots) > 36:
+            c.add("well.shot_angles", raw_shots, "at most 36 shot directions",
+                  found_text=f"{len(raw_shots)} directions")
+        else:
+            reduced = [float(a) % 360.0 for a in raw_shots]
+            if len(set(reduced)) != len(reduced):
+                c.add("well.shot_angles", raw_shots, "distinct directions (modulo 360 degrees)")
+            shots = tuple(a * conv["angle"] for a in reduced)
+    elif completion == "openhole" and "shot_angles" in w:
+        c.add("well.shot_angles", w["shot_angles"],
+              'no shot angles for completion = "openhole" (remove the key, or set '
+              'completion = "perforated")')
+
+    # ---- numeric inputs (stress and rock), each fixed or a distribution --------------------
+    inputs: dict[str, Marginal] = {}
+    for spec in INPUTS:
+        table = sections[spec.section]
+        if spec.name not in table:
+            continue
+        try:
+            inputs[spec.name] = parse_input(
+                f"{spec.section}.{spec.name}", table[spec.name],
+                scale=conv[spec.dimension], bounds=spec.bounds, unit=disp[spec.dimension])
+        except ScenarioError as err:
+            c.extend(err)
+    stress_given: dict[str, str] = {}
+    for name in STRESS_NAMES:
+        has_abs, has_grad = name in sections["stress"], f"{name}_gradient" in sections["stress"]
+        if has_abs and has_grad:
+            c.add(f"stress.{name}", sections["stress"][name],
+                  f"exactly one of stress.{name} and stress.{name}_gradient",
+                  found_text=f"both ({name} = {sections['stress'][name]!r}, {name}_gradient = "
+                  f"{sections['stress'][name + '_gradient']!r})")
+        elif not (has_abs or has_grad):
+            c.add(f"stress.{name}_gradient", None,
+                  f"stress.{name} [{disp['pressure']}] or stress.{name}_gradient "
+                  f"[{disp['gradient']}]", found_text="neither")
+        else:
+            stress_given[name] = "absolute" if has_abs else "gradient"
+    for spec in INPUTS:
+        if spec.required and spec.section in doc and spec.name not in sections[spec.section]:
+            c.add(f"{spec.section}.{spec.name}", None,
+                  f"the {spec.description} [{disp[spec.dimension]}]",
+                  found_text="nothing (the key is missing)")
+
+    # ---- production ---------------------------------------------------------------------------
+    pr = sections["production"]
+    stages_raw = pr.get("reservoir_pressure")
+    stages: tuple[float, ...] = ()
+    if _is_number(stages_raw):
+        stages_raw = [stages_raw]
+    if (not isinstance(stages_raw, list) or not stages_raw
+            or not all(_is_number(s) and math.isfinite(s) and s > 0 for s in stages_raw)):
+        if "production" in doc:
+            c.add("production.reservoir_pressure", stages_raw,
+                  f"a list of reservoir pressures > 0 [{disp['pressure']}], one per depletion "
+                  "stage", found_text="nothing (the key is missing)" if stages_raw is None
+                  else None)
+    elif len(stages_raw) > 50:
+        c.add("production.reservoir_pressure", stages_raw, "at most 50 depletion stages",
+              found_text=f"{len(stages_raw)} stages")
+    else:
+        stages = tuple(float(s) * conv["pressure"] for s in stages_raw)
+    max_dd = c.number(pr, "production", "max_drawdown", required="production" in doc,
+                      check=lambda v: v > 0,
+                      expected=f"the largest drawdown to assess, > 0 [{disp['pressure']}]")
+    risk_ = c.number(pr, "production", "accepted_risk", required="production" in doc,
+                     check=lambda v: 0 < v < 1,
+                     expected="an accepted probability of failure in (0, 1), e.g. 0.1")
+
+    # ---- analysis -----------------------------------------------------------------------------
+    an = sections["analysis"]
+    criterion = an.get("criterion", "mohr-coulomb")
+    if criterion not in CRITERIA:
+        names = sorted(CRITERIA)
+        c.add("analysis.criterion", criterion, "one of " + ", ".join(names)
+              + (_did_you_mean(criterion, names) if isinstance(criterion, str) else ""))
+    samples = c.number(an, "analysis", "samples", required=False, integer=True,
+                       check=lambda v: 1 <= v <= MAX_SAMPLES,
+                       expected=f"a whole number of samples from 1 to {MAX_SAMPLES:,}")
+    seed = c.number(an, "analysis", "seed", required=False, integer=True,
+                    check=lambda v: 0 <= v < 2**63,
+                    expected="a whole number >= 0 (the random seed)")
+    sampling = an.get("sampling", "sobol")
+    if sampling not in SAMPLING_RULES:
+        c.add("analysis.sampling", sampling, "one of " + ", ".join(SAMPLING_RULES)
+              + (_did_you_mean(sampling, list(SAMPLING_RULES))
+                 if isinstance(sampling, str) else ""))
+    if criterion == "hoek-brown" and "hb_mi" not in inputs and "hb_mi" not in sections["rock"]:
+        c.add("rock.hb_mi", None, "the Hoek-Brown m_i of the intact rock (needed by "
+              'criterion = "hoek-brown")', found_text="nothing (the key is missing)")
+
+    # ---- correlation ---------------------------------------------------------------------------
+    corr: list[tuple[str, str, float]] = []
+    pairs = sections["correlation"].get("pairs", [])
+    if not isinstance(pairs, list):
+        c.add("correlation.pairs", pairs, 'a list like [["ucs", "friction_angle", 0.5]]')
+    else:
+        for i, pair in enumerate(pairs):
+            if (not isinstance(pair, list) or len(pair) != 3 or not isinstance(pair[0], str)
+                    or not isinstance(pair[1], str) or not _is_number(pair[2])):
+                c.add(f"correlation.pairs[{i}]", pair,
+                      '[name, name, rank correlation], e.g. ["ucs", "friction_angle", 0.5]')
+            else:
+                corr.append((pair[0], pair[1], float(pair[2])))
+
+    # ---- cross checks on the physics (central values) -------------------------------------
+    if not c.problems and depth is not None:
+        _physics_checks(c, inputs, stress_given, depth * conv["length"], stages, disp, units)
+    if c.problems:
+        raise ScenarioError(c.problems, source_name)
+
+    assert depth is not None and inc is not None and max_dd is not None and risk_ is not None
+    well = Well(
+        depth=depth * conv["length"], inclination=inc * conv["angle"],
+        azimuth=(azi or 0.0) * conv["angle"], completion=str(completion), shot_angles=shots,
+        tunnel_diameter=None if tunnel_d is None else tunnel_d * conv["small_length"],
+        hole_diameter=None if hole_d is None else hole_d * conv["small_length"],
+    )
+    scenario = Scenario(
+        title=title or Path(source_name).stem, units=units, well=well, inputs=inputs,
+        stress_given=stress_given, reservoir_pressure=stages,
+        max_drawdown=max_dd * conv["pressure"], accepted_risk=risk_,
+        criterion=str(criterion), samples=int(samples) if samples is not None else 20_000,
+        seed=int(seed) if seed is not None else 1, sampling=str(sampling),
+        correlation=tuple(corr), source_name=source_name, sha256=sha256, raw=dict(doc),
+    )
+    if corr:
+        from risk.uncertainty import build_joint  # validates names, range and definiteness
+
+        names = list(scenario.inputs)
+        try:
+            build_joint(names, [scenario.inputs[n] for n in names], [list(p) for p in corr])
+        except ScenarioError as err:
+            raise ScenarioError(err.problems, source_name) from None
+    return scenario
+
+
+def _physics_checks(c: _Collector, inputs: Mapping[str, Marginal], given: Mapping[str, str],
+                    depth: float, stages: tuple[float, ...], disp: Mapping[str, str],
+                    units: str) -> None:
+    """Checks that need several inputs together, on their medians (fixed values)."""
+    conv = TO_INTERNAL[units]
+
+    def central(name: str) -> tuple[str, float] | None:
+        key = name if given.get(name) == "absolute" else f"{name}_gradient"
+        m = inputs.get(key)
+        if m is None:
+            return None
+        v = m.median if not m.is_fixed else m.value
+        return key, (v if key == name else v * depth)
+
+    sv, pp = central("sv"), central("pp")
+    sh, sH = central("shmin"), central("shmax")
+
+    def show(v: float) -> str:
+        return f"{v / conv['pressure']:.6g} {disp['pressure']} at the interval depth"
+
+    if sv and pp and pp[1] >= sv[1]:
+        c.add(f"stress.{pp[0]}", show(pp[1]),
+              f"an initial pore pressure below the overburden stress ({show(sv[1])})",
+              found_text=show(pp[1]))
+    if sh and sH and sh[1] > sH[1] * (1 + 1e-12):
+        c.add(f"stress.{sh[0]}", show(sh[1]),
+              f"Shmin <= SHmax ({show(sH[1])}); swap them or check the azimuth",
+              found_text=show(sh[1]))
+    if sh and pp and sh[1] <= pp[1]:
+        c.add(f"stress.{sh[0]}", show(sh[1]),
+              f"Shmin above the initial pore pressure ({show(pp[1])}); otherwise the rock "
+              "would be fracturing", found_text=show(sh[1]))
+    if sv:
+        for i, s in enumerate(stages):
+            if s >= sv[1]:
+                c.add(f"production.reservoir_pressure[{i}]", show(s),
+                      f"a reservoir pressure below the overburden stress ({show(sv[1])})",
+                      found_text=show(s))
+
+
+def load_scenario(path: str | Path) -> Scenario:
+    """Read and validate a scenario file.
+
+    Raises
+    ------
+    ScenarioError
+        For a missing or unreadable file, a folder, a file that is not UTF-8 TOML (with line
+        and column), and every problem :func:`parse_scenario` finds.
+    """
+    p = Path(path)
+    name = str(path)
+    if not p.exists():
+        raise ScenarioError.single("scenario", name, "an existing scenario file (.toml)",
+                                   found_text=f"no file at {name!r}")
+    if p.is_dir():
+        raise ScenarioError.single("scenario", name, "a scenario file, not a folder",
+                                   found_text=f"the folder {name!r}")
+    try:
+        data = p.read_bytes()
+    except OSError as exc:
+        raise ScenarioError.single("scenario", name, "a readable file",
+                                   found_text=f"{name!r} ({exc.strerror})") from None
+    if not data.strip():
+        raise ScenarioError.single("scenario", name, "a TOML scenario (see `risk new`)",
+                                   found_text="an empty file")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise ScenarioError.single("scenario", name, "a UTF-8 text file in TOML",
+                                   found_text=f"binary or non-UTF-8 content (byte "
+                                   f"{exc.start})") from None
+    if "\x00" in text:
+        raise ScenarioError.single("scenario", name, "a UTF-8 text file in TOML",
+                                   found_text="binary content (NUL bytes)")
+    try:
+        doc = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ScenarioError.single("scenario", name, "valid TOML",
+                                   found_text=f"a syntax error: {exc}") from None
+    sha = hashlib.sha256(data).hexdigest()
+    return parse_scenario(doc, source_name=name, sha256=sha)
