@@ -130,13 +130,18 @@ class _Counter:
         return out
 
 
-def _value_and_gradient(gc: _Counter, u: FloatArray, step: float) -> tuple[float, FloatArray]:
-    """g(u) and its central-difference gradient, in one vectorised call (2 d + 1 rows)."""
+def _value_and_gradient(gc: _Counter, u: FloatArray, step: float,
+                        g_known: float | None = None) -> tuple[float, FloatArray]:
+    """g(u) and its central-difference gradient in one vectorised call (2 d + 1 rows, or 2 d
+    when ``g(u)`` is already known)."""
     d = u.size
     pts = np.repeat(u[None, :], 2 * d + 1, axis=0)
     pts[1:d + 1] += step * np.eye(d)
     pts[d + 1:] -= step * np.eye(d)
-    vals = gc(pts)
+    if g_known is None:
+        vals = gc(pts)
+    else:
+        vals = np.concatenate([[g_known], gc(pts[1:])])
     return float(vals[0]), (vals[1:d + 1] - vals[d + 1:]) / (2.0 * step)
 
 
@@ -214,7 +219,7 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
             message = "line search failed (g may be discontinuous or noisy)"
             break
         u = trial
-        gu, grad = _value_and_gradient(gc, u, step)
+        gu, grad = _value_and_gradient(gc, u, step, g_trial)
     gnorm = float(np.linalg.norm(grad))
     alpha = -grad / gnorm if gnorm > 0 and np.isfinite(grad).all() else np.full(d, np.nan)
     beta = float(alpha @ u)

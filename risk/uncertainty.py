@@ -628,7 +628,7 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
         if below > OUTSIDE_TOLERANCE:
             parts.append(f"{below:.2g} below the physical range")
         if above > OUTSIDE_TOLERANCE:
-            parts.append(f"{above:.2g} above it")
+            parts.append(f"{above:.2g} above " + ("it" if parts else "the physical range"))
         raise ScenarioError.single(
             key, raw,
             f"a distribution with at most {OUTSIDE_TOLERANCE:g} probability outside the "

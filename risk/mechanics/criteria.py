@@ -54,7 +54,10 @@ class StrengthParameters(NamedTuple):
 
 
 def cohesion(*, ucs: ArrayLike, friction_angle: ArrayLike) -> Array:
-    """Cohesion c = UCS (1 - sin phi) / (2 cos phi) [MPa] (Jaeger, Cook & Zimmerman 2007, eq. 4.11)."""
+    """Cohesion c = UCS (1 - sin phi) / (2 cos phi) [MPa].
+
+    Jaeger, Cook & Zimmerman (2007) *Fundamentals of Rock Mechanics*, eq. 4.11.
+    """
     phi = np.asarray(friction_angle, dtype=float)
     return np.asarray(ucs, dtype=float) * (1.0 - np.sin(phi)) / (2.0 * np.cos(phi))
 

@@ -33,7 +33,8 @@ Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with n
 
 from __future__ import annotations
 
-from typing import Any, NamedTuple
+from collections.abc import Callable
+from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -223,7 +224,7 @@ def _take(arrays: tuple[Array, ...], idx: NDArray[np.intp]) -> tuple[Array, ...]
 class _Solver:
     """Vectorised maximum over the wall angle and root in wall pressure for one criterion."""
 
-    def __init__(self, excess: object, n_theta: int) -> None:
+    def __init__(self, excess: Callable[..., Array], n_theta: int) -> None:
         self.excess = excess
         self.grid = np.arange(n_theta) * (np.pi / n_theta)
         self.step = np.pi / n_theta
@@ -232,7 +233,7 @@ class _Solver:
         a_t, a_z, tau = _coefficients(theta, case[:8])
         ba = case[8]
         s1, s2, s3 = _principal(a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p, tau)
-        return self.excess(s1, s2, s3, StrengthParameters(*case[9:]))  # type: ignore[operator]
+        return self.excess(s1, s2, s3, StrengthParameters(*case[9:]))
 
     def tension(self, theta: Array, p: Array, *case: Array) -> Array:
         a_t, a_z, tau = _coefficients(theta, case[:8])
@@ -240,10 +241,9 @@ class _Solver:
         _, _, s3 = _principal(a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p, tau)
         return tensile_cutoff(s3, case[-1])
 
-    def max_over_theta(self, fun: object, p: Array, case: tuple[Array, ...]
+    def max_over_theta(self, f: Callable[..., Array], p: Array, case: tuple[Array, ...]
                        ) -> tuple[Array, Array]:
-        """max over t of fun(t, p, *case), grid bracket refined to the floating-point limit."""
-        f = fun  # type: Any
+        """max over t of f(t, p, *case), grid bracket refined to the floating-point limit."""
         n = p.size
         if n == 0:
             return np.zeros(0), np.zeros(0)

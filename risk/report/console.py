@@ -37,8 +37,8 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
         t.add_row("shot angles", ", ".join(f"{math.degrees(a):.4g}" for a in w.shot_angles)
                   + " deg from the high side")
         if w.tunnel_diameter:
-            t.add_row("tunnel diameter", f"{w.tunnel_diameter / TO_INTERNAL[sc.units]['small_length']:.4g} "
-                      f"{disp['small_length']}")
+            d = w.tunnel_diameter / TO_INTERNAL[sc.units]["small_length"]
+            t.add_row("tunnel diameter", f"{d:.4g} {disp['small_length']}")
     con.print(t)
     t = Table("input", "distribution", "meaning", "source", show_edge=False)
     for name, m in sc.inputs.items():

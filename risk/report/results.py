@@ -122,5 +122,5 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "max_drawdown": _pressure(a, sc.max_drawdown),
         "uncertain_inputs": list(a.uncertain),
         "mechanisms": mechanisms,
-        "provenance": {k: v for k, v in a.provenance.items()},
+        "provenance": dict(a.provenance),
     }

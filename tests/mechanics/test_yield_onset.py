@@ -1,0 +1,247 @@
+"""Yield onset: the critical flowing wall pressure of an open hole or a perforation tunnel.
+
+Checks against things outside the solver:
+- the closed form p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A) for a vertical well under
+  Mohr-Coulomb with the hoop stress as the major principal stress (MECHANICS.md sec. 4.1, from
+  the Kirsch solution with the inflow term of Willson et al. 2002, SPE 78168; Bellarby 2009);
+- an independent brute force for deviated wells and tunnels and every criterion: principal
+  stresses by numpy.linalg.eigvalsh of the full wall stress tensor, the worst angle by a dense
+  scan refined with scipy.optimize.minimize_scalar, the wall pressure by scipy.optimize.brentq
+  on that maximum (derived; a different algorithm from the solver's envelope iteration);
+- invariances: rotating stresses and well together, opposite shots, field <-> SI elsewhere.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as hs
+from scipy.optimize import brentq, minimize_scalar
+
+from risk.mechanics import stresses as st
+from risk.mechanics.criteria import CRITERIA, StrengthParameters, tensile_cutoff
+from risk.mechanics.yield_onset import critical_drawdown, critical_wall_pressure
+
+
+def _case(shmax, shmin, sv, az_h, inc, az, shot=None):
+    s = st.far_field_tensor(shmax=shmax, shmin=shmin, sv=sv, shmax_azimuth=az_h)
+    if shot is None:
+        frame = st.cavity_frame(inc, az)
+    else:
+        frame = st.tunnel_frame(well_inclination=inc, well_azimuth=az, shot_angle=shot)
+    return st.local_stress(s, frame)
+
+
+def _brute(local, *, p_r, A, nu, strength, t0, criterion):
+    """Independent reference: eigvalsh of the wall tensor, scan + Brent in angle, brentq in p."""
+    fn = CRITERIA[criterion]
+
+    def principal(theta, p):
+        w = st.wall_stresses(local, theta=theta, wall_pressure=p, reservoir_pressure=p_r,
+                             poro_coefficient=A, poisson_ratio=nu)
+        th = np.atleast_1d(w.hoop - p)
+        z = np.atleast_1d(w.axial - p)
+        tau = np.broadcast_to(w.shear_hoop_axial, th.shape)
+        m = np.zeros(th.shape + (3, 3))
+        m[..., 1, 1], m[..., 2, 2] = th, z
+        m[..., 1, 2] = m[..., 2, 1] = tau
+        ev = np.linalg.eigvalsh(m)
+        return ev[..., 2], ev[..., 1], ev[..., 0]
+
+    def f_shear(theta, p):
+        s1, s2, s3 = principal(theta, p)
+        return fn(s1, s2, s3, strength)
+
+    def g(p, f):
+        grid = np.linspace(0.0, np.pi, 3601)
+        vals = f(grid, p)
+        k = int(np.argmax(vals))
+        h = grid[1]
+        r = minimize_scalar(lambda t: -f(np.array([t]), p)[0], bounds=(grid[k] - h, grid[k] + h),
+                            method="bounded", options={"xatol": 1e-13})
+        return max(vals[k], -r.fun)
+
+    def f_t(theta, p):
+        return tensile_cutoff(principal(theta, p)[2], t0)
+
+    if g(p_r, f_shear) >= 0 or g(p_r, f_t) >= 0:
+        return p_r
+    if g(0.0, f_shear) < 0:
+        return -np.inf
+    return brentq(lambda p: g(p, f_shear), 0.0, p_r, xtol=1e-13, rtol=1e-14)
+
+
+def _solve(local, *, p_r, A, nu, strength, t0, criterion):
+    return float(critical_wall_pressure(local, reservoir_pressure=p_r, poro_coefficient=A,
+                                        poisson_ratio=nu, strength=strength,
+                                        tensile_strength=t0, criterion=criterion).wall_pressure)
+
+
+def test_vertical_well_closed_form():
+    # MECHANICS.md sec. 4.1: p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A), vertical well, MC,
+    # hoop stress the major principal stress at failure (Sv chosen low enough for that).
+    rng = np.random.default_rng(11)
+    for _ in range(30):
+        sh_min = rng.uniform(30, 50)
+        sh_max = sh_min + rng.uniform(0, 15)
+        p_r = rng.uniform(15, sh_min - 5)
+        nu = rng.uniform(0.15, 0.35)
+        A = float(st.poroelastic_coefficient(biot=rng.uniform(0.6, 1.0), poisson_ratio=nu))
+        closed = 0.5 * p_r  # aim for a critical pressure inside (0, p_r)
+        ucs = 3 * sh_max - sh_min - A * p_r - (2 - A) * closed
+        sv = sh_min  # keeps the axial effective stress below the hoop one
+        loc = _case(sh_max, sh_min, sv, 0.7, 0.0, 0.0)
+        p = _solve(loc, p_r=p_r, A=A, nu=nu, strength=StrengthParameters(ucs, 0.5), t0=np.inf,
+                   criterion="mohr-coulomb")
+        assert p == pytest.approx((3 * sh_max - sh_min - ucs - A * p_r) / (2 - A), abs=1e-9)
+
+
+def test_worst_angle_vertical_well_is_shmin_azimuth():
+    # Kirsch: the largest hoop stress is at 90 degrees from SHmax (Zoback 2007, sec. 6.1)
+    loc = _case(60.0, 45.0, 45.0, np.radians(40.0), 0.0, 0.0)
+    r = critical_wall_pressure(loc, reservoir_pressure=30.0, poro_coefficient=0.5,
+                               poisson_ratio=0.25, strength=StrengthParameters(80.0, 0.5),
+                               tensile_strength=np.inf)
+    assert float(r.theta) == pytest.approx(np.radians(130.0), abs=1e-7)
+
+
+CASES = [
+    # shmax, shmin, sv, SH azimuth, inclination, azimuth, shot (deg) or None
+    (62.0, 48.0, 70.0, 30.0, 35.0, 120.0, None),
+    (62.0, 48.0, 70.0, 30.0, 35.0, 120.0, 60.0),
+    (55.0, 40.0, 66.0, 100.0, 80.0, 10.0, 0.0),
+    (70.0, 50.0, 60.0, -20.0, 60.0, 250.0, 135.0),
+    (58.0, 52.0, 72.0, 10.0, 0.0, 0.0, 45.0),
+    (66.0, 45.0, 70.0, 75.0, 90.0, 75.0, None),
+]
+
+
+@pytest.mark.parametrize("criterion", sorted(CRITERIA))
+@pytest.mark.parametrize("case", CASES)
+def test_against_brute_force(criterion, case):
+    shmax, shmin, sv, azh, inc, az, shot = case
+    loc = _case(shmax, shmin, sv, np.radians(azh), np.radians(inc), np.radians(az),
+                None if shot is None else np.radians(shot))
+    nu, A, p_r = 0.25, 0.55, 30.0
+    strength = StrengthParameters(55.0, np.radians(32.0), 14.0, 1.0, 0.5)
+    # scan UCS so that the answer lies inside (0, p_r) for some and at the ends for others
+    for ucs in (20.0, 45.0, 60.0, 75.0, 120.0):
+        s = strength._replace(ucs=ucs)
+        ref = _brute(loc, p_r=p_r, A=A, nu=nu, strength=s, t0=3.0, criterion=criterion)
+        got = _solve(loc, p_r=p_r, A=A, nu=nu, strength=s, t0=3.0, criterion=criterion)
+        if np.isinf(ref):
+            assert got == ref
+        else:
+            assert got == pytest.approx(ref, abs=1e-7), (ucs, ref, got)
+
+
+def test_vectorised_equals_scalar_and_shapes():
+    rng = np.random.default_rng(3)
+    ucs = rng.uniform(40, 90, (5, 1, 1))
+    loc = _case(62.0, 48.0, 70.0, 0.5, 0.6, 2.0, np.radians(np.arange(0, 360, 60)))  # (6,)
+    p_r = np.array([30.0, 25.0, 20.0])[None, None, :]
+    kw = dict(poro_coefficient=0.5, poisson_ratio=0.25, tensile_strength=2.0)
+    loc3 = st.LocalStress(*(np.asarray(c)[None, :, None] for c in loc))
+    r = critical_wall_pressure(loc3, reservoir_pressure=p_r,
+                               strength=StrengthParameters(ucs, 0.55), **kw)
+    assert r.wall_pressure.shape == (5, 6, 3)
+    for i, j, k in [(0, 0, 0), (4, 5, 2), (2, 3, 1)]:
+        one = critical_wall_pressure(
+            st.LocalStress(*(np.asarray(c)[j] for c in loc)), reservoir_pressure=p_r[0, 0, k],
+            strength=StrengthParameters(ucs[i, 0, 0], 0.55), **kw)
+        assert float(one.wall_pressure) == r.wall_pressure[i, j, k]
+
+
+def test_opposite_shots_are_identical():
+    # derived: tunnels at w and w + 180 degrees are the same line
+    loc = _case(62.0, 48.0, 70.0, 0.4, 0.7, 1.9, np.radians([25.0, 205.0]))
+    r = critical_wall_pressure(loc, reservoir_pressure=30.0, poro_coefficient=0.5,
+                               poisson_ratio=0.25, strength=StrengthParameters(70.0, 0.5),
+                               tensile_strength=2.0)
+    assert r.wall_pressure[0] == pytest.approx(r.wall_pressure[1], abs=1e-9)
+
+
+def test_rotation_invariance():
+    # derived: turning the stress field and the well together by the same azimuth changes
+    # nothing
+    kw = dict(reservoir_pressure=30.0, poro_coefficient=0.5, poisson_ratio=0.25,
+              strength=StrengthParameters(65.0, 0.5), tensile_strength=2.0)
+    base = critical_wall_pressure(_case(62.0, 48.0, 70.0, 0.3, 0.6, 1.2, 0.8), **kw)
+    for turn in (0.7, 2.0, -1.3):
+        r = critical_wall_pressure(_case(62.0, 48.0, 70.0, 0.3 + turn, 0.6, 1.2 + turn, 0.8),
+                                   **kw)
+        assert float(r.wall_pressure) == pytest.approx(float(base.wall_pressure), abs=1e-9)
+
+
+def test_explicit_outcomes_never_and_zero():
+    loc = _case(62.0, 48.0, 70.0, 0.3, 0.0, 0.0)
+    kw = dict(reservoir_pressure=30.0, poro_coefficient=0.5, poisson_ratio=0.25,
+              tensile_strength=np.inf)
+    strong = critical_wall_pressure(loc, strength=StrengthParameters(400.0, 0.5), **kw)
+    weak = critical_wall_pressure(loc, strength=StrengthParameters(5.0, 0.5), **kw)
+    assert np.isneginf(strong.wall_pressure) and np.isnan(strong.theta)
+    assert float(weak.wall_pressure) == 30.0
+    dc = critical_drawdown([strong.wall_pressure, weak.wall_pressure], 30.0)
+    assert np.isposinf(dc[0]) and dc[1] == 0.0
+
+
+def test_tensile_cutoff_at_zero_drawdown():
+    # a strongly anisotropic stress puts the wall in tension at SHmax azimuth: 3Sh - SH - p_w
+    # = 3*30 - 90 - 20 = -20 MPa total, effective -20 - 20... so any T0 below fails at once
+    loc = _case(90.0, 30.0, 40.0, 0.0, 0.0, 0.0)
+    kw = dict(reservoir_pressure=20.0, poro_coefficient=0.0, poisson_ratio=0.25,
+              strength=StrengthParameters(1000.0, 0.5))
+    assert float(critical_wall_pressure(loc, tensile_strength=5.0, **kw).wall_pressure) == 20.0
+    assert np.isneginf(critical_wall_pressure(loc, tensile_strength=np.inf, **kw).wall_pressure)
+
+
+def test_unknown_criterion():
+    with pytest.raises(ValueError, match="unknown criterion"):
+        critical_wall_pressure(_case(60., 50., 70., 0., 0., 0.), reservoir_pressure=30.,
+                               poro_coefficient=.5, poisson_ratio=.25,
+                               strength=StrengthParameters(50., .5), tensile_strength=1.,
+                               criterion="griffith")
+
+
+@settings(max_examples=40, deadline=None)
+@given(ucs=hs.floats(10, 150), extra=hs.floats(0.1, 50), inc=hs.floats(0, 90),
+       shot=hs.floats(0, 360), crit=hs.sampled_from(sorted(CRITERIA)))
+def test_critical_drawdown_never_decreases_with_ucs(ucs, extra, inc, shot, crit):
+    loc = _case(62.0, 48.0, 70.0, 0.3, np.radians(inc), 1.0, np.radians(shot))
+    kw = dict(reservoir_pressure=30.0, poro_coefficient=0.5, poisson_ratio=0.25,
+              tensile_strength=3.0, criterion=crit)
+    lo = critical_wall_pressure(loc, strength=StrengthParameters(ucs, 0.55, 12.0), **kw)
+    hi = critical_wall_pressure(loc, strength=StrengthParameters(ucs + extra, 0.55, 12.0), **kw)
+    assert critical_drawdown(hi.wall_pressure, 30.0) >= critical_drawdown(lo.wall_pressure,
+                                                                          30.0) - 1e-9
+
+
+@settings(max_examples=30, deadline=None)
+@given(ucs=hs.floats(20, 120), inc=hs.floats(0, 90), frac=hs.floats(0, 1),
+       crit=hs.sampled_from(sorted(CRITERIA)))
+def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
+    # the wall stays yielded for every wall pressure below p_wc, and is elastic above it
+    loc = _case(62.0, 48.0, 70.0, 0.3, np.radians(inc), 1.0)
+    p_r, nu, A = 30.0, 0.25, 0.5
+    s = StrengthParameters(ucs, 0.55, 12.0)
+    r = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=A, poisson_ratio=nu,
+                               strength=s, tensile_strength=np.inf, criterion=crit)
+    pwc = float(r.wall_pressure)
+    grid = np.linspace(0, np.pi, 2001)
+
+    def worst(p):
+        w = st.wall_stresses(loc, theta=grid, wall_pressure=p, reservoir_pressure=p_r,
+                             poro_coefficient=A, poisson_ratio=nu)
+        m = np.zeros(grid.shape + (3, 3))
+        m[:, 1, 1], m[:, 2, 2] = w.hoop - p, w.axial - p
+        m[:, 1, 2] = m[:, 2, 1] = w.shear_hoop_axial
+        ev = np.linalg.eigvalsh(m)
+        return CRITERIA[crit](ev[:, 2], ev[:, 1], ev[:, 0], s).max()
+
+    if np.isfinite(pwc):
+        below = frac * pwc
+        assert worst(below) >= -1e-6
+    if pwc < p_r:
+        above = max(pwc, 0.0) + frac * (p_r - max(pwc, 0.0)) + 1e-6
+        assert worst(min(above, p_r)) <= 1e-6

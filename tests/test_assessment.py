@@ -1,0 +1,95 @@
+"""The orchestrator end to end on small scenarios."""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from risk import probability
+from risk.assessment import assess
+from risk.conventions import PSI_TO_MPA
+from risk.mechanics import stresses as st
+from risk.scenario import load_scenario
+
+OPENHOLE_SI = """
+title = "vertical open hole, only UCS uncertain"
+units = "si"
+[well]
+depth = 2500
+inclination = 0
+azimuth = 0
+completion = "openhole"
+[stress]
+sv = 45
+shmax = 48
+shmin = 40
+shmax_azimuth = 20
+pp = 25
+depletion_path = 0.5
+[rock]
+ucs = { dist = "normal", mean = 70, sd = 6 }
+friction_angle = 30
+tensile_strength = 3
+poisson_ratio = 0.25
+biot = 0.8
+[production]
+reservoir_pressure = [25, 20]
+max_drawdown = 20
+accepted_risk = 0.1
+[analysis]
+samples = 4096
+seed = 5
+"""
+
+
+def test_field_and_si_give_the_same_answer(write, field_doc):
+    # The same physical scenario written in both unit systems (NIST SP 811 factors).
+    field = load_scenario(write(field_doc, "f.toml"))
+    psi_ft = 6.894757293168 / 0.3048  # kPa/m per psi/ft
+    si_doc = (field_doc.replace('units = "field"', 'units = "si"')
+              .replace("depth = 9200", f"depth = {9200 * 0.3048!r}")
+              .replace("sv_gradient = 1.0", f"sv_gradient = {1.0 * psi_ft!r}")
+              .replace("shmax_gradient = 0.88", f"shmax_gradient = {0.88 * psi_ft!r}")
+              .replace("shmin_gradient = 0.74", f"shmin_gradient = {0.74 * psi_ft!r}")
+              .replace("pp_gradient = 0.45", f"pp_gradient = {0.45 * psi_ft!r}")
+              .replace("ucs = 9000", f"ucs = {9000 * PSI_TO_MPA!r}")
+              .replace("tensile_strength = 800", f"tensile_strength = {800 * PSI_TO_MPA!r}")
+              .replace("[4140, 3800, 3400]",
+                       "[" + ", ".join(repr(v * PSI_TO_MPA) for v in (4140, 3800, 3400)) + "]")
+              .replace("max_drawdown = 2500", f"max_drawdown = {2500 * PSI_TO_MPA!r}")
+              .replace("tunnel_diameter = 0.5", "tunnel_diameter = 12.7"))
+    si = load_scenario(write(si_doc, "s.toml"))
+    a, b = assess(field), assess(si)
+    assert a.deterministic and a.samples == 1
+    np.testing.assert_allclose(a.mechanisms["yield_onset"].by_direction,
+                               b.mechanisms["yield_onset"].by_direction, rtol=1e-9, atol=1e-9)
+
+
+def test_same_seed_identical_other_seed_differs(write):
+    sc = load_scenario(write(OPENHOLE_SI))
+    a = assess(sc, samples=512)
+    b = assess(sc, samples=512)
+    c = assess(sc, samples=512, seed=6)
+    assert np.array_equal(a.mechanisms["yield_onset"].well, b.mechanisms["yield_onset"].well)
+    assert not np.array_equal(a.inputs["ucs"], c.inputs["ucs"])
+
+
+def test_openhole_ucs_normal_gives_normal_critical_drawdown(write):
+    # With only UCS ~ N(70, 6) the closed form (MECHANICS.md 4.1, vertical well, Mohr-Coulomb)
+    # makes D_c = p_r - (3 SH - Sh - UCS - A p_r)/(2 - A) normal with sd 6/(2 - A): the whole
+    # failure curve is known. Tolerance: the 99.9% simultaneous band of the empirical CDF
+    # (Dvoretzky-Kiefer-Wolfowitz inequality, Massart 1990): eps = sqrt(ln(2/0.001)/(2n)).
+    sc = load_scenario(write(OPENHOLE_SI))
+    a = assess(sc)
+    A = float(st.poroelastic_coefficient(biot=0.8, poisson_ratio=0.25))
+    for k, p_r in enumerate((25.0, 20.0)):
+        sh_max = 48 - 0.5 * (25 - p_r)
+        sh_min = 40 - 0.5 * (25 - p_r)
+        mean = p_r - (3 * sh_max - sh_min - 70 - A * p_r) / (2 - A)
+        sd = 6 / (2 - A)
+        dc = a.mechanisms["yield_onset"].well[:, k]
+        grid = np.linspace(0.0, p_r, 41)
+        p, _, _ = probability.failure_curve(dc, grid)
+        exact = stats.norm.cdf(grid, mean, sd)
+        eps = np.sqrt(np.log(2 / 0.001) / (2 * dc.size))
+        assert np.max(np.abs(p - exact)) < eps

@@ -1,0 +1,82 @@
+"""The command line: exit codes, messages without tracebacks, results.json, reruns."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from risk.cli import app
+
+RUNNER = CliRunner()
+EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
+
+
+def test_check_ok():
+    r = RUNNER.invoke(app, ["check", str(EXAMPLE)])
+    assert r.exit_code == 0, r.output
+    assert "rock.ucs" in r.output and "psi" in r.output
+
+
+def test_run_writes_results(tmp_path, write, field_doc):
+    out = tmp_path / "out"
+    r = RUNNER.invoke(app, ["run", str(write(field_doc)), "--out", str(out)])
+    assert r.exit_code == 0, r.output
+    data = json.loads((out / "results.json").read_text())
+    assert data["units"]["pressure"] == "psi" and data["seed"] == 1
+    stage = data["mechanisms"]["yield_onset"]["stages"][0]
+    assert stage["reservoir_pressure"] == 4140
+    assert set(stage["critical_drawdown"]) == {"p10", "p50", "p90", "mean"}
+    assert len(stage["shots"]) == 6 and "worst_shot_angle" in stage
+    assert "never_fraction" in stage
+
+
+def test_rerun_is_byte_identical(tmp_path):
+    outs = []
+    for name in ("a", "b"):
+        r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(tmp_path / name),
+                                "--samples", "600", "--quiet"])
+        assert r.exit_code == 0, r.output
+        outs.append((tmp_path / name / "results.json").read_bytes())
+    assert outs[0] == outs[1]
+    assert json.loads(outs[0])["samples"] == 600
+
+
+@pytest.mark.parametrize("args,fragment", [
+    (["check", "missing.toml"], "no file"),
+    (["run", "missing.toml"], "no file"),
+    (["run", str(EXAMPLE), "--samples", "0"], "--samples"),
+])
+def test_bad_input_exit_2_no_traceback(args, fragment):
+    r = RUNNER.invoke(app, args)
+    assert r.exit_code == 2
+    assert fragment in r.output
+    assert "Traceback" not in r.output
+
+
+def test_bad_scenario_subprocess_exit_2(write, field_doc):
+    # the installed console script, as an engineer runs it
+    bad = write(field_doc.replace("ucs = 9000", "ucs = -9000"))
+    exe = Path(sys.executable).parent / "risk"
+    proc = subprocess.run([str(exe), "check", str(bad)], capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert "rock.ucs" in proc.stderr and "-9000" in proc.stderr
+    assert "Traceback" not in proc.stderr + proc.stdout
+
+
+def test_out_is_a_file(tmp_path):
+    f = tmp_path / "file.txt"
+    f.write_text("x")
+    r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(f), "--samples", "8"])
+    assert r.exit_code == 2 and "--out" in r.output
+
+
+def test_json_flag(tmp_path):
+    r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(tmp_path), "--samples", "64",
+                            "--json"])
+    assert r.exit_code == 0
+    assert json.loads(r.stdout)["samples"] == 64
