@@ -17,8 +17,10 @@ from typing import Final
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy.optimize import elementwise
 
 from risk import __version__
+from risk.mechanics import compaction, sanding
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
 from risk.mechanics.yield_onset import critical_wall_pressure
@@ -33,7 +35,11 @@ __all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "MECHANISMS", 
 #: Mechanisms by result key, with the human name used in tables and the memo.
 MECHANISMS: Final[dict[str, str]] = {
     "yield_onset": "Yield onset at the wall",
+    "effective_strength_onset": "Effective-strength sanding onset (TWC)",
+    "tunnel_collapse": "Tunnel collapse (critical plastic strain)",
+    "pore_collapse": "Pore collapse under depletion",
 }
+DEFAULT_TWC_FACTOR: Final = 3.1  # Willson et al. (2002), SPE 78168, as quoted by Bellarby (2009)
 
 CHUNK: Final = 4096  # samples per evaluation chunk (a power of two keeps Sobol' balanced)
 
@@ -57,6 +63,19 @@ class MechanismResult:
 
 
 @dataclass(frozen=True)
+class CompactionResult:
+    """Critical reservoir pressure [MPa] of pore collapse per sample: compaction starts when the
+    reservoir is depleted to or below it. ``-inf``: never above zero pressure.
+
+    far_field : (n,) far-field mean effective stress reaches P*
+    wall : (n,) largest mean effective stress at any cavity wall (zero drawdown) reaches P*
+    """
+
+    far_field: Array
+    wall: Array
+
+
+@dataclass(frozen=True)
 class Assessment:
     """Everything one run produced (internal units)."""
 
@@ -71,6 +90,7 @@ class Assessment:
     uncertain: tuple[str, ...]
     xi: Array  # independent standard normals behind the samples (n, d)
     mechanisms: Mapping[str, MechanismResult]
+    compaction: CompactionResult | None = None
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -143,7 +163,69 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Mechani
         tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
     )
     dc = p_r - onset.wall_pressure
-    return {"yield_onset": MechanismResult("yield_onset", dc, onset.theta)}
+    out: dict[str, MechanismResult] = {
+        "yield_onset": MechanismResult("yield_onset", dc, onset.theta)}
+    if "twc" in cols or "twc_ratio" in cols:
+        twc = (np.asarray(cols["twc"]) if "twc" in cols
+               else np.asarray(cols["twc_ratio"]) * np.asarray(cols["ucs"]))
+        factor = np.asarray(cols.get("twc_factor", np.full(n, DEFAULT_TWC_FACTOR)))
+        u = per_sample(sanding.effective_strength(twc=twc, factor=factor))
+        if scenario.effective_strength_cavity == "tip":
+            mean_total = (local.sxx + local.syy + local.szz) / 3.0
+            pw = sanding.tip_onset_wall_pressure(sigma=mean_total, strength=u,
+                                                 reservoir_pressure=p_r,
+                                                 poro_coefficient=per_sample(big_a))
+        else:
+            s1, s3 = st.in_plane_principal(local)
+            pw = sanding.cylinder_onset_wall_pressure(sigma_1=s1, sigma_3=s3, strength=u,
+                                                      reservoir_pressure=p_r,
+                                                      poro_coefficient=per_sample(big_a))
+        dc_es = sanding.classify_wall_pressure(pw, p_r)
+        out["effective_strength_onset"] = MechanismResult(
+            "effective_strength_onset", dc_es, np.full(dc_es.shape, np.nan))
+    return out
+
+
+def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> CompactionResult:
+    """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa]."""
+    phys = physical_inputs(cols, scenario)
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
+            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    p_star = np.asarray(cols["pore_collapse_pressure"], dtype=float)
+    far = compaction.far_field_collapse_pressure(
+        sv=phys["sv"], shmax0=phys["shmax"], shmin0=phys["shmin"], p0=phys["pp"], path=path,
+        collapse_pressure=p_star)
+    far = np.where(far < 0.0, -np.inf, far)
+    frames = _frames(scenario)
+
+    def wall_excess(p_r: Array, *args: Array) -> Array:
+        sv, sh_max0, sh_min0, p0, g, az, nu_, pstar = args
+        big = st.depleted_stress(initial=sh_max0, initial_pore_pressure=p0,
+                                 reservoir_pressure=p_r, path=g)
+        small = st.depleted_stress(initial=sh_min0, initial_pore_pressure=p0,
+                                   reservoir_pressure=p_r, path=g)
+        t = st.far_field_tensor(shmax=big, shmin=small, sv=sv, shmax_azimuth=az)
+        loc = st.local_stress(t[..., None, :, :], frames)
+        m = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
+                                           poisson_ratio=nu_[..., None])
+        return np.asarray(m.max(axis=-1) - pstar)
+
+    args = (phys["sv"], phys["shmax"], phys["shmin"], phys["pp"], path,
+            np.asarray(cols["shmax_azimuth"], dtype=float), nu, p_star)
+    hi = phys["pp"]
+    f_hi = wall_excess(hi, *args)
+    f_lo = wall_excess(np.zeros_like(hi), *args)
+    wall = np.where(f_hi >= 0.0, hi, -np.inf)
+    solve = (f_hi < 0.0) & (f_lo >= 0.0)
+    if np.any(solve):
+        idx = np.nonzero(solve)[0]
+        res = elementwise.find_root(
+            wall_excess, (np.zeros(idx.size), hi[idx]), args=tuple(a[idx] for a in args),
+            tolerances={"xatol": 1e-12, "xrtol": 4 * np.finfo(float).eps})
+        wall[idx] = res.x
+    return CompactionResult(np.asarray(far, dtype=float), wall)
 
 
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
@@ -176,6 +258,9 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     theta_blocks: dict[str, list[Array]] = {}
     col_blocks: dict[str, list[Array]] = {k: [] for k in names}
     xi_blocks: list[Array] = []
+    far_blocks: list[Array] = []
+    wall_blocks: list[Array] = []
+    with_compaction = "pore_collapse_pressure" in scenario.inputs
     done = 0
     while done < n:
         m = min(CHUNK, n - done)
@@ -186,6 +271,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         for key, res in out.items():
             blocks.setdefault(key, []).append(res.by_direction)
             theta_blocks.setdefault(key, []).append(res.theta)
+        if with_compaction:
+            comp = evaluate_compaction(cols, scenario)
+            far_blocks.append(comp.far_field)
+            wall_blocks.append(comp.wall)
         for k in names:
             col_blocks[k].append(cols[k])
         xi_blocks.append(xi)
@@ -206,6 +295,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         stages=scenario.reservoir_pressure,
         inputs={k: np.concatenate(v) for k, v in col_blocks.items()},
         uncertain=tuple(joint.names), xi=np.concatenate(xi_blocks), mechanisms=mechanisms,
+        compaction=(CompactionResult(np.concatenate(far_blocks), np.concatenate(wall_blocks))
+                    if with_compaction else None),
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

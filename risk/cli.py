@@ -14,7 +14,7 @@ from typing import Annotated, Any
 import typer
 
 app = typer.Typer(
-    add_completion=False, no_args_is_help=True,
+    add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
     help="Sand-production and perforation-tunnel failure risk: drawdown limits over depletion "
          "from uncertain rock strength, stresses and pressures.",
 )
@@ -61,7 +61,7 @@ def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -
     scenario = _guard(load_scenario, file)
     from risk.report.console import print_scenario
 
-    print_scenario(scenario)
+    _guard(print_scenario, scenario)
 
 
 @app.command()
@@ -85,7 +85,7 @@ def run(
     elif not quiet:
         from risk.report.console import print_summary
 
-        print_summary(result.summary, result.out_dir)
+        _guard(print_summary, result.summary, result.out_dir)
 
 
 def main() -> None:  # pragma: no cover - console entry point

@@ -99,6 +99,22 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
     InputSpec("gsi", "rock", "dimensionless", Bounds(0.0, 100.0, lower_inclusive=False,
                                                      text="in (0, 100]"), False,
               "geological strength index (Hoek-Brown rock mass; default 100 = intact)"),
+    InputSpec("twc", "rock", "pressure", _POS, False,
+              "thick-wall cylinder collapse strength (TWC)"),
+    InputSpec("twc_ratio", "rock", "dimensionless", _POS, False,
+              "TWC/UCS ratio, when no TWC test exists"),
+    InputSpec("twc_factor", "rock", "dimensionless", _POS, False,
+              "effective-strength factor k, U = k TWC (default 3.1, Willson et al. 2002)"),
+    InputSpec("young_modulus", "rock", "pressure", _POS, False, "Young's modulus (drained)"),
+    InputSpec("dilation_angle", "rock", "angle",
+              Bounds(0.0, math.pi / 2, upper_inclusive=False, text="in [0, 90) degrees"), False,
+              "dilation angle (default 0: no plastic volume change)"),
+    InputSpec("critical_plastic_strain", "rock", "dimensionless", _POS, False,
+              "wall plastic hoop strain at tunnel collapse (calibrated)"),
+    InputSpec("pore_collapse_pressure", "rock", "pressure", _POS, False,
+              "pore-collapse pressure P* (mean effective stress, hydrostatic test)"),
+    InputSpec("drainage_radius", "production", "length", _POS, False,
+              "radius of the constant-pressure boundary of the steady inflow"),
 )
 _SPEC: Final = {s.name: s for s in INPUTS}
 
@@ -108,8 +124,9 @@ _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
              "hole_diameter"),
     "stress": tuple(s.name for s in INPUTS if s.section == "stress"),
     "rock": tuple(s.name for s in INPUTS if s.section == "rock"),
-    "production": ("reservoir_pressure", "max_drawdown", "accepted_risk"),
-    "analysis": ("criterion", "samples", "seed", "sampling"),
+    "production": ("reservoir_pressure", "max_drawdown", "accepted_risk", "operating_points",
+                   "drainage_radius"),
+    "analysis": ("criterion", "samples", "seed", "sampling", "effective_strength_cavity"),
     "correlation": ("pairs",),
 }
 
@@ -150,10 +167,12 @@ class Scenario:
     max_drawdown: float
     accepted_risk: float
     criterion: str
+    effective_strength_cavity: str
     samples: int
     seed: int
     sampling: str
     correlation: tuple[tuple[str, str, float], ...]
+    operating_points: tuple[tuple[float, float], ...] = ()
     source_name: str = ""
     sha256: str = ""
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
@@ -366,6 +385,22 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                      check=lambda v: 0 < v < 1,
                      expected="an accepted probability of failure in (0, 1), e.g. 0.1")
 
+    ops: list[tuple[float, float]] = []
+    raw_ops = pr.get("operating_points", [])
+    if not isinstance(raw_ops, list):
+        c.add("production.operating_points", raw_ops,
+              f"a list of [reservoir pressure, flowing wall pressure] pairs [{disp['pressure']}]")
+    else:
+        for i, op in enumerate(raw_ops):
+            if (isinstance(op, list) and len(op) == 2
+                    and all(_is_number(v) and math.isfinite(v) and v >= 0 for v in op)
+                    and op[1] <= op[0]):
+                ops.append((float(op[0]) * conv["pressure"], float(op[1]) * conv["pressure"]))
+            else:
+                c.add(f"production.operating_points[{i}]", op,
+                      "[reservoir pressure, flowing wall pressure] with 0 <= wall pressure <= "
+                      f"reservoir pressure [{disp['pressure']}]")
+
     # ---- analysis -----------------------------------------------------------------------------
     an = sections["analysis"]
     criterion = an.get("criterion", "mohr-coulomb")
@@ -384,9 +419,16 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         c.add("analysis.sampling", sampling, "one of " + ", ".join(SAMPLING_RULES)
               + (_did_you_mean(sampling, list(SAMPLING_RULES))
                  if isinstance(sampling, str) else ""))
+    cavity = an.get("effective_strength_cavity", "tunnel")
+    if cavity not in ("tunnel", "tip"):
+        c.add("analysis.effective_strength_cavity", cavity,
+              '"tunnel" (cylindrical tunnel or open-hole wall) or "tip" (spherical perforation '
+              "tip)")
     if criterion == "hoek-brown" and "hb_mi" not in inputs and "hb_mi" not in sections["rock"]:
         c.add("rock.hb_mi", None, "the Hoek-Brown m_i of the intact rock (needed by "
               'criterion = "hoek-brown")', found_text="nothing (the key is missing)")
+
+    _mechanism_inputs(c, sections, disp)
 
     # ---- correlation ---------------------------------------------------------------------------
     corr: list[tuple[str, str, float]] = []
@@ -419,9 +461,11 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         title=title or Path(source_name).stem, units=units, well=well, inputs=inputs,
         stress_given=stress_given, reservoir_pressure=stages,
         max_drawdown=max_dd * conv["pressure"], accepted_risk=risk_,
-        criterion=str(criterion), samples=int(samples) if samples is not None else 20_000,
+        criterion=str(criterion), effective_strength_cavity=str(cavity),
+        samples=int(samples) if samples is not None else 20_000,
         seed=int(seed) if seed is not None else 1, sampling=str(sampling),
-        correlation=tuple(corr), source_name=source_name, sha256=sha256, raw=dict(doc),
+        correlation=tuple(corr), operating_points=tuple(ops), source_name=source_name,
+        sha256=sha256, raw=dict(doc),
     )
     if corr:
         from risk.uncertainty import build_joint  # validates names, range and definiteness
@@ -432,6 +476,48 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         except ScenarioError as err:
             raise ScenarioError(err.problems, source_name) from None
     return scenario
+
+
+#: Inputs that switch a mechanism on, and the inputs it then needs.
+MECHANISM_INPUTS: Final[dict[str, tuple[tuple[str, ...], tuple[str, ...]]]] = {
+    "effective_strength_onset": (("twc", "twc_ratio"), ()),
+    "tunnel_collapse": (("critical_plastic_strain",), ("young_modulus", "drainage_radius")),
+    "pore_collapse": (("pore_collapse_pressure",), ()),
+}
+
+
+def _given(sections: Mapping[str, Mapping[str, Any]], name: str) -> bool:
+    return name in sections.get(_SPEC[name].section, {})
+
+
+def _mechanism_inputs(c: _Collector, sections: Mapping[str, Mapping[str, Any]],
+                      disp: Mapping[str, str]) -> None:
+    """A mechanism runs when its switching input is given; then its other inputs are needed."""
+    if _given(sections, "twc") and _given(sections, "twc_ratio"):
+        c.add("rock.twc", sections["rock"]["twc"], "exactly one of rock.twc and rock.twc_ratio",
+              found_text="both")
+    for _mech, (switches, needs) in MECHANISM_INPUTS.items():
+        if any(_given(sections, k) for k in switches):
+            for k in needs:
+                if not _given(sections, k):
+                    spec = _SPEC[k]
+                    c.add(f"{spec.section}.{k}", None,
+                          f"the {spec.description} [{disp[spec.dimension]}], needed with "
+                          f"{' or '.join(switches)}", found_text="nothing (the key is missing)")
+    if _given(sections, "twc_factor") and not (_given(sections, "twc")
+                                               or _given(sections, "twc_ratio")):
+        c.add("rock.twc_factor", sections["rock"]["twc_factor"],
+              "rock.twc or rock.twc_ratio as well (the factor multiplies TWC)",
+              found_text="twc_factor without twc")
+
+
+def mechanisms_of(scenario: Scenario) -> tuple[str, ...]:
+    """The mechanisms a scenario's inputs switch on (yield onset always)."""
+    out = ["yield_onset"]
+    for mech, (switches, _) in MECHANISM_INPUTS.items():
+        if any(k in scenario.inputs for k in switches):
+            out.append(mech)
+    return tuple(out)
 
 
 def _physics_checks(c: _Collector, inputs: Mapping[str, Marginal], given: Mapping[str, str],

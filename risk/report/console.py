@@ -57,6 +57,20 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
     con.print("[green]scenario is valid[/]")
 
 
+def _print_pore_collapse(con: Console, mech: dict[str, Any], u: str) -> None:
+    far, wall = mech["critical_reservoir_pressure"], mech["wall_critical_reservoir_pressure"]
+    con.print(f"[bold]{mech['name']}[/] (pore_collapse): critical reservoir pressure far field "
+              f"p10/p50/p90 {_fmt(far['p10'])} / {_fmt(far['p50'])} / {_fmt(far['p90'])} {u}; "
+              f"at the wall {_fmt(wall['p10'])} / {_fmt(wall['p50'])} / {_fmt(wall['p90'])} {u}")
+    t = Table(show_edge=False)
+    for col in (f"p_r [{u}]", "P(collapse) far field", "95% band", "P(collapse) at the wall"):
+        t.add_column(col, justify="right")
+    for s in mech["stages"]:
+        t.add_row(_fmt(s["reservoir_pressure"]), f"{s['probability']:.1%}",
+                  f"{s['low']:.1%} - {s['high']:.1%}", f"{s['wall_probability']:.1%}")
+    con.print(t)
+
+
 def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | None = None
                   ) -> None:
     """A compact table per mechanism: limits and critical values per depletion stage."""
@@ -66,6 +80,9 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
               f"({summary['sampling']}), seed {summary['seed']}, criterion "
               f"{summary['criterion']}")
     for key, mech in summary["mechanisms"].items():
+        if key == "pore_collapse":
+            _print_pore_collapse(con, mech, u)
+            continue
         t = Table(title=f"{mech['name']} ({key})", show_edge=False)
         for col in (f"p_r [{u}]", f"limit @ {summary['accepted_risk']:g} [{u}]",
                     f"95% lower [{u}]", f"Dc p10/p50/p90 [{u}]", f"p_wf,c p50 [{u}]",
@@ -78,7 +95,7 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
                       _fmt(s["drawdown_limit_lower"]),
                       " / ".join(_fmt(dc[k]) for k in ("p10", "p50", "p90")),
                       _fmt(s["critical_wall_pressure"]["p50"]),
-                      f"{s['never_fraction']:.1%}", _fmt(worst))
+                      f"{s['never_fraction']:.1%}", "-" if worst is None else _fmt(worst))
         con.print(t)
         for s in mech["stages"]:
             if s.get("convergence_warning"):

@@ -16,6 +16,8 @@ import numpy as np
 
 from risk import probability
 from risk.assessment import MECHANISMS, Assessment
+from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
+from risk.scenario import _SPEC
 
 __all__ = ["summarize", "GRID_POINTS", "rounded"]
 
@@ -45,7 +47,9 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
     mech = a.mechanisms[key]
     p_r = a.stages[k]
     dc = mech.well[:, k]
-    q = probability.percentiles(dc, [0.1, 0.5, 0.9])
+    levels = (0.01, 0.05, 0.1, 0.25, 0.5, 0.75, 0.9)
+    qs = probability.percentiles(dc, levels)
+    q = qs[[2, 4, 6]]
     finite = np.isfinite(dc)
     mean = float(dc.mean()) if finite.all() else math.inf
     grid = np.linspace(0.0, sc.max_drawdown, GRID_POINTS)
@@ -55,9 +59,8 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
         "reservoir_pressure": _pressure(a, p_r),
         "critical_drawdown": {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
                               "p90": _pressure(a, q[2]), "mean": _pressure(a, mean)},
-        "critical_wall_pressure": {"p10": _pressure(a, p_r - q[0]),
-                                   "p50": _pressure(a, p_r - q[1]),
-                                   "p90": _pressure(a, p_r - q[2])},
+        "critical_wall_pressure": {f"p{round(100 * lv):02d}": _pressure(a, p_r - v)
+                                   for lv, v in zip(levels, qs, strict=True)},
         "never_fraction": rounded(float(np.mean(~finite))),
         "zero_drawdown_fraction": rounded(float(np.mean(dc <= 0.0))),
         "drawdown_limit": _pressure(a, min(limit, p_r)),
@@ -80,17 +83,80 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
         lim = limit if math.isfinite(limit) else p_r
         p50s = [float(probability.percentiles(by_dir[:, j], [0.5])[0])
                 for j in range(by_dir.shape[1])]
+        limits = [min(probability.drawdown_limit(by_dir[:, j], sc.accepted_risk)[0], p_r)
+                  for j in range(by_dir.shape[1])]
         shots = [{"angle": _angle(a, ang), "critical_drawdown_p50": _pressure(a, v),
+                  "drawdown_limit": _pressure(a, lim_j),
                   "probability_at_limit": rounded(float(np.mean(by_dir[:, j] <= lim)))}
-                 for j, (ang, v) in enumerate(zip(a.directions, p50s, strict=True))]
+                 for j, (ang, v, lim_j) in enumerate(zip(a.directions, p50s, limits,
+                                                         strict=True))]
         worst = int(np.argmin(p50s))
         out["worst_shot_angle"] = _angle(a, a.directions[worst])
+        out["best_shot_angle"] = _angle(a, a.directions[int(np.argmax(limits))])
         out["shots"] = shots
     else:
         th = mech.theta[:, 0, k]
         ok = np.isfinite(th)
         out["worst_wall_angle"] = (_angle(a, float(np.median(th[ok]))) if ok.any() else None)
     return out
+
+
+def _pore_collapse(a: Assessment) -> dict[str, Any]:
+    """Pore collapse: critical reservoir pressure percentiles and the probability per stage.
+
+    ``p10`` is the reservoir pressure at or above which 10% of the samples have collapsed
+    (deplete to it and one sample in ten compacts), so p10 > p50 > p90.
+    """
+    assert a.compaction is not None
+    out: dict[str, Any] = {"name": MECHANISMS["pore_collapse"]}
+    for label, arr in (("critical_reservoir_pressure", a.compaction.far_field),
+                       ("wall_critical_reservoir_pressure", a.compaction.wall)):
+        q = -probability.percentiles(-arr, [0.1, 0.5, 0.9])
+        out[label] = {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
+                      "p90": _pressure(a, q[2])}
+    stages = []
+    for p_r in a.stages:
+        p, lo, hi = probability.failure_curve(-a.compaction.far_field, [-p_r])
+        stages.append({"reservoir_pressure": _pressure(a, p_r), "probability": rounded(p[0]),
+                       "low": rounded(lo[0]), "high": rounded(hi[0]),
+                       "wall_probability": rounded(float(np.mean(a.compaction.wall >= p_r)))})
+    out["stages"] = stages
+    out["never_fraction"] = rounded(float(np.mean(np.isneginf(a.compaction.far_field))))
+    return out
+
+
+def _inputs(a: Assessment) -> list[dict[str, Any]]:
+    sc = a.scenario
+    rows = []
+    for name, m in sc.inputs.items():
+        spec = _SPEC[name]
+        scale = TO_INTERNAL[sc.units][spec.dimension]
+        unit = DISPLAY_UNITS[sc.units][spec.dimension]
+        vals = np.asarray(a.inputs[name]) / scale
+        q = np.quantile(vals, [0.1, 0.5, 0.9]) if not m.is_fixed else [vals[0]] * 3
+        row: dict[str, Any] = {
+            "name": name, "section": spec.section, "unit": unit,
+            "description": spec.description, "distribution": m.describe(scale, unit),
+            "source": m.source, "fixed": m.is_fixed,
+            "p10": rounded(float(q[0])), "p50": rounded(float(q[1])),
+            "p90": rounded(float(q[2])),
+        }
+        if not m.is_fixed:
+            counts, edges = np.histogram(vals, bins=24)
+            row["histogram"] = {"edges": [rounded(float(e)) for e in edges],
+                                "counts": [int(c) for c in counts]}
+        rows.append(row)
+    return rows
+
+
+def _rank_correlation(a: Assessment) -> dict[str, Any] | None:
+    names = list(a.uncertain)
+    if len(names) < 2 or a.samples < 3:
+        return None
+    x = np.column_stack([a.inputs[n] for n in names])
+    ranks = np.argsort(np.argsort(x, axis=0), axis=0).astype(float)
+    r = np.corrcoef(ranks, rowvar=False)
+    return {"names": names, "matrix": [[rounded(float(v), 4) for v in row] for row in r]}
 
 
 def summarize(a: Assessment) -> dict[str, Any]:
@@ -103,6 +169,8 @@ def summarize(a: Assessment) -> dict[str, Any]:
               "stages": [_stage_summary(a, key, k) for k in range(len(a.stages))]}
         for key in a.mechanisms
     }
+    if a.compaction is not None:
+        mechanisms["pore_collapse"] = _pore_collapse(a)
     return {
         "schema": SCHEMA,
         "tool": "risk",
@@ -121,6 +189,11 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "accepted_risk": sc.accepted_risk,
         "max_drawdown": _pressure(a, sc.max_drawdown),
         "uncertain_inputs": list(a.uncertain),
+        "operating_points": [
+            {"reservoir_pressure": _pressure(a, pr), "wall_pressure": _pressure(a, pw)}
+            for pr, pw in sc.operating_points],
+        "inputs": _inputs(a),
+        "input_rank_correlation": _rank_correlation(a),
         "mechanisms": mechanisms,
         "provenance": dict(a.provenance),
     }
