@@ -11,20 +11,22 @@ directions (the first tunnel to fail).
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
-from typing import Final
+from typing import Any, Final
 
 import numpy as np
 from numpy.typing import NDArray
 from scipy.optimize import elementwise
 
-from risk import __version__
+from risk import __version__, probability
 from risk.mechanics import compaction, sanding
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
 from risk.mechanics.yield_onset import critical_wall_pressure
 from risk.scenario import Scenario
+from risk.small_risk import SMALL_RISK, reliability_at_limit
 from risk.uncertainty import UnitSampler, build_joint, input_columns, to_inputs
 
 Array = NDArray[np.float64]
@@ -91,6 +93,8 @@ class Assessment:
     xi: Array  # independent standard normals behind the samples (n, d)
     mechanisms: Mapping[str, MechanismResult]
     compaction: CompactionResult | None = None
+    #: FORM/SORM/importance sampling per (mechanism, stage index), internal units
+    reliability: Mapping[tuple[str, int], Mapping[str, Any]] = field(default_factory=dict)
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -285,6 +289,22 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         key: MechanismResult(key, np.concatenate(blocks[key]), np.concatenate(theta_blocks[key]))
         for key in blocks
     }
+    reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
+    if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
+        for key, mech in mechanisms.items():
+            for stage, p_r in enumerate(scenario.reservoir_pressure):
+                dc = mech.well[:, stage]
+                limit, _ = probability.drawdown_limit(dc, scenario.accepted_risk)
+                if not math.isfinite(limit):
+                    continue
+
+                def model(cols: dict[str, Array], key: str = key, stage: int = stage) -> Array:
+                    return evaluate(cols, scenario)[key].well[:, stage]
+
+                reliability[(key, stage)] = reliability_at_limit(
+                    model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
+                    sampling_p=float(np.mean(dc <= limit)), n_samples=n,
+                    rng=np.random.default_rng([seed_, 1, stage]))
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     import scipy
@@ -297,6 +317,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         uncertain=tuple(joint.names), xi=np.concatenate(xi_blocks), mechanisms=mechanisms,
         compaction=(CompactionResult(np.concatenate(far_blocks), np.concatenate(wall_blocks))
                     if with_compaction else None),
+        reliability=reliability,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

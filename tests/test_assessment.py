@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from scipy import stats
 
 from risk import probability
@@ -93,3 +94,23 @@ def test_openhole_ucs_normal_gives_normal_critical_drawdown(write):
         exact = stats.norm.cdf(grid, mean, sd)
         eps = np.sqrt(np.log(2 / 0.001) / (2 * dc.size))
         assert np.max(np.abs(p - exact)) < eps
+
+
+def test_small_risk_form_exact_on_linear_case(write):
+    # Only UCS ~ N(70, 6) and a vertical well: D_c is linear in UCS (MECHANICS.md 4.1), so the
+    # limit state is linear in the standard normal and FORM is exact (Hasofer & Lind 1974):
+    # P(D_c <= D*) = Phi((D* - mean)/sd). Importance sampling must agree within 4 of its cov.
+    doc = OPENHOLE_SI.replace("accepted_risk = 0.1", "accepted_risk = 0.005")
+    sc = load_scenario(write(doc))
+    a = assess(sc, samples=8192)
+    A = float(st.poroelastic_coefficient(biot=0.8, poisson_ratio=0.25))
+    p_r = 25.0
+    mean = p_r - (3 * 48 - 40 - 70 - A * p_r) / (2 - A)
+    sd = 6 / (2 - A)
+    rel = a.reliability[("yield_onset", 0)]
+    d_star = float(rel["drawdown"])
+    exact = stats.norm.cdf(d_star, mean, sd)
+    assert float(rel["form_p"]) == pytest.approx(exact, rel=1e-4)
+    assert abs(float(rel["is_p"]) - exact) < 4 * float(rel["is_cov"]) * exact
+    assert rel["diagnostic"] is None or "differ" not in str(rel["diagnostic"])
+    assert set(rel["importance"]) == {"ucs"}

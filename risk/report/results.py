@@ -73,6 +73,17 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
         "convergence_warning": (None if a.deterministic
                                 else probability.convergence_warning(dc, sc.accepted_risk)),
     }
+    rel = a.reliability.get((key, k))
+    if rel is not None:
+        out["small_risk"] = {
+            "drawdown": _pressure(a, float(rel["drawdown"])),
+            "sampling_p": rounded(float(rel["sampling_p"])),
+            "form_beta": rounded(float(rel["beta"])), "form_p": rounded(float(rel["form_p"])),
+            "sorm_p": rounded(float(rel["sorm_p"])), "is_p": rounded(float(rel["is_p"])),
+            "is_cov": rounded(float(rel["is_cov"])), "form_converged": bool(rel["converged"]),
+            "importance": {n: rounded(v) for n, v in rel["importance"].items()},
+            "model_runs": int(rel["model_runs"]), "diagnostic": rel["diagnostic"],
+        }
     if not math.isfinite(limit):
         out["drawdown_limit_note"] = (
             f"fewer than {sc.accepted_risk:.0%} of samples fail within the available "
