@@ -21,7 +21,7 @@ $(STAMP_TEST): pyproject.toml | $(BIN)/python
 	touch $@ $(STAMP_RUN)
 
 demo: $(STAMP_RUN)
-	$(BIN)/risk run $(DEMO) --out reports/demo
+	$(BIN)/risk run $(DEMO) --out reports/demo --force
 
 test: $(STAMP_TEST)
 	$(BIN)/ruff check risk tests benchmarks examples

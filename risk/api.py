@@ -29,9 +29,10 @@ def _check_overrides(samples: int | None, seed: int | None) -> None:
         raise ScenarioError.single("--seed", seed, "a whole number >= 0")
 
 
-def run_scenario(path: str | Path, *, out: str | Path = "reports", samples: int | None = None,
-                 seed: int | None = None, show_progress: bool = False) -> RunResult:
-    """Load, assess and write ``results.json`` into ``out``.
+def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: int | None = None,
+                 seed: int | None = None, show_progress: bool = False,
+                 force: bool = False) -> RunResult:
+    """Load, assess and write the outputs (``results.json`` ...) into the folder ``out``.
 
     Raises
     ------
@@ -40,9 +41,9 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports", samples: int 
     """
     _check_overrides(samples, seed)
     scenario = load_scenario(path)
-    from risk.report.writer import prepare_output_dir, write_json
+    from risk.report.writer import check_output_dir, dumps, publish
 
-    out_dir = prepare_output_dir(out)
+    out_dir = check_output_dir(out, force=force)
     from risk.assessment import assess
     from risk.report.results import summarize
 
@@ -59,5 +60,5 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports", samples: int 
     else:
         assessment = assess(scenario, samples=samples, seed=seed)
     summary = summarize(assessment)
-    write_json(summary, out_dir / "results.json")
+    publish(out_dir, {"results.json": dumps(summary)}, force=force)
     return RunResult(summary, out_dir, assessment)

@@ -67,16 +67,19 @@ def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -
 @app.command()
 def run(
     file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")],
-    out: Annotated[Path, typer.Option("--out", "-o", help="Output folder.")] = Path("reports"),
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output folder (replaced whole).")
+                   ] = Path("reports/run"),
     samples: Annotated[int | None, typer.Option(help="Override [analysis] samples.")] = None,
     seed: Annotated[int | None, typer.Option(help="Override [analysis] seed.")] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
     as_json: Annotated[bool, typer.Option("--json", help="Print results.json.")] = False,
+    force: Annotated[bool, typer.Option(
+        "--force", help="Replace an output folder that risk did not write.")] = False,
 ) -> None:
     """Run every analysis of a scenario and write results.json into the output folder."""
     from risk.api import run_scenario
 
-    result = _guard(run_scenario, file, out=out, samples=samples, seed=seed,
+    result = _guard(run_scenario, file, out=out, samples=samples, seed=seed, force=force,
                     show_progress=not quiet and not as_json and sys.stderr.isatty())
     if as_json:
         from risk.report.writer import dumps
