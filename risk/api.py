@@ -9,7 +9,7 @@ from typing import Any
 from risk.errors import ScenarioError
 from risk.scenario import MAX_SAMPLES, load_scenario
 
-__all__ = ["RunResult", "run_scenario"]
+__all__ = ["RunResult", "run_scenario", "new_scenario"]
 
 
 @dataclass(frozen=True)
@@ -62,3 +62,31 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: 
     summary = summarize(assessment)
     publish(out_dir, {"results.json": dumps(summary)}, force=force)
     return RunResult(summary, out_dir, assessment)
+
+
+def new_scenario(path: str | Path, *, units: str = "field", force: bool = False) -> Path:
+    """Write the commented scenario template (:mod:`risk.template`) to ``path``.
+
+    Raises
+    ------
+    ScenarioError
+        For unknown units, an existing file (without ``force``), a folder or an unwritable place.
+    """
+    from risk.report.writer import replace_files
+    from risk.template import scenario_template
+
+    if units not in ("field", "si"):
+        raise ScenarioError.single("--units", units, '"field" or "si"')
+    p = Path(path)
+    if p.is_dir():
+        raise ScenarioError.single("FILE", str(path), "a file name, not a folder")
+    if p.exists() and not force:
+        raise ScenarioError.single("FILE", str(path), "a new file name, or --force to overwrite",
+                                   found_text=f"the existing file {str(path)!r}")
+    try:
+        replace_files(p.parent if str(p.parent) else Path("."),
+                      {p.name: scenario_template(units)})
+    except OSError as exc:
+        raise ScenarioError.single("FILE", str(path), "a writable place",
+                                   found_text=f"{str(path)!r} ({exc.strerror})") from None
+    return p

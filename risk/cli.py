@@ -54,6 +54,19 @@ def _escape(text: str) -> str:
 
 
 @app.command()
+def new(
+    file: Annotated[Path, typer.Argument(help="Scenario file to create (TOML).")],
+    units: Annotated[str, typer.Option(help='"field" (psi, ft) or "si" (MPa, m).')] = "field",
+    force: Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")] = False,
+) -> None:
+    """Write a commented scenario template to edit."""
+    from risk.api import new_scenario
+
+    _guard(new_scenario, file, units=units, force=force)
+    typer.echo(f"wrote {file}; edit it, then: risk check {file}")
+
+
+@app.command()
 def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -> None:
     """Validate a scenario and print its inputs in its own units."""
     from risk.scenario import load_scenario

@@ -80,3 +80,30 @@ def test_json_flag(tmp_path):
                             "--json"])
     assert r.exit_code == 0
     assert json.loads(r.stdout)["samples"] == 64
+
+
+@pytest.mark.parametrize("units", ["field", "si"])
+def test_new_template_is_valid_and_not_overwritten(tmp_path, units):
+    f = tmp_path / f"{units}.toml"
+    r = RUNNER.invoke(app, ["new", str(f), "--units", units])
+    assert r.exit_code == 0, r.output
+    r = RUNNER.invoke(app, ["check", str(f)])
+    assert r.exit_code == 0, r.output
+    r = RUNNER.invoke(app, ["new", str(f)])
+    assert r.exit_code == 2 and "--force" in r.output
+
+
+def test_templates_describe_the_same_well(tmp_path):
+    # the SI template is the field one converted (to the rounding of its numbers, about 1%)
+    import tomllib
+
+    from risk.scenario import parse_scenario
+    from risk.template import scenario_template
+
+    f = parse_scenario(tomllib.loads(scenario_template("field")))
+    s = parse_scenario(tomllib.loads(scenario_template("si")))
+    assert s.well.depth == pytest.approx(f.well.depth, rel=0.01)
+    for name in ("ucs", "tensile_strength", "young_modulus", "pore_collapse_pressure"):
+        assert s.inputs[name].median == pytest.approx(f.inputs[name].median, rel=0.01)
+    for a, b in zip(s.reservoir_pressure, f.reservoir_pressure, strict=True):
+        assert a == pytest.approx(b, rel=0.01)
