@@ -95,6 +95,12 @@ class Assessment:
     compaction: CompactionResult | None = None
     #: FORM/SORM/importance sampling per (mechanism, stage index), internal units
     reliability: Mapping[tuple[str, int], Mapping[str, Any]] = field(default_factory=dict)
+    #: Sobol/Shapley indices per (mechanism, stage) of the capped critical drawdown
+    sensitivity: Mapping[tuple[str, int], Any] = field(default_factory=dict)
+    #: one-at-a-time swings per mechanism (first stage): input -> (x_low, x_high, y_low, y_high)
+    tornado: Mapping[str, Mapping[str, tuple[float, float, float, float]]] = field(
+        default_factory=dict)
+    tornado_base: Mapping[str, float] = field(default_factory=dict)
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -232,6 +238,96 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
     return CompactionResult(np.asarray(far, dtype=float), wall)
 
 
+SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
+
+#: Inputs grouped for grouped indices (coupled blocks); only uncertain members count.
+GROUPS: Final[dict[str, tuple[str, ...]]] = {
+    "in-situ stresses": ("sv", "sv_gradient", "shmax", "shmax_gradient", "shmin",
+                         "shmin_gradient", "shmax_azimuth", "pp", "pp_gradient",
+                         "depletion_path"),
+    "rock strength": ("ucs", "friction_angle", "tensile_strength", "twc", "twc_ratio",
+                      "twc_factor", "hb_mi", "gsi", "critical_plastic_strain",
+                      "pore_collapse_pressure"),
+}
+
+
+def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
+             far: Array | None) -> tuple[list[tuple[str, int]], Array]:
+    """Capped outputs for sensitivity: min(D_c, p_r) per mechanism and stage [MPa]; pore
+    collapse as the far-field critical reservoir pressure clipped to [0, p0] [MPa]."""
+    keys: list[tuple[str, int]] = []
+    cols: list[Array] = []
+    for key, mech in res.items():
+        well = mech.well
+        for stage, p_r in enumerate(scenario.reservoir_pressure):
+            keys.append((key, stage))
+            cols.append(np.minimum(well[:, stage], p_r))
+    if far is not None:
+        keys.append(("pore_collapse", 0))
+        cols.append(np.clip(np.where(np.isneginf(far), 0.0, far), 0.0, None))
+    return keys, np.column_stack(cols)
+
+
+def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
+                 far_blocks: list[Array], xi: Array, seed_: int) -> tuple[
+                     dict[tuple[str, int], Any], dict[str, dict[str, tuple[float, ...]]],
+                     dict[str, float]]:
+    """Sobol/Shapley indices (PCE on the run's leading QMC points, Monte-Carlo fallback) and
+    the tornado, for every mechanism and stage. Skipped for fewer than 2 uncertain inputs or
+    fewer than 64 samples."""
+    from risk import sensitivity as sa
+    from risk.uncertainty import correlated_normals, normals_to_inputs
+
+    n_all = next(iter(mechanisms.values())).by_direction.shape[0]
+    if joint.d < 2 or n_all < 64:
+        return {}, {}, {}
+    m = min(SENSITIVITY_RUNS, n_all)
+    rng = np.random.default_rng([seed_, 2])
+    head = {k: MechanismResult(k, r.by_direction[:m], r.theta[:m]) for k, r in mechanisms.items()}
+    far = np.concatenate(far_blocks)[:m] if far_blocks else None
+    keys, y = _outputs(scenario, head, far)
+    names = list(joint.names)
+    with_far = far is not None
+
+    def model_xi(xi: Array) -> Array:
+        x = normals_to_inputs(joint, xi)
+        cols = input_columns(joint, x)
+        out = evaluate(cols, scenario)
+        f = evaluate_compaction(cols, scenario).far_field if with_far else None
+        return _outputs(scenario, out, f)[1]
+
+    z = correlated_normals(joint, xi[:m])
+    groups = {g: [n for n in members if n in names] for g, members in GROUPS.items()}
+    groups = {g: v for g, v in groups.items() if len(v) >= 2}
+    corr = joint.normal_corr if np.any(joint.normal_corr != np.eye(joint.d)) else None
+    with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
+        res = sa.sensitivity(z, y, names=names, rng=rng, model=model_xi, corr=corr,
+                             groups=groups or None, n_bootstrap=100)
+    sens = dict(zip(keys, res, strict=True))
+    # tornado: P10 / P90 of each input, others at P50 (one-at-a-time, correlation ignored)
+    mid = np.array([mg.quantile(0.5) for mg in joint.marginals])
+    low = np.array([mg.quantile(0.1) for mg in joint.marginals])
+    high = np.array([mg.quantile(0.9) for mg in joint.marginals])
+
+    def model_x(x: Array) -> Array:
+        out = evaluate(input_columns(joint, x), scenario)
+        f = evaluate_compaction(input_columns(joint, x), scenario).far_field if with_far else None
+        return _outputs(scenario, out, f)[1]
+
+    rows = [mid] + [np.where(np.arange(joint.d) == j, low[j], mid) for j in range(joint.d)] + [
+        np.where(np.arange(joint.d) == j, high[j], mid) for j in range(joint.d)]
+    yy = model_x(np.array(rows))
+    torn: dict[str, dict[str, tuple[float, ...]]] = {}
+    base: dict[str, float] = {}
+    for c, (key, stage) in enumerate(keys):
+        if stage != 0:
+            continue
+        base[key] = float(yy[0, c])
+        torn[key] = {name: (float(low[j]), float(high[j]), float(yy[1 + j, c]),
+                            float(yy[1 + joint.d + j, c])) for j, name in enumerate(names)}
+    return sens, torn, base
+
+
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            progress: Progress | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
@@ -305,6 +401,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
                     rng=np.random.default_rng([seed_, 1, stage]))
+    xi_all = np.concatenate(xi_blocks)
+    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, far_blocks, xi_all, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     import scipy
@@ -314,10 +412,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         deterministic=deterministic, directions=tuple(directions),
         stages=scenario.reservoir_pressure,
         inputs={k: np.concatenate(v) for k, v in col_blocks.items()},
-        uncertain=tuple(joint.names), xi=np.concatenate(xi_blocks), mechanisms=mechanisms,
+        uncertain=tuple(joint.names), xi=xi_all, mechanisms=mechanisms,
         compaction=(CompactionResult(np.concatenate(far_blocks), np.concatenate(wall_blocks))
                     if with_compaction else None),
-        reliability=reliability,
+        reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

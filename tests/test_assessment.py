@@ -114,3 +114,24 @@ def test_small_risk_form_exact_on_linear_case(write):
     assert abs(float(rel["is_p"]) - exact) < 4 * float(rel["is_cov"]) * exact
     assert rel["diagnostic"] is None or "differ" not in str(rel["diagnostic"])
     assert set(rel["importance"]) == {"ucs"}
+
+
+def test_sensitivity_linear_case_matches_analytic(write):
+    # Vertical open hole, Mohr-Coulomb, interior critical drawdowns: D_c = p_r - (3 SH - Sh -
+    # UCS - A p_r)/(2 - A) is linear in UCS and SH (MECHANICS.md 4.1), so with independent
+    # normal inputs S_UCS = s_u^2 / (s_u^2 + 9 s_H^2) exactly (linear model; Saltelli et al.
+    # 2008, sec. 1.2.5). Tolerance: 0.02, several bootstrap widths at 1024 runs.
+    doc = (OPENHOLE_SI.replace("shmax = 48", 'shmax = { dist = "normal", mean = 48, sd = 1.0 }')
+           .replace("ucs = { dist = \"normal\", mean = 70, sd = 6 }",
+                    "ucs = { dist = \"normal\", mean = 70, sd = 2 }"))
+    sc = load_scenario(write(doc))
+    a = assess(sc, samples=2048)
+    r = a.sensitivity[("yield_onset", 0)]
+    s_u = 2.0**2 / (2.0**2 + 9 * 1.0**2)
+    got = dict(zip(r.names, r.first, strict=True))
+    assert got["ucs"] == pytest.approx(s_u, abs=0.02)
+    assert got["shmax"] == pytest.approx(1 - s_u, abs=0.02)
+    # tornado of a linear model: swing = 3/(2 - A) * (P90 - P10) of SH
+    A = float(st.poroelastic_coefficient(biot=0.8, poisson_ratio=0.25))
+    lo, hi, y_lo, y_hi = a.tornado["yield_onset"]["shmax"]
+    assert y_lo - y_hi == pytest.approx(3 / (2 - A) * (hi - lo), rel=1e-9)

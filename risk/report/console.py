@@ -101,4 +101,18 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
             if s.get("convergence_warning"):
                 con.print(f"[yellow]warning[/] (p_r {_fmt(s['reservoir_pressure'])} {u}): "
                           f"{s['convergence_warning']}")
+    for key, rows in summary.get("sensitivity", {}).items():
+        ranked = [r for r in rows if r["total"] is not None]
+        if not ranked:
+            con.print(f"sensitivity ({key}): no spread in the output (every sample has the "
+                      "same outcome)")
+            continue
+        name = summary["mechanisms"].get(key, {}).get("name", key)
+        t = Table(title=f"What drives it: {name}, first stage (Sobol indices)", show_edge=False)
+        for col in ("input", "total", "first", "Shapley"):
+            t.add_column(col, justify="right" if col != "input" else "left")
+        for r in ranked[:8]:
+            t.add_row(r["input"], f"{r['total']:.2f}", f"{r['first']:.2f}",
+                      "-" if r["shapley"] is None else f"{r['shapley']:.2f}")
+        con.print(t)
     con.print(f"results: {out_dir / 'results.json'}")

@@ -136,6 +136,55 @@ def _pore_collapse(a: Assessment) -> dict[str, Any]:
     return out
 
 
+def _indices(a: Assessment, r: Any) -> list[dict[str, Any]]:
+    """Rows of one SensitivityResult, largest total index first."""
+    rows = []
+    for j, name in enumerate(r.names):
+        rows.append({
+            "input": name,
+            "first": rounded(float(r.first[j]), 4), "total": rounded(float(r.total[j]), 4),
+            "first_low": rounded(float(r.first_low[j]), 4),
+            "first_high": rounded(float(r.first_high[j]), 4),
+            "total_low": rounded(float(r.total_low[j]), 4),
+            "total_high": rounded(float(r.total_high[j]), 4),
+            "shapley": rounded(float(r.shapley[j]), 4),
+        })
+    rows.sort(key=lambda row: -(row["total"] if row["total"] is not None else -1.0))
+    return rows
+
+
+def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[str, Any]]:
+    first: dict[str, Any] = {}
+    by_stage: dict[str, Any] = {}
+    for (key, stage), r in a.sensitivity.items():
+        entry = {
+            "reservoir_pressure": _pressure(a, a.stages[stage]) if key != "pore_collapse"
+            else None,
+            "method": r.method, "loo_error": rounded(float(r.loo_error), 4),
+            "model_runs": int(r.n_runs), "correlated": bool(r.correlated),
+            "indices": _indices(a, r),
+            "groups": [{"group": g, "first": rounded(float(f), 4),
+                        "total": rounded(float(t), 4), "shapley": rounded(float(sh), 4)}
+                       for g, f, t, sh in zip(r.group_names, r.group_first, r.group_total,
+                                              r.group_shapley, strict=True)],
+        }
+        by_stage.setdefault(key, []).append(entry)
+        if stage == 0:
+            first[key] = entry["indices"]
+    tornado: dict[str, Any] = {}
+    for key, swings in a.tornado.items():
+        rows = []
+        for name, (xl, xh, yl, yh) in swings.items():
+            spec = _SPEC[name]
+            scale = TO_INTERNAL[a.scenario.units][spec.dimension]
+            rows.append({"input": name, "unit": DISPLAY_UNITS[a.scenario.units][spec.dimension],
+                         "low_value": rounded(xl / scale), "high_value": rounded(xh / scale),
+                         "output_low": _pressure(a, yl), "output_high": _pressure(a, yh)})
+        rows.sort(key=lambda r: -abs((r["output_high"] or 0.0) - (r["output_low"] or 0.0)))
+        tornado[key] = {"base": _pressure(a, a.tornado_base[key]), "rows": rows}
+    return first, by_stage, tornado
+
+
 def _inputs(a: Assessment) -> list[dict[str, Any]]:
     sc = a.scenario
     rows = []
@@ -182,6 +231,7 @@ def summarize(a: Assessment) -> dict[str, Any]:
     }
     if a.compaction is not None:
         mechanisms["pore_collapse"] = _pore_collapse(a)
+    sens_first, sens_stage, tornado = _sensitivity(a)
     return {
         "schema": SCHEMA,
         "tool": "risk",
@@ -206,5 +256,11 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "inputs": _inputs(a),
         "input_rank_correlation": _rank_correlation(a),
         "mechanisms": mechanisms,
+        "sensitivity_output": (
+            "critical drawdown capped at the reservoir pressure, min(D_c, p_r), per mechanism; "
+            "pore collapse: far-field critical reservoir pressure clipped to [0, p0]"),
+        "sensitivity": sens_first,
+        "sensitivity_by_stage": sens_stage,
+        "tornado": tornado,
         "provenance": dict(a.provenance),
     }
