@@ -270,7 +270,8 @@ def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
 
 def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
                  far_blocks: list[Array], xi: Array, seed_: int) -> tuple[
-                     dict[tuple[str, int], Any], dict[str, dict[str, tuple[float, ...]]],
+                     dict[tuple[str, int], Any],
+                     dict[str, dict[str, tuple[float, float, float, float]]],
                      dict[str, float]]:
     """Sobol/Shapley indices (PCE on the run's leading QMC points, Monte-Carlo fallback) and
     the tornado, for every mechanism and stage. Skipped for fewer than 2 uncertain inputs or
@@ -317,7 +318,7 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     rows = [mid] + [np.where(np.arange(joint.d) == j, low[j], mid) for j in range(joint.d)] + [
         np.where(np.arange(joint.d) == j, high[j], mid) for j in range(joint.d)]
     yy = model_x(np.array(rows))
-    torn: dict[str, dict[str, tuple[float, ...]]] = {}
+    torn: dict[str, dict[str, tuple[float, float, float, float]]] = {}
     base: dict[str, float] = {}
     for c, (key, stage) in enumerate(keys):
         if stage != 0:

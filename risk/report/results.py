@@ -173,7 +173,7 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
             first[key] = entry["indices"]
     tornado: dict[str, Any] = {}
     for key, swings in a.tornado.items():
-        rows = []
+        rows: list[dict[str, Any]] = []
         for name, (xl, xh, yl, yh) in swings.items():
             spec = _SPEC[name]
             scale = TO_INTERNAL[a.scenario.units][spec.dimension]
