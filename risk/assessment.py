@@ -11,6 +11,7 @@ directions (the first tunnel to fail).
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -21,7 +22,7 @@ from numpy.typing import NDArray
 from scipy.optimize import elementwise
 
 from risk import __version__, probability
-from risk.mechanics import compaction, sanding
+from risk.mechanics import cavity, compaction, sanding
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
 from risk.mechanics.yield_onset import critical_wall_pressure
@@ -101,6 +102,11 @@ class Assessment:
     tornado: Mapping[str, Mapping[str, tuple[float, float, float, float]]] = field(
         default_factory=dict)
     tornado_base: Mapping[str, float] = field(default_factory=dict)
+    #: tunnel collapse along the drawdown axis, per stage (first PROFILE_SAMPLES samples, each
+    #: at its first-failing direction): drawdown [MPa] (g,), plastic_radius_ratio (m, g),
+    #: wall_plastic_strain (m, g); plane_strain_flag: share of collapsing samples whose axial
+    #: effective stress exceeds the hoop one at the yielded wall
+    collapse_profile: tuple[Mapping[str, Any], ...] = ()
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -125,7 +131,8 @@ def _frames(scenario: Scenario) -> Array:
                            shot_angle=np.asarray(w.shot_angles))
 
 
-def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, MechanismResult]:
+def evaluate(cols: Mapping[str, Array], scenario: Scenario,
+             only: set[str] | None = None) -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
     Parameters
@@ -133,6 +140,9 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Mechani
     cols : mapping of name -> ndarray (n,)
         Every scenario input [internal units] (fixed ones as constant columns).
     scenario : Scenario
+    only : set of mechanism keys, optional
+        Evaluate only these (yield onset is always computed when asked for or when ``only`` is
+        None).
 
     Returns
     -------
@@ -167,15 +177,17 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Mechani
     strength = StrengthParameters(per_sample(cols["ucs"]), per_sample(cols["friction_angle"]),
                                   per_sample(mb), per_sample(s), per_sample(a))
     p_r = stages[:, None, :]  # (1, 1, k)
-    onset = critical_wall_pressure(
-        local, reservoir_pressure=p_r, poro_coefficient=per_sample(big_a),
-        poisson_ratio=per_sample(nu), strength=strength,
-        tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
-    )
-    dc = p_r - onset.wall_pressure
-    out: dict[str, MechanismResult] = {
-        "yield_onset": MechanismResult("yield_onset", dc, onset.theta)}
-    if "twc" in cols or "twc_ratio" in cols:
+    out: dict[str, MechanismResult] = {}
+    if only is None or "yield_onset" in only:
+        onset = critical_wall_pressure(
+            local, reservoir_pressure=p_r, poro_coefficient=per_sample(big_a),
+            poisson_ratio=per_sample(nu), strength=strength,
+            tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
+        )
+        out["yield_onset"] = MechanismResult("yield_onset", p_r - onset.wall_pressure,
+                                             onset.theta)
+    if ("twc" in cols or "twc_ratio" in cols) and (
+            only is None or "effective_strength_onset" in only):
         twc = (np.asarray(cols["twc"]) if "twc" in cols
                else np.asarray(cols["twc_ratio"]) * np.asarray(cols["ucs"]))
         factor = np.asarray(cols.get("twc_factor", np.full(n, DEFAULT_TWC_FACTOR)))
@@ -193,7 +205,105 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Mechani
         dc_es = sanding.classify_wall_pressure(pw, p_r)
         out["effective_strength_onset"] = MechanismResult(
             "effective_strength_onset", dc_es, np.full(dc_es.shape, np.nan))
+    if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
+        kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a)
+        p_wc = cavity.collapse_wall_pressure(
+            critical_plastic_strain=per_sample(cols["critical_plastic_strain"]), p_r=p_r, **kw)
+        dc_tc = p_r - p_wc
+        out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
+                                                 np.full(dc_tc.shape, np.nan))
     return out
+
+
+def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
+                     dc: Array) -> tuple[dict[str, Any], ...]:
+    """Plastic radius and wall plastic strain against drawdown for a block of samples.
+
+    Parameters
+    ----------
+    cols : input columns of the block [internal units]
+    scenario : Scenario
+    dc : tunnel-collapse critical drawdown of the block (n, n_directions, n_stages) [MPa]
+    """
+    phys = physical_inputs(cols, scenario)
+    n = phys["sv"].size
+    stages = np.asarray(scenario.reservoir_pressure)
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
+            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    frames = _frames(scenario)
+    worst = np.argmin(dc, axis=1)  # (n, k): first direction to collapse
+    if scenario.criterion == "hoek-brown":
+        mb, s, a = hoek_brown_rock_mass(mi=cols["hb_mi"], gsi=cols.get("gsi", np.full(n, 100.)))
+    else:
+        mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
+    out = []
+    for k, p_r in enumerate(stages):
+        big = st.depleted_stress(initial=phys["shmax"], initial_pore_pressure=phys["pp"],
+                                 reservoir_pressure=p_r, path=path)
+        small = st.depleted_stress(initial=phys["shmin"], initial_pore_pressure=phys["pp"],
+                                   reservoir_pressure=p_r, path=path)
+        t = st.far_field_tensor(shmax=big, shmin=small, sv=phys["sv"],
+                                shmax_azimuth=np.asarray(cols["shmax_azimuth"]))
+        frame = frames[worst[:, k]]  # (n, 3, 3)
+        loc = st.local_stress(t, frame)
+        loc = st.LocalStress(*(np.asarray(c)[:, None] for c in loc))  # (n, 1)
+
+        def col(v: Array) -> Array:
+            return np.asarray(v, dtype=float).reshape(n, 1)
+
+        kw = _cavity_inputs(cols, scenario, loc, col, mb, s, a)
+        crit = kw.pop("criterion")
+        fn = cavity.hoek_brown_cavity if crit == "hoek-brown" else cavity.mohr_coulomb_cavity
+        grid = np.linspace(0.0, min(scenario.max_drawdown, p_r), PROFILE_POINTS)
+        resp = fn(p_r=p_r, p_w=p_r - grid[None, :], sigma_axial=loc.szz, **kw)
+        ratio = np.where(resp.seepage_unstable, np.inf, resp.plastic_radius / kw["r_w"])
+        strain = np.where(resp.seepage_unstable, np.inf, resp.wall_plastic_strain)
+        d_crit = dc[np.arange(n), worst[:, k], k]
+        collapsing = np.isfinite(d_crit) & (d_crit > 0.0)
+        flag = 0.0
+        if np.any(collapsing):
+            at = fn(p_r=p_r, p_w=np.where(collapsing, p_r - d_crit, p_r)[:, None],
+                    sigma_axial=loc.szz, **kw)
+            flag = float(np.mean(np.asarray(at.axial_exceeds_hoop)[collapsing, 0]))
+        out.append({"drawdown": grid, "plastic_radius_ratio": ratio,
+                    "wall_plastic_strain": strain, "plane_strain_flag": flag})
+    return tuple(out)
+
+
+def cavity_radius(scenario: Scenario) -> float:
+    """Wall radius of the collapsing cavity [m]: the tunnel's, or the open hole's."""
+    w = scenario.well
+    d = w.tunnel_diameter if w.completion == "perforated" else w.hole_diameter
+    if d is None:  # the scenario loader refuses this combination
+        raise ValueError("tunnel collapse needs the cavity diameter")
+    return 0.5 * d
+
+
+def _cavity_inputs(cols: Mapping[str, Array], scenario: Scenario, local: st.LocalStress,
+                   per_sample: Callable[[Array], Array], mb: Array, s: Array, a: Array
+                   ) -> dict[str, Any]:
+    """Keyword arguments of the cavity model (MECHANICS.md 4.3): equivalent hydrostatic
+    in-plane stress (3 s1 - s3)/2 of each direction and stage, radii, elastic constants."""
+    s1, s3 = st.in_plane_principal(local)
+    n = np.asarray(cols["ucs"]).size
+    kw: dict[str, Any] = {
+        "sigma0": 0.5 * (3.0 * s1 - s3),
+        "r_w": cavity_radius(scenario),
+        "r_e": per_sample(cols["drainage_radius"]),
+        "dilation_angle": per_sample(cols.get("dilation_angle", np.zeros(n))),
+        "young_modulus": per_sample(cols["young_modulus"]),
+        "poisson_ratio": per_sample(cols["poisson_ratio"]),
+        "biot": per_sample(cols["biot"]),
+    }
+    if scenario.criterion == "hoek-brown":
+        kw.update(criterion="hoek-brown", sigma_ci=per_sample(cols["ucs"]), mb=per_sample(mb),
+                  s=per_sample(s), a=per_sample(a))
+    else:
+        kw.update(criterion="mohr-coulomb", ucs=per_sample(cols["ucs"]),
+                  friction_angle=per_sample(cols["friction_angle"]))
+    return kw
 
 
 def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> CompactionResult:
@@ -238,7 +348,10 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
     return CompactionResult(np.asarray(far, dtype=float), wall)
 
 
+PROFILE_SAMPLES: Final = 256
+PROFILE_POINTS: Final = 21
 SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
+MC_FALLBACK_RUNS: Final = 512  # base sample of the Monte-Carlo fallback, n (d + 2) model runs
 
 #: Inputs grouped for grouped indices (coupled blocks); only uncertain members count.
 GROUPS: Final[dict[str, tuple[str, ...]]] = {
@@ -289,22 +402,36 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     keys, y = _outputs(scenario, head, far)
     names = list(joint.names)
     with_far = far is not None
-
-    def model_xi(xi: Array) -> Array:
-        x = normals_to_inputs(joint, xi)
-        cols = input_columns(joint, x)
-        out = evaluate(cols, scenario)
-        f = evaluate_compaction(cols, scenario).far_field if with_far else None
-        return _outputs(scenario, out, f)[1]
-
     z = correlated_normals(joint, xi[:m])
     groups = {g: [n for n in members if n in names] for g, members in GROUPS.items()}
     groups = {g: v for g, v in groups.items() if len(v) >= 2}
     corr = joint.normal_corr if np.any(joint.normal_corr != np.eye(joint.d)) else None
-    with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
-        res = sa.sensitivity(z, y, names=names, rng=rng, model=model_xi, corr=corr,
-                             groups=groups or None, n_bootstrap=100)
-    sens = dict(zip(keys, res, strict=True))
+    spread = np.ptp(y, axis=0) > 1e-12 * (1.0 + np.abs(y).max(axis=0))
+    cols_ok = np.nonzero(spread)[0]
+    res: dict[int, Any] = {}
+    if cols_ok.size:
+        with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
+            fitted = sa.sobol_pce(z, y[:, cols_ok], names=names, rng=rng, corr=corr,
+                                  groups=groups or None, n_bootstrap=100)
+        res = dict(zip(cols_ok.tolist(), fitted, strict=True))
+    bad = [c for c, r in res.items() if not r.loo_error <= sa.LOO_THRESHOLD]
+    if bad:
+        need = {keys[c][0] for c in bad}
+
+        def model_xi(xi_: Array) -> Array:
+            cols = input_columns(joint, normals_to_inputs(joint, xi_))
+            out = evaluate(cols, scenario, only=need - {"pore_collapse"})
+            f = (evaluate_compaction(cols, scenario).far_field
+                 if "pore_collapse" in need else None)
+            k2, yy = _outputs(scenario, out, f)
+            return yy[:, [k2.index(keys[c]) for c in bad]]
+
+        with np.errstate(invalid="ignore", divide="ignore"):
+            mc = sa.mc_sobol(model_xi, joint.d, MC_FALLBACK_RUNS, rng, names=names,
+                             n_bootstrap=100)
+        for c, r in zip(bad, mc, strict=True):
+            res[c] = dataclasses.replace(r, loo_error=res[c].loo_error)  # why it fell back
+    sens = {keys[c]: r for c, r in sorted(res.items())}
     # tornado: P10 / P90 of each input, others at P50 (one-at-a-time, correlation ignored)
     mid = np.array([mg.quantile(0.5) for mg in joint.marginals])
     low = np.array([mg.quantile(0.1) for mg in joint.marginals])
@@ -362,6 +489,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     far_blocks: list[Array] = []
     wall_blocks: list[Array] = []
     with_compaction = "pore_collapse_pressure" in scenario.inputs
+    profile: tuple[Mapping[str, Any], ...] = ()
     done = 0
     while done < n:
         m = min(CHUNK, n - done)
@@ -369,6 +497,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         x, xi = to_inputs(joint, u)
         cols = input_columns(joint, x)
         out = evaluate(cols, scenario)
+        if done == 0 and "tunnel_collapse" in out:
+            m0 = min(PROFILE_SAMPLES, u.shape[0])
+            profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
+                                       out["tunnel_collapse"].by_direction[:m0])
         for key, res in out.items():
             blocks.setdefault(key, []).append(res.by_direction)
             theta_blocks.setdefault(key, []).append(res.theta)
@@ -417,6 +549,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         compaction=(CompactionResult(np.concatenate(far_blocks), np.concatenate(wall_blocks))
                     if with_compaction else None),
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
+        collapse_profile=profile,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

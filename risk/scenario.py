@@ -467,6 +467,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         correlation=tuple(corr), operating_points=tuple(ops), source_name=source_name,
         sha256=sha256, raw=dict(doc),
     )
+    _cavity_checks(scenario)
     if corr:
         from risk.uncertainty import build_joint  # validates names, range and definiteness
 
@@ -509,6 +510,31 @@ def _mechanism_inputs(c: _Collector, sections: Mapping[str, Mapping[str, Any]],
         c.add("rock.twc_factor", sections["rock"]["twc_factor"],
               "rock.twc or rock.twc_ratio as well (the factor multiplies TWC)",
               found_text="twc_factor without twc")
+
+
+def _cavity_checks(sc: Scenario) -> None:
+    """Tunnel collapse needs a cavity radius below the drainage radius."""
+    if "critical_plastic_strain" not in sc.inputs:
+        return
+    disp = DISPLAY_UNITS[sc.units]
+    w = sc.well
+    if w.completion == "openhole" and w.hole_diameter is None:
+        raise ScenarioError.single(
+            "well.hole_diameter", None,
+            f"the hole diameter [{disp['small_length']}] (tunnel collapse of an open hole)",
+            source=sc.source_name, found_text="nothing (the key is missing)")
+    diameter = w.tunnel_diameter if w.completion == "perforated" else w.hole_diameter
+    r_w = 0.5 * (diameter or 0.0)
+    m = sc.inputs["drainage_radius"]
+    low = m.value if m.is_fixed else m.quantile(1e-6)
+    if not low > 1.01 * r_w:
+        shown = f"{low / TO_INTERNAL[sc.units]['length']:.4g} {disp['length']}"
+        raise ScenarioError.single(
+            "production.drainage_radius", shown,
+            f"a drainage radius above the cavity radius "
+            f"({r_w / TO_INTERNAL[sc.units]['length']:.4g} {disp['length']}) for every sample",
+            source=sc.source_name, found_text=shown + (" (fixed)" if m.is_fixed
+                                                       else " at its 1e-6 quantile"))
 
 
 def mechanisms_of(scenario: Scenario) -> tuple[str, ...]:

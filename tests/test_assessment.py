@@ -135,3 +135,41 @@ def test_sensitivity_linear_case_matches_analytic(write):
     A = float(st.poroelastic_coefficient(biot=0.8, poisson_ratio=0.25))
     lo, hi, y_lo, y_hi = a.tornado["yield_onset"]["shmax"]
     assert y_lo - y_hi == pytest.approx(3 / (2 - A) * (hi - lo), rel=1e-9)
+
+
+COLLAPSE = OPENHOLE_SI.replace("biot = 0.8", """biot = 0.8
+young_modulus = 8000
+critical_plastic_strain = CRIT
+dilation_angle = 5""").replace('[production]', '[production]\ndrainage_radius = 1.0').replace(
+    'completion = "openhole"', 'completion = "openhole"\nhole_diameter = 216')
+
+
+def test_tunnel_collapse_never_before_yield_and_meets_it_at_zero_strain(write):
+    # MECHANICS.md 4.3 (issue checks): collapse never comes before yield onset; a vanishing
+    # critical strain makes collapse coincide with yield onset (vertical hole, hoop stress the
+    # major principal stress, so the Mohr-Coulomb onset is the hoop-only one; derived).
+    a = assess(load_scenario(write(COLLAPSE.replace("CRIT", "0.02"))), samples=512)
+    tc = a.mechanisms["tunnel_collapse"].by_direction
+    yo = a.mechanisms["yield_onset"].by_direction
+    assert np.all(tc >= yo - 1e-9)
+    assert np.any(tc > yo + 0.1)  # the plastic reserve is real
+    b = assess(load_scenario(write(COLLAPSE.replace("CRIT", "1e-12"))), samples=512)
+    np.testing.assert_allclose(b.mechanisms["tunnel_collapse"].by_direction,
+                               b.mechanisms["yield_onset"].by_direction, atol=1e-6)
+    prof = a.collapse_profile[0]
+    assert prof["plastic_radius_ratio"].shape == (256, 21)
+    # the plastic zone and the strain only grow with drawdown (monotonic loading)
+    assert np.all(np.diff(prof["plastic_radius_ratio"], axis=1) >= -1e-12)
+    assert np.all(np.diff(prof["wall_plastic_strain"], axis=1) >= -1e-15)
+
+
+def test_tunnel_collapse_needs_radius_below_drainage(write):
+    from risk.errors import ScenarioError
+
+    doc = COLLAPSE.replace("CRIT", "0.02").replace("drainage_radius = 1.0",
+                                                   "drainage_radius = 0.05")
+    with pytest.raises(ScenarioError, match="production.drainage_radius"):
+        load_scenario(write(doc))
+    doc = COLLAPSE.replace("CRIT", "0.02").replace("hole_diameter = 216\n", "")
+    with pytest.raises(ScenarioError, match="well.hole_diameter"):
+        load_scenario(write(doc))

@@ -171,6 +171,19 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
         by_stage.setdefault(key, []).append(entry)
         if stage == 0:
             first[key] = entry["indices"]
+    if a.tornado:  # sensitivity ran: say where an output had no spread to analyse
+        for key in list(a.mechanisms) + (["pore_collapse"] if a.compaction is not None else []):
+            stages = range(len(a.stages)) if key != "pore_collapse" else range(1)
+            for stage in stages:
+                if (key, stage) in a.sensitivity:
+                    continue
+                entry = {"reservoir_pressure": _pressure(a, a.stages[stage])
+                         if key != "pore_collapse" else None,
+                         "method": "none", "indices": [], "groups": [],
+                         "note": "every sample has the same outcome (no spread to analyse)"}
+                by_stage.setdefault(key, []).insert(stage, entry)
+                if stage == 0:
+                    first[key] = []
     tornado: dict[str, Any] = {}
     for key, swings in a.tornado.items():
         rows: list[dict[str, Any]] = []
@@ -182,7 +195,30 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
                          "output_low": _pressure(a, yl), "output_high": _pressure(a, yh)})
         rows.sort(key=lambda r: -abs((r["output_high"] or 0.0) - (r["output_low"] or 0.0)))
         tornado[key] = {"base": _pressure(a, a.tornado_base[key]), "rows": rows}
+    order = [*a.mechanisms, "pore_collapse"]
+    first = {k: first[k] for k in order if k in first}
+    by_stage = {k: by_stage[k] for k in order if k in by_stage}
     return first, by_stage, tornado
+
+
+def _profile(a: Assessment) -> list[dict[str, Any]]:
+    """Percentile bands of plastic radius / wall radius and wall plastic strain vs drawdown."""
+    out = []
+    for p_r, prof in zip(a.stages, a.collapse_profile, strict=True):
+        entry: dict[str, Any] = {
+            "reservoir_pressure": _pressure(a, p_r),
+            "drawdown": [_pressure(a, float(d)) for d in prof["drawdown"]],
+            "samples": int(prof["plastic_radius_ratio"].shape[0]),
+            "plane_strain_flag_fraction": rounded(float(prof["plane_strain_flag"])),
+        }
+        for name in ("plastic_radius_ratio", "wall_plastic_strain"):
+            vals = np.asarray(prof[name])
+            entry[name] = {
+                f"p{q}": [rounded(float(v)) for v in np.percentile(vals, q, axis=0,
+                                                                    method="inverted_cdf")]
+                for q in (10, 50, 90)}
+        out.append(entry)
+    return out
 
 
 def _inputs(a: Assessment) -> list[dict[str, Any]]:
@@ -231,6 +267,8 @@ def summarize(a: Assessment) -> dict[str, Any]:
     }
     if a.compaction is not None:
         mechanisms["pore_collapse"] = _pore_collapse(a)
+    if a.collapse_profile and "tunnel_collapse" in mechanisms:
+        mechanisms["tunnel_collapse"]["profile"] = _profile(a)
     sens_first, sens_stage, tornado = _sensitivity(a)
     return {
         "schema": SCHEMA,
