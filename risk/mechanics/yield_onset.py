@@ -115,7 +115,7 @@ def critical_wall_pressure(
     strength: StrengthParameters,
     tensile_strength: ArrayLike,
     criterion: str = "mohr-coulomb",
-    n_theta: int = 36,
+    n_theta: int = 24,
 ) -> OnsetResult:
     """Highest wall pressure in [0, p_r] at which the cavity wall reaches yield onset.
 
