@@ -3,13 +3,14 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
 from risk.errors import ScenarioError
 from risk.scenario import MAX_SAMPLES, load_scenario
 
-__all__ = ["RunResult", "run_scenario", "new_scenario"]
+__all__ = ["RunResult", "run_scenario", "new_scenario", "render_memo"]
 
 
 @dataclass(frozen=True)
@@ -60,8 +61,68 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: 
     else:
         assessment = assess(scenario, samples=samples, seed=seed)
     summary = summarize(assessment)
-    publish(out_dir, {"results.json": dumps(summary)}, force=force)
+    run_info = {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+                "scenario_file": str(path)}
+    files: dict[str, str | bytes] = {"results.json": dumps(summary),
+                                     "run.json": dumps(run_info)}
+    files.update(_memo_files(summary, run_info))
+    publish(out_dir, files, force=force)
     return RunResult(summary, out_dir, assessment)
+
+
+def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, str | bytes]:
+    """memo.html, memo.pdf and figures/*.png. The date of the run lives in run.json (so that
+    results.json stays byte-identical for the same scenario and seed) and is shown in the memo.
+    """
+    from risk.report.memo import build_memo
+
+    memo = build_memo({**summary, "run_date": run_info.get("run_date")})
+    files: dict[str, str | bytes] = {"memo.html": memo.html, "memo.pdf": memo.pdf}
+    files.update({f"figures/{name}.png": png for name, png in memo.figures.items()})
+    return files
+
+
+def render_memo(out: str | Path) -> Path:
+    """Re-render the memo of a finished run from its results.json, without recomputing.
+
+    Raises
+    ------
+    ScenarioError
+        When the folder holds no readable results.json of this tool.
+    """
+    import json
+
+    from risk.report.writer import replace_files
+
+    folder = Path(out)
+    res = folder / "results.json"
+    if not res.is_file():
+        raise ScenarioError.single("DIR", str(out), "a folder written by `risk run` "
+                                   "(with results.json)",
+                                   found_text=f"no results.json in {str(out)!r}")
+    try:
+        summary = json.loads(res.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise ScenarioError.single("results.json", str(res), "the JSON written by `risk run`",
+                                   found_text=f"an unreadable file ({exc})") from None
+    if not isinstance(summary, dict) or summary.get("tool") != "risk":
+        raise ScenarioError.single("results.json", str(res), "the JSON written by `risk run`",
+                                   found_text="another kind of JSON")
+    run_info: dict[str, Any] = {}
+    info = folder / "run.json"
+    if info.is_file():
+        try:
+            run_info = json.loads(info.read_text(encoding="utf-8"))
+        except (OSError, UnicodeDecodeError, json.JSONDecodeError):
+            run_info = {}
+    try:
+        files = _memo_files(summary, run_info)
+    except (KeyError, TypeError, ValueError) as exc:
+        raise ScenarioError.single("results.json", str(res),
+                                   "results.json of this version of risk",
+                                   found_text=f"a file the memo cannot read ({exc!r})") from None
+    replace_files(folder, files)
+    return folder / "memo.html"
 
 
 def new_scenario(path: str | Path, *, units: str = "field", force: bool = False) -> Path:

@@ -104,5 +104,15 @@ def run(
         _guard(print_summary, result.summary, result.out_dir)
 
 
+@app.command()
+def memo(out: Annotated[Path, typer.Argument(help="Output folder of a finished `risk run`.")]
+         ) -> None:
+    """Re-render memo.html, memo.pdf and the figures from a run's results.json."""
+    from risk.api import render_memo
+
+    path = _guard(render_memo, out)
+    typer.echo(f"memo: {path}")
+
+
 def main() -> None:  # pragma: no cover - console entry point
     app()

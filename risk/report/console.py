@@ -116,3 +116,5 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
                       "-" if r["shapley"] is None else f"{r['shapley']:.2f}")
         con.print(t)
     con.print(f"results: {out_dir / 'results.json'}")
+    if (out_dir / "memo.html").exists():
+        con.print(f"memo: {out_dir / 'memo.html'} (and memo.pdf)")

@@ -221,6 +221,30 @@ def _profile(a: Assessment) -> list[dict[str, Any]]:
     return out
 
 
+def _well(a: Assessment) -> dict[str, Any]:
+    """Well geometry in display units (keys carry their unit)."""
+    sc = a.scenario
+    w = sc.well
+    length, small = sc.display_unit("length"), sc.display_unit("small_length")
+    out: dict[str, Any] = {
+        f"true vertical depth [{length}]": rounded(sc.to_display(w.depth, "length")),
+        "inclination [deg]": rounded(math.degrees(w.inclination)),
+        "azimuth [deg]": rounded(math.degrees(w.azimuth)),
+        "completion": w.completion,
+    }
+    if w.completion == "perforated":
+        out["shot angles [deg]"] = ", ".join(f"{math.degrees(x):g}" for x in w.shot_angles)
+    if w.tunnel_diameter is not None:
+        out[f"tunnel diameter [{small}]"] = rounded(sc.to_display(w.tunnel_diameter,
+                                                                  "small_length"))
+    if w.hole_diameter is not None:
+        out[f"hole diameter [{small}]"] = rounded(sc.to_display(w.hole_diameter,
+                                                                "small_length"))
+    out["reservoir pressure stages [" + sc.display_unit("pressure") + "]"] = ", ".join(
+        f"{sc.to_display(p, 'pressure'):g}" for p in sc.reservoir_pressure)
+    return out
+
+
 def _inputs(a: Assessment) -> list[dict[str, Any]]:
     sc = a.scenario
     rows = []
@@ -288,6 +312,7 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "accepted_risk": sc.accepted_risk,
         "max_drawdown": _pressure(a, sc.max_drawdown),
         "uncertain_inputs": list(a.uncertain),
+        "well": _well(a),
         "operating_points": [
             {"reservoir_pressure": _pressure(a, pr), "wall_pressure": _pressure(a, pw)}
             for pr, pw in sc.operating_points],

@@ -1,0 +1,703 @@
+"""The risk memo: a self-contained HTML page and its PDF, rendered from the results dict alone.
+
+Everything here takes the parsed ``results.json`` (see the README's table and
+:mod:`risk.report.results`), so ``risk memo DIR`` can re-render a memo without recomputing.
+Sections that a results file does not carry (an older run, an open hole, a run without a
+sensitivity study) are skipped with a short note. The HTML embeds its figures as base64 data
+URIs and its CSS inline: it loads nothing from anywhere. Nothing here reads or writes files
+(apart from the package's own templates) or reads the clock: the run date is printed only when
+the results carry a ``run_date``, so the same results give the same memo.
+
+Templates are Jinja2 with autoescaping on; every text that reaches them from the results
+(titles, sources, warnings) is escaped.
+"""
+
+from __future__ import annotations
+
+import base64
+import json
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Final
+
+import numpy as np
+from jinja2 import Environment, FileSystemLoader, StrictUndefined
+from markupsafe import Markup, escape
+
+from risk.report.figures import DPI, format_value, input_label, output_name, render_all
+
+__all__ = ["Memo", "build_memo", "memo_context", "render_html", "render_pdf", "SECTIONS"]
+
+TEMPLATES: Final = Path(__file__).resolve().parent / "templates"
+
+#: Section headings, in order (tests look for each one).
+SECTIONS: Final[tuple[str, ...]] = (
+    "Summary",
+    "The scenario",
+    "Results per mechanism",
+    "Sensitivity and what to measure next",
+    "Assumptions and limitations",
+    "Safety cautions",
+    "Reproducibility",
+)
+
+_SECTION_TITLES: Final[dict[str, str]] = {
+    "well": "Well and completion", "stress": "Stresses and pore pressure", "rock": "Rock",
+    "production": "Production", "analysis": "Analysis",
+}
+
+#: Figure captions (what the reader should look for), by figure name.
+CAPTIONS: Final[dict[str, str]] = {
+    "input_histograms": "Sampled inputs in the scenario's units, with P10, P50 and P90 marked.",
+    "input_correlation": "Rank (Spearman) correlation between the sampled inputs, as sampled.",
+    "failure_probability": (
+        "Probability of failure vs drawdown for each mechanism and depletion stage, with its "
+        "95% confidence band. The dashed line is the accepted risk; each dot marks the drawdown "
+        "limit, its whisker reaches down to the 95% lower confidence bound."),
+    "envelope": (
+        "Operating envelope over depletion: the critical flowing wall pressure (below it, that "
+        "share of samples fails) vs reservoir pressure. Shading gives the share of samples "
+        "failing; the straight line is zero drawdown."),
+    "shot_directions": (
+        "Risk per perforation direction: probability that a tunnel shot in each direction has "
+        "failed at the well's drawdown limit; the best direction is highlighted. Angles are "
+        "measured from the high side of the well (vertical well: from the azimuth reference)."),
+    "tunnel_collapse": (
+        "Tunnel collapse: plastic radius ratio and wall plastic strain vs drawdown, median "
+        "with the P10-P90 band, per depletion stage."),
+    "pore_collapse": (
+        "Pore collapse: probability vs reservoir pressure with its 95% band and the P10, P50 and "
+        "P90 critical reservoir pressures."),
+    "sensitivity": (
+        "Sobol first-order and total indices at the first stage, with their intervals, of the "
+        "critical drawdown (pore collapse: of the critical reservoir pressure); diamonds are "
+        "Shapley effects (shares of the variance)."),
+    "tornado": (
+        "Tornado chart: the critical drawdown (pore collapse: the critical reservoir pressure) "
+        "when one input at a time is moved to its P10 or P90 value, the others held at their "
+        "base values."),
+}
+
+_SHOT_STAGES: Final = 3  # depletion stages per per-shot table (keeps it within the page)
+
+#: Where each figure sits in the memo (numbering follows this order).
+_FIGURE_ORDER: Final = ("input_histograms", "input_correlation", "failure_probability",
+                        "envelope", "shot_directions", "tunnel_collapse", "pore_collapse",
+                        "sensitivity", "tornado")
+
+ASSUMPTIONS: Final[tuple[str, ...]] = (
+    "Linear elastic, isotropic rock and a plane-strain idealisation at the cavity wall (open "
+    "hole or perforation tunnel); stresses at the wall from the generalized Kirsch solution.",
+    "Failure is checked with Terzaghi effective stresses (total stress minus pore pressure); "
+    "Biot's coefficient enters only the poroelastic terms (the inflow term at the wall and the "
+    "depletion stress path).",
+    "The steady radial Darcy inflow term is exact for an unbounded medium; a bounded hollow "
+    "cylinder (a laboratory sample or a finite drainage radius) differs.",
+    "Perforation tunnels see the far-field stresses, not the stresses amplified by the "
+    "wellbore.",
+    "The effective-strength factor is an empirical calibration: k \u2248 3.1 (Willson et al. "
+    "2002); 3.8\u20134.6 in perforation-collapse tests (Yeow et al. 2004); field sanding onset "
+    "at 0.5\u20131\u00d7 the predicted critical bottom-hole flowing pressure (Palmer et al. "
+    "2003) \u2014 all as quoted in Bellarby (2009).",
+    "Log correlations for UCS carry factor-of-two scatter outside the basin they were fitted "
+    "in (McNally 1987; Chang, Zoback & Khaksar 2006).",
+    "Not modelled: transient and cyclic loading (start-ups, shut-ins), multiphase flow and "
+    "water breakthrough, rate-dependent erosion and sand transport, strain softening and large "
+    "strains, thermal effects.",
+    "Sampling error: every probability is estimated from a finite number of samples. Failure "
+    "curves carry 95% confidence bands and each drawdown limit a one-sided 95% lower "
+    "confidence bound; use the bound, not the estimate, when the two differ.",
+)
+
+CAUTIONS: Final[tuple[str, ...]] = (
+    "This is a screening tool. It does not replace engineering judgement.",
+    "Local regulations, codes and operator standards take precedence; have the decision "
+    "reviewed by a licensed professional.",
+    "Calibrate the model against the local sanding history (offset wells, sand-production "
+    "events, core tests) before relying on its limits.",
+    "Produced sand erodes chokes, flowlines and equipment and can lead to loss of containment "
+    "or loss of well control.",
+    "Ramp rates up slowly after start-up and after every shut-in.",
+    "Monitor sand production (acoustic or intrusive detectors, separator and sample checks).",
+)
+
+
+@dataclass(frozen=True)
+class Memo:
+    """A rendered memo: the HTML page, its PDF and the figures' PNG bytes by name."""
+
+    html: str
+    pdf: bytes
+    figures: dict[str, bytes]
+
+
+# --------------------------------------------------------------------------- helpers
+
+def _p(results: Mapping[str, Any], v: Any, *, none: str = "never") -> str:
+    return format_value(v, _punit(results), none=none)
+
+
+def _punit(results: Mapping[str, Any]) -> str:
+    return str((results.get("units") or {}).get("pressure", ""))
+
+
+def _prob(v: Any) -> str:
+    if v is None:
+        return "–"
+    return f"{float(v):.3f}"
+
+
+def _pct(v: Any) -> str:
+    if v is None:
+        return "–"
+    return f"{100.0 * float(v):.1f}%"
+
+
+def _lower(name: str) -> str:
+    """A mechanism name for the middle of a sentence ("Yield onset" -> "yield onset"; an
+    acronym such as "TWC onset" stays)."""
+    return name[0].lower() + name[1:] if name[:2].istitle() else name
+
+
+def _rich(text: str) -> Markup:
+    """Escaped text with the reservoir-pressure symbol typeset (p_r -> p<sub>r</sub>)."""
+    return (escape(text).replace("p_r", Markup("p<sub>r</sub>"))
+            .replace("p_wf", Markup("p<sub>wf</sub>")))
+
+
+def _sci(v: Any) -> str:
+    """A small probability [-] in scientific notation."""
+    return "–" if v is None else f"{float(v):.3g}"
+
+
+def _num(v: Any) -> str:
+    return "–" if v is None else f"{float(v):.3g}"
+
+
+def _raw(v: Any) -> str:
+    """The JSON text of a value, for machine-readable ``data-value`` attributes."""
+    return json.dumps(v)
+
+
+def _drawdown_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[str, Any]]]:
+    out = []
+    for key, mech in (results.get("mechanisms") or {}).items():
+        stages = mech.get("stages") or []
+        if stages and all("failure_probability" in s for s in stages):
+            out.append((key, mech))
+    return out
+
+
+def _data_uri(png: bytes) -> str:
+    return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
+
+
+def _png_width_in(png: bytes) -> str:
+    """The printed width [in] of a PNG drawn at :data:`~risk.report.figures.DPI`, so every
+    figure keeps its design size (and its fonts their point size) in the memo."""
+    if png[:8] != b"\x89PNG\r\n\x1a\n" or len(png) < 24:
+        return "100%"
+    return f"{int.from_bytes(png[16:20], 'big') / DPI:.3f}in"
+
+
+def _top_sensitivity(results: Mapping[str, Any], key: str) -> Mapping[str, Any] | None:
+    rows = (results.get("sensitivity") or {}).get(key) or []
+    rows = [r for r in rows if r.get("total") is not None]
+    return max(rows, key=lambda r: float(r["total"])) if rows else None
+
+
+def _interp_probability(stage: Mapping[str, Any], drawdown: float) -> float | None:
+    fp = stage.get("failure_probability") or []
+    d = np.array([r["drawdown"] for r in fp if r.get("p") is not None], dtype=float)
+    p = np.array([r["p"] for r in fp if r.get("p") is not None], dtype=float)
+    if d.size == 0 or not d[0] <= drawdown <= d[-1]:
+        return None
+    return float(np.interp(drawdown, d, p))
+
+
+# --------------------------------------------------------------------------- sections
+
+def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
+    mechs = _drawdown_mechanisms(results)
+    risk = results.get("accepted_risk")
+    n = max((len(m["stages"]) for _, m in mechs), default=0)
+    rows = []
+    notes: list[str] = []
+    unresolved = "– (deterministic)" if results.get("deterministic") else "not resolved"
+    governing: list[tuple[str, tuple[str, ...], str]] = []  # (p_r text, keys, limit text)
+    for k in range(n):
+        cells: list[dict[str, Any] | None] = []
+        best: tuple[float, list[str]] = (math.inf, [])
+        p_r = None
+        for key, mech in mechs:
+            if k >= len(mech["stages"]):
+                cells.append(None)
+                continue
+            st = mech["stages"][k]
+            p_r = st.get("reservoir_pressure")
+            lim, low = st.get("drawdown_limit"), st.get("drawdown_limit_lower")
+            mark = ""
+            if st.get("drawdown_limit_note"):
+                notes.append(f"{mech.get('name', key)}, p_r = {_p(results, p_r)}: "
+                             f"{st['drawdown_limit_note']}.")
+                mark = f"[{len(notes)}]"
+            cells.append({
+                "key": key, "stage": k, "limit": _p(results, lim), "limit_raw": _raw(lim),
+                "lower": _p(results, low, none=unresolved), "lower_raw": _raw(low),
+                "mark": mark, "warn": bool(st.get("convergence_warning")),
+            })
+            if lim is not None:
+                if float(lim) < best[0]:
+                    best = (float(lim), [key])
+                elif float(lim) == best[0]:
+                    best[1].append(key)
+        names = {k_: str(m.get("name", k_)) for k_, m in mechs}
+        if len(best[1]) > 1 and len(best[1]) == len(mechs):
+            gov = "every mechanism"
+        else:
+            gov = " and ".join(names[g] for g in best[1]) if best[1] else "–"
+        rows.append({"p_r": _p(results, p_r), "p_r_raw": _raw(p_r), "cells": cells,
+                     "governing": gov,
+                     "governing_limit": _p(results, best[0]) if best[1] else "–"})
+        if best[1]:
+            governing.append((_p(results, p_r), tuple(best[1]), _p(results, best[0])))
+    sentences = []
+    if governing:
+        names = {k_: str(m.get("name", k_)) for k_, m in mechs}
+
+        def who(keys: tuple[str, ...]) -> str:
+            if len(keys) > 1 and len(keys) == len(mechs):
+                return "every mechanism"
+            return " and ".join(names[g] for g in keys)
+
+        if len({g[1] for g in governing}) == 1:
+            subject = who(governing[0][1])
+            verb = "governs" if len(governing[0][1]) == 1 else "govern"
+            if subject == "every mechanism":
+                subject, verb = "All mechanisms", "give the same smallest limit, and so govern"
+            sentences.append(
+                f"{subject} {verb} the drawdown limit at every depletion stage: "
+                f"the smallest limit is {governing[0][2]} at p_r = {governing[0][0]}"
+                + (f" and {governing[-1][2]} at p_r = {governing[-1][0]}."
+                   if len(governing) > 1 else "."))
+        else:
+            parts = [f"at p_r = {g[0]}, {_lower(who(g[1]))} ({g[2]})" for g in governing]
+            sentences.append("The mechanism with the smallest limit changes with depletion: "
+                             + "; ".join(parts) + ".")
+        zero = [(str(mech.get("name", key)), _p(results, st.get("reservoir_pressure")),
+                 st.get("zero_drawdown_fraction"))
+                for key, mech in mechs for st in mech["stages"]
+                if risk is not None and st.get("zero_drawdown_fraction") is not None
+                and float(st["zero_drawdown_fraction"]) >= float(risk)]
+        if zero:
+            first = zero[0]
+            sentences.append(
+                f"The accepted risk is exceeded with no drawdown at all in {len(zero)} of the "
+                f"stage results (for example {_lower(first[0])} at p_r = {first[1]}: "
+                f"{_pct(first[2])} of the samples fail at zero drawdown), so the limit there "
+                f"is 0 {_punit(results)}.")
+        top = _top_sensitivity(results, governing[0][1][0])
+        if top is None:
+            for key, _m in mechs:
+                top = _top_sensitivity(results, key)
+                if top is not None:
+                    break
+        if top is not None:
+            sentences.append(
+                f"The input whose uncertainty matters most is {input_label(str(top['input']))} "
+                f"(largest total Sobol index, {float(top['total']):.2f}, at the first stage).")
+    pore = (results.get("mechanisms") or {}).get("pore_collapse")
+    if pore and pore.get("stages"):
+        last = pore["stages"][-1]
+        crit = (pore.get("critical_reservoir_pressure") or {}).get("p50")
+        sentences.append(
+            f"{pore.get('name', 'Pore collapse')}: probability {_prob(last.get('probability'))}"
+            f" at the last stage (p_r = {_p(results, last.get('reservoir_pressure'))}); median "
+            f"critical reservoir pressure {_p(results, crit, none='not reached')}.")
+    if results.get("deterministic"):
+        sentences.append("Deterministic run (every input fixed, one evaluation): each "
+                         "probability is 0 or 1 and carries no sampling error, so no confidence "
+                         "bound applies.")
+    warnings = sum(1 for _, m in mechs for s in m["stages"] if s.get("convergence_warning"))
+    return {
+        "mechanisms": [{"key": k, "name": str(m.get("name", k))} for k, m in mechs],
+        "rows": rows, "notes": [_rich(t) for t in notes],
+        "sentences": [_rich(t) for t in sentences], "warnings": warnings,
+        "accepted_risk": format_value(risk, "-"),
+    }
+
+
+def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
+    settings = [
+        ("title", str(results.get("title") or "–")),
+        ("completion", str(results.get("completion") or "–")),
+        ("failure criterion", str(results.get("criterion") or "–")),
+    ]
+    well = results.get("well")
+    if isinstance(well, Mapping):
+        for k, v in well.items():
+            settings.append((k.replace("_", " "), str(v)))
+    mechs = _drawdown_mechanisms(results)
+    if mechs:
+        stages = [s.get("reservoir_pressure") for s in mechs[0][1]["stages"]]
+        settings.append(("reservoir pressure stages",
+                         ", ".join(_p(results, s) for s in stages)))
+        shots = mechs[0][1]["stages"][0].get("shots")
+        if shots:
+            settings.append(("shot directions", ", ".join(
+                format_value(s.get("angle"), "deg") for s in shots) + " from the high side"))
+    settings += [
+        ("largest drawdown considered", _p(results, results.get("max_drawdown"))),
+        ("accepted risk", format_value(results.get("accepted_risk"), "-", none="–")),
+    ]
+    points = results.get("operating_points") or []
+    if points:
+        settings.append(("planned operating points", "; ".join(
+            f"p_r {_p(results, p.get('reservoir_pressure'))}, p_wf "
+            f"{_p(results, p.get('wall_pressure'))}" for p in points)))
+    groups: list[dict[str, Any]] = []
+    inputs = results.get("inputs")
+    if inputs:
+        order = list(_SECTION_TITLES)
+        by_section: dict[str, list[dict[str, Any]]] = {}
+        for item in inputs:
+            unit = str(item.get("unit") or "-")
+            by_section.setdefault(str(item.get("section") or "other"), []).append({
+                "label": input_label(str(item["name"])), "name": str(item["name"]),
+                "description": str(item.get("description") or ""),
+                "unit": unit, "distribution": str(item.get("distribution") or ""),
+                "p10": format_value(item.get("p10"), unit, none="–"),
+                "p50": format_value(item.get("p50"), unit, none="–"),
+                "p90": format_value(item.get("p90"), unit, none="–"),
+                "source": str(item.get("source") or "not stated"),
+                "fixed": bool(item.get("fixed")),
+            })
+        for sec in sorted(by_section, key=lambda s: (order.index(s) if s in order else 99, s)):
+            groups.append({"title": _SECTION_TITLES.get(sec, sec.capitalize()),
+                           "rows": by_section[sec]})
+    log_based = [f"{input_label(str(i['name']))} ({i['source']})" for i in inputs or []
+                 if i.get("source") and any(w in str(i["source"]).lower()
+                                            for w in ("correlation", "sonic", " log"))]
+    return {
+        "settings": [(k, _rich(v)) for k, v in settings], "groups": groups,
+        "uncertain": [input_label(str(n)) for n in results.get("uncertain_inputs") or []],
+        "log_based": log_based,
+    }
+
+
+def _mechanism_sections(results: Mapping[str, Any]) -> list[dict[str, Any]]:
+    out = []
+    risk = format_value(results.get("accepted_risk"), "-")
+    for key, mech in _drawdown_mechanisms(results):
+        stages = mech["stages"]
+        warnings = [{"p_r": _p(results, s.get("reservoir_pressure")),
+                     "text": str(s["convergence_warning"])}
+                    for s in stages if s.get("convergence_warning")]
+        dist_rows, limit_rows = [], []
+        for s in stages:
+            dc = s.get("critical_drawdown") or {}
+            cw = s.get("critical_wall_pressure") or {}
+            dist_rows.append({
+                "p_r": _p(results, s.get("reservoir_pressure")),
+                "p10": _p(results, dc.get("p10")), "p50": _p(results, dc.get("p50")),
+                "p90": _p(results, dc.get("p90")),
+                "mean": _p(results, dc.get("mean"), none="– (some never fail)"),
+                "zero": _pct(s.get("zero_drawdown_fraction")),
+                "never": _pct(s.get("never_fraction")),
+            })
+            angle = ("worst_shot_angle" if "worst_shot_angle" in s else "worst_wall_angle")
+            limit_rows.append({
+                "p_r": _p(results, s.get("reservoir_pressure")),
+                "limit": _p(results, s.get("drawdown_limit")),
+                "lower": _p(results, s.get("drawdown_limit_lower"), none="not resolved"),
+                "cw10": _p(results, cw.get("p10"), none="below 0"),
+                "cw50": _p(results, cw.get("p50"), none="below 0"),
+                "cw90": _p(results, cw.get("p90"), none="below 0"),
+                "worst": format_value(s.get(angle), "deg", none="–"),
+                "best": format_value(s.get("best_shot_angle"), "deg", none="–"),
+            })
+        shots = None
+        if all(s.get("shots") for s in stages):
+            angles = [sh.get("angle") for sh in stages[0]["shots"]]
+            chunks = [stages[i:i + _SHOT_STAGES] for i in range(0, len(stages), _SHOT_STAGES)]
+            shots = {
+                "has_limit": any("drawdown_limit" in sh for s in stages for sh in s["shots"]),
+                "chunks": [{
+                    "stages": [_p(results, s.get("reservoir_pressure")) for s in chunk],
+                    "rows": [{
+                        "angle": format_value(a, "deg", none="–"),
+                        "cells": [_shot_cell(results, s, j) for s in chunk],
+                    } for j, a in enumerate(angles)],
+                } for chunk in chunks],
+            }
+        small = []
+        for s in stages:
+            sr = s.get("small_risk")
+            if not sr:
+                continue
+            imp = sorted(((k_, v) for k_, v in (sr.get("importance") or {}).items()
+                          if v is not None), key=lambda kv: -kv[1])[:3]
+            small.append({
+                "p_r": _p(results, s.get("reservoir_pressure")),
+                "d": _p(results, sr.get("drawdown")),
+                "sampling": _sci(sr.get("sampling_p")), "beta": _num(sr.get("form_beta")),
+                "form": _sci(sr.get("form_p")), "sorm": _sci(sr.get("sorm_p")),
+                "is": _sci(sr.get("is_p")) + (f" (c.o.v. {_num(sr.get('is_cov'))})"
+                                              if sr.get("is_cov") is not None else ""),
+                "converged": "yes" if sr.get("form_converged") else "no",
+                "importance": ", ".join(f"{input_label(k_)} {v:.2f}" for k_, v in imp) or "–",
+                "diagnostic": str(sr.get("diagnostic") or ""),
+            })
+        out.append({
+            "key": key, "name": str(mech.get("name", key)), "warnings": warnings,
+            "small_risk": small,
+            "dist_rows": dist_rows, "limit_rows": limit_rows, "shots": shots,
+            "open_hole": "worst_wall_angle" in stages[0], "risk": risk,
+        })
+    return out
+
+
+def _shot_cell(results: Mapping[str, Any], stage: Mapping[str, Any], j: int) -> dict[str, str]:
+    shots = stage.get("shots") or []
+    if j >= len(shots):
+        return {"prob": "–", "p50": "–", "limit": ""}
+    sh = shots[j]
+    return {"prob": _prob(sh.get("probability_at_limit")),
+            "p50": _p(results, sh.get("critical_drawdown_p50")),
+            "limit": (_p(results, sh["drawdown_limit"]) if "drawdown_limit" in sh else "")}
+
+
+def _pore_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
+    pc = (results.get("mechanisms") or {}).get("pore_collapse")
+    if not pc:
+        return None
+    crit = []
+    for label, field in (("far field", "critical_reservoir_pressure"),
+                         ("at the wall", "wall_critical_reservoir_pressure")):
+        q = pc.get(field)
+        if q:
+            crit.append({"where": label, **{k: _p(results, q.get(k), none="not reached")
+                                            for k in ("p10", "p50", "p90")}})
+    stages = [{"p_r": _p(results, s.get("reservoir_pressure")),
+               "prob": _prob(s.get("probability")),
+               "band": f"{_prob(s.get('low'))} – {_prob(s.get('high'))}",
+               "wall": _prob(s.get("wall_probability"))}
+              for s in pc.get("stages") or []]
+    return {"name": str(pc.get("name", "Pore collapse")), "crit": crit, "stages": stages,
+            "has_wall": any(s.get("wall_probability") is not None
+                            for s in pc.get("stages") or []),
+            "never": _pct(pc.get("never_fraction")) if "never_fraction" in pc else None}
+
+
+def _operating_points(results: Mapping[str, Any]) -> list[dict[str, Any]]:
+    mechs = _drawdown_mechanisms(results)
+    out = []
+    for pt in results.get("operating_points") or []:
+        p_r, p_w = pt.get("reservoir_pressure"), pt.get("wall_pressure")
+        if p_r is None or p_w is None:
+            continue
+        d = float(p_r) - float(p_w)
+        probs = []
+        for _key, mech in mechs:
+            st = next((s for s in mech["stages"]
+                       if s.get("reservoir_pressure") is not None
+                       and math.isclose(float(s["reservoir_pressure"]), float(p_r),
+                                        rel_tol=1e-9)), None)
+            if st is None:
+                probs.append("not a stage")
+                continue
+            p = _interp_probability(st, d)
+            lim = st.get("drawdown_limit")
+            flag = "" if lim is None or d <= float(lim) else " (beyond the limit)"
+            probs.append((_prob(p) if p is not None else "outside the curve") + flag)
+        out.append({"p_r": _p(results, p_r), "p_w": _p(results, p_w), "d": _p(results, d),
+                    "probs": probs})
+    return out
+
+
+def _sensitivity(results: Mapping[str, Any]) -> dict[str, Any]:
+    sens = {k: v for k, v in (results.get("sensitivity") or {}).items() if v}
+    names = {k: str(m.get("name", k)) for k, m in (results.get("mechanisms") or {}).items()}
+    tables = []
+    for key, rows in sens.items():
+        ranked = sorted(rows, key=lambda r: -(r.get("total") or 0.0))
+        tables.append({"name": names.get(key, key), "output": output_name(key), "rows": [{
+            "rank": i + 1, "input": input_label(str(r["input"])),
+            "first": _idx(r.get("first"), r.get("first_low"), r.get("first_high")),
+            "total": _idx(r.get("total"), r.get("total_low"), r.get("total_high")),
+            "shapley": "–" if r.get("shapley") is None else f"{float(r['shapley']):.3f}",
+        } for i, r in enumerate(ranked)]})
+    recs = []
+    for key in sens:
+        top = _top_sensitivity(results, key)
+        if top is not None:
+            recs.append(
+                f"For {_lower(names.get(key, key))}, measure "
+                f"{input_label(str(top['input']))} next: it has the largest total index "
+                f"({float(top['total']):.2f}), so narrowing its range narrows the spread of the "
+                f"{output_name(key)} the most.")
+    by_stage = []
+    for key, entries in (results.get("sensitivity_by_stage") or {}).items():
+        for e in entries or []:
+            idx = [r for r in e.get("indices") or [] if r.get("total") is not None]
+            top = max(idx, key=lambda r: float(r["total"])) if idx else None
+            loo = e.get("loo_error")
+            by_stage.append({
+                "name": names.get(key, key),
+                "p_r": (_p(results, e.get("reservoir_pressure"))
+                        if e.get("reservoir_pressure") is not None else "over depletion"),
+                "method": str(e.get("method") or "–"),
+                "loo": "–" if loo is None else f"{float(loo):.3f}",
+                "runs": f"{int(e['model_runs']):,}" if e.get("model_runs") is not None else "–",
+                "top": (f"{input_label(str(top['input']))} ({float(top['total']):.2f})"
+                        if top else "–"),
+            })
+    tornado = []
+    units = {str(i["name"]): str(i.get("unit") or "") for i in results.get("inputs") or []}
+    for key, t in (results.get("tornado") or {}).items():
+        if not t or not t.get("rows"):
+            continue
+        rows = sorted(t["rows"], key=lambda r: -abs((r.get("output_high") or 0.0)
+                                                    - (r.get("output_low") or 0.0)))
+        tornado.append({"name": names.get(key, key), "output": output_name(key),
+                        "base": _p(results, t.get("base")),
+                        "rows": [{
+                            "input": input_label(str(r["input"])),
+                            "low": format_value(r.get("low_value"), _unit_of(r, units), none="–"),
+                            "high": format_value(r.get("high_value"), _unit_of(r, units),
+                                                 none="–"),
+                            "out_low": _p(results, r.get("output_low")),
+                            "out_high": _p(results, r.get("output_high")),
+                        } for r in rows]})
+    return {"tables": tables, "recommendations": recs, "tornado": tornado,
+            "by_stage": by_stage, "output_note": str(results.get("sensitivity_output") or "")}
+
+
+def _unit_of(row: Mapping[str, Any], units: Mapping[str, str]) -> str:
+    return str(row.get("unit") or units.get(str(row["input"]), ""))
+
+
+def _idx(v: Any, lo: Any, hi: Any) -> str:
+    if v is None:
+        return "–"
+    text = f"{float(v):.3f}"
+    if lo is not None and hi is not None:
+        text += f" [{float(lo):.3f}, {float(hi):.3f}]"
+    return text
+
+
+def _reproducibility(results: Mapping[str, Any]) -> list[tuple[str, str]]:
+    rows = [
+        ("tool", f"{results.get('tool', 'risk')} {results.get('version', '')}".strip()),
+        ("results schema", str(results.get("schema", "–"))),
+        ("scenario file", str(results.get("scenario_file") or "–")),
+        ("scenario SHA-256", str(results.get("scenario_sha256") or "–")),
+        ("seed", str(results.get("seed", "–"))),
+        ("samples", f"{int(results['samples']):,}" if results.get("samples") is not None
+         else "–"),
+        ("sampling rule", str(results.get("sampling", "–"))
+         + (" (deterministic: every input fixed)" if results.get("deterministic") else "")),
+        ("failure criterion", str(results.get("criterion", "–"))),
+        ("units", f"{results.get('unit_system', '')} ("
+                  + ", ".join(f"{k}: {v}" for k, v in (results.get("units") or {}).items())
+                  + ")"),
+    ]
+    if results.get("run_date"):
+        rows.append(("date of the run", str(results["run_date"])))
+    prov = results.get("provenance") or {}
+    if prov:
+        rows.append(("provenance", ", ".join(f"{k} {v}" for k, v in prov.items())))
+    if results.get("scenario_file"):
+        rows.append(("to reproduce", f"risk run {results['scenario_file']} --samples "
+                                     f"{results.get('samples')} --seed {results.get('seed')}"))
+    return rows
+
+
+def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> dict[str, Any]:
+    """The template's view of the results: every number formatted with its unit."""
+    numbered: dict[str, dict[str, Any]] = {}
+    for name in [*_FIGURE_ORDER, *(n for n in figures if n not in _FIGURE_ORDER)]:
+        if name in figures:
+            caption = CAPTIONS.get(name, name.replace("_", " "))
+            if name == "envelope" and results.get("operating_points"):
+                caption += " Crosses are the planned operating points."
+            numbered[name] = {"number": len(numbered) + 1, "uri": _data_uri(figures[name]),
+                              "caption": caption,
+                              "name": name, "width": _png_width_in(figures[name])}
+    scenario = _scenario(results)
+    assumptions = list(ASSUMPTIONS)
+    if scenario["log_based"]:
+        assumptions.append("In this scenario these inputs rest at least partly on log "
+                           "correlations, with the scatter stated above: "
+                           + "; ".join(scenario["log_based"]) + ".")
+    return {
+        "title": str(results.get("title") or "Untitled scenario"),
+        "unit": _punit(results),
+        "sections": SECTIONS,
+        "summary": _summary(results),
+        "scenario": scenario,
+        "mechanisms": _mechanism_sections(results),
+        "pore": _pore_section(results),
+        "operating_points": _operating_points(results),
+        "has_profile": bool(((results.get("mechanisms") or {}).get("tunnel_collapse") or {})
+                            .get("profile")),
+        "sensitivity": _sensitivity(results),
+        "assumptions": assumptions,
+        "cautions": CAUTIONS,
+        "reproducibility": _reproducibility(results),
+        "figures": numbered,
+        "run_date": str(results["run_date"]) if results.get("run_date") else None,
+        "samples": (f"{int(results['samples']):,}" if results.get("samples") is not None
+                    else "–"),
+        "deterministic": bool(results.get("deterministic")),
+    }
+
+
+def _environment() -> Environment:
+    return Environment(loader=FileSystemLoader(str(TEMPLATES)), autoescape=True,
+                       undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
+
+
+def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> str:
+    """The memo as one self-contained HTML page (figures as data URIs, CSS inline).
+
+    Parameters
+    ----------
+    results : mapping
+        The parsed ``results.json`` of a run.
+    figures : mapping of str to bytes
+        PNG bytes by figure name (:func:`risk.report.figures.render_all`); figures missing
+        here are left out of the memo.
+    """
+    return _environment().get_template("memo.html.j2").render(memo_context(results, figures))
+
+
+def render_pdf(html: str) -> bytes:
+    """The PDF of a memo page (WeasyPrint; A4, page numbers in the footer)."""
+    from weasyprint import HTML
+
+    fetcher: Any
+    try:  # WeasyPrint >= 66: a fetcher object that can refuse protocols
+        from weasyprint import URLFetcher
+
+        fetcher = URLFetcher(allowed_protocols=("data",))
+    except ImportError:  # pragma: no cover - older WeasyPrint: a fetcher function
+        from weasyprint import default_url_fetcher
+
+        def fetcher(url: str, *args: Any, **kwargs: Any) -> Any:
+            if not url.startswith("data:"):
+                raise ValueError(f"the memo loads no external resource ({url[:60]!r})")
+            return default_url_fetcher(url, *args, **kwargs)
+
+    # the memo is self-contained: anything but an embedded data URI is refused
+    pdf = HTML(string=html, url_fetcher=fetcher).write_pdf()
+    return bytes(pdf) if pdf is not None else b""
+
+
+def build_memo(results: Mapping[str, Any]) -> Memo:
+    """Figures, HTML and PDF of a run's memo, from its results dict alone."""
+    figures = render_all(results)
+    html = render_html(results, figures)
+    return Memo(html=html, pdf=render_pdf(html), figures=dict(figures))

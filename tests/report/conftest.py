@@ -1,0 +1,43 @@
+"""Shared, session-wide runs and renderings for the report tests (rendering is the slow part:
+each figure set and memo is built once)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+import pytest
+
+from risk.report import figures, memo
+from tests.report.shapes import OPENHOLE_DOC, PERFORATED_DOC, augment, real_run, strip_optional
+
+
+@pytest.fixture(scope="session")
+def perforated(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    """A small real perforated run with every announced section."""
+    results, a = real_run(tmp_path_factory.mktemp("perforated"), PERFORATED_DOC)
+    return augment(results, a)
+
+
+@pytest.fixture(scope="session")
+def openhole(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    """A small real open-hole run with every announced section."""
+    results, a = real_run(tmp_path_factory.mktemp("openhole"), OPENHOLE_DOC)
+    return augment(results, a)
+
+
+@pytest.fixture(scope="session")
+def legacy(openhole: dict[str, Any]) -> dict[str, Any]:
+    """The open-hole run in the oldest results shape (no optional section)."""
+    return strip_optional(openhole)
+
+
+@pytest.fixture(scope="session")
+def perforated_figures(perforated: dict[str, Any]) -> dict[str, bytes]:
+    return figures.render_all(perforated)
+
+
+@pytest.fixture(scope="session")
+def perforated_memo(perforated: dict[str, Any],
+                    perforated_figures: dict[str, bytes]) -> memo.Memo:
+    html = memo.render_html(perforated, perforated_figures)
+    return memo.Memo(html=html, pdf=memo.render_pdf(html), figures=perforated_figures)

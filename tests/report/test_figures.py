@@ -1,0 +1,161 @@
+"""Figures: PNG output, content drawn from results.json, units on axes, skipping absent sections,
+byte-identical re-rendering."""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from typing import Any
+
+import matplotlib.image as mpimg
+import numpy as np
+import pytest
+from matplotlib.figure import Figure
+from matplotlib.projections.polar import PolarAxes
+
+from risk.report import figures
+
+PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), section 5.2
+
+ALL = set(figures.FIGURES)
+
+
+def _pixels(png: bytes) -> np.ndarray:
+    return np.asarray(mpimg.imread(io.BytesIO(png), format="png"))[..., :3]
+
+
+def _assert_drawn(png: bytes) -> None:
+    """A PNG that decodes to a picture with real content: not one flat colour, and a
+    reasonable share of non-white pixels (lines, bars, text)."""
+    assert png[:8] == PNG_MAGIC
+    px = _pixels(png)
+    assert px.shape[0] > 200 and px.shape[1] > 200
+    assert float(px.std()) > 0.05
+    non_white = float(np.mean((px < 0.9).any(axis=2)))
+    assert 0.01 < non_white < 0.95
+
+
+def _figure(drawn: Any) -> Figure:
+    return drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True)
+
+
+def test_perforated_run_draws_every_figure(perforated_figures):
+    assert set(perforated_figures) == ALL
+    for png in perforated_figures.values():
+        _assert_drawn(png)
+
+
+def test_open_hole_has_no_shot_directions(openhole):
+    assert figures.plot_shot_directions(openhole) is None
+    # every other figure applies to an open hole with all sections present
+    for name in ALL - {"shot_directions"}:
+        assert figures.FIGURES[name](openhole) is not None, name
+
+
+def test_oldest_results_shape_draws_only_what_applies(legacy):
+    pngs = figures.render_all(legacy)
+    assert set(pngs) == {"failure_probability", "envelope"}
+    for png in pngs.values():
+        _assert_drawn(png)
+
+
+@pytest.mark.parametrize("results", [
+    {},
+    {"mechanisms": {}},
+    {"mechanisms": {"yield_onset": {"name": "x", "stages": []}}, "inputs": [],
+     "sensitivity": {}, "tornado": {}, "input_rank_correlation": None},
+])
+def test_absent_sections_are_skipped(results):
+    assert figures.render_all(results) == {}
+
+
+def test_same_results_give_identical_png(perforated, perforated_figures):
+    # regression check of determinism: a second rendering is byte-identical
+    for name in ("failure_probability", "shot_directions", "input_correlation"):
+        again = figures._png(_figure(figures.FIGURES[name](perforated)))
+        assert again == perforated_figures[name], name
+
+
+def test_png_carries_no_software_stamp(perforated_figures):
+    for png in perforated_figures.values():
+        assert b"Matplotlib" not in png
+
+
+def test_every_axis_label_has_a_unit(perforated):
+    """Every labelled axis names its unit in brackets; polar panels name theirs in the legend
+    title, the heatmap on its colour bar."""
+    unit = re.compile(r"\[[^\]]+\]")
+    for name, plot in figures.FIGURES.items():
+        fig = _figure(plot(perforated))
+        labels = [lab for ax in fig.axes if ax.get_visible() and not isinstance(ax, PolarAxes)
+                  for lab in (ax.get_xlabel(), ax.get_ylabel()) if lab]
+        labels += [leg.get_title().get_text() for leg in fig.legends
+                   if leg.get_title().get_text()]
+        assert labels, name
+        for lab in labels:
+            assert unit.search(lab), (name, lab)
+        if name == "shot_directions":
+            assert "[-]" in labels[-1] and "[deg]" in labels[-1]
+
+
+def _lines(fig: Figure, label: str) -> list[Any]:
+    return [ln for ax in fig.axes for ln in ax.get_lines() if ln.get_label() == label]
+
+
+def test_failure_curves_are_the_results_values(perforated):
+    fig = figures.plot_failure_probability(perforated)
+    assert fig is not None
+    for key, mech in perforated["mechanisms"].items():
+        if "stages" not in mech or "failure_probability" not in mech["stages"][0]:
+            continue
+        lines = _lines(fig, mech["name"])
+        assert len(lines) == len(mech["stages"])
+        for line, st in zip(lines, mech["stages"], strict=True):
+            want = [r["p"] for r in st["failure_probability"]]
+            np.testing.assert_array_equal(line.get_ydata(), want, err_msg=key)
+
+
+def test_envelope_lines_are_the_results_values(perforated):
+    fig = figures.plot_envelope(perforated)
+    assert fig is not None
+    lines = _lines(fig, "P50 critical wall pressure")
+    stages = sorted(perforated["mechanisms"]["yield_onset"]["stages"],
+                    key=lambda s: s["reservoir_pressure"])
+    want = [s["critical_wall_pressure"]["p50"] or 0.0 for s in stages]
+    np.testing.assert_array_equal(lines[0].get_xdata(), [s["reservoir_pressure"] for s in stages])
+    np.testing.assert_array_equal(lines[0].get_ydata(), want)
+    # zero-drawdown line p_wf = p_r (derived: D = p_r - p_wf = 0)
+    zero = [ln for ax in fig.axes for ln in ax.get_lines() if "no drawdown" in ln.get_label()]
+    np.testing.assert_array_equal(zero[0].get_xdata(), zero[0].get_ydata())
+
+
+def test_best_shot_is_highlighted(perforated):
+    fig = figures.plot_shot_directions(perforated)
+    assert fig is not None
+    stages = perforated["mechanisms"]["yield_onset"]["stages"]
+    polar = [ax for ax in fig.axes if isinstance(ax, PolarAxes) and ax.get_visible()]
+    for ax, st in zip(polar, stages, strict=False):
+        bars = ax.patches
+        assert len(bars) == len(st["shots"])
+        for bar, shot in zip(bars, st["shots"], strict=True):
+            highlighted = np.allclose(bar.get_facecolor()[:3], figures.PALETTE[2])
+            assert highlighted == math.isclose(shot["angle"], st["best_shot_angle"])
+            assert bar.get_height() == pytest.approx(shot["probability_at_limit"])
+
+
+def test_format_value():
+    # expected strings: common practice for engineering tables (derived from the unit rules)
+    assert figures.format_value(549.985, "psi") == "550 psi"
+    assert figures.format_value(8200.0, "psi") == "8,200 psi"
+    assert figures.format_value(28.5, "MPa") == "28.50 MPa"
+    assert figures.format_value(-0.001, "MPa") == "0.00 MPa"
+    assert figures.format_value(None, "psi") == "never"
+    assert figures.format_value(0.1, "-") == "0.1"
+    assert figures.format_value(0.98, "psi/ft") == "0.98 psi/ft"
+    assert figures.format_value(12345.0, "ft") == "12,345 ft"
+
+
+def test_input_label():
+    assert figures.input_label("ucs") == "UCS"
+    assert figures.input_label("some_new_input") == "some new input"

@@ -1,0 +1,263 @@
+"""The memo: sections, the limits table against results.json, embedded figures, no external
+resource, escaping, absent sections, and the PDF (pages and text)."""
+
+from __future__ import annotations
+
+import base64
+import copy
+import dataclasses
+import json
+import re
+import zlib
+from html.parser import HTMLParser
+from typing import Any
+
+import pytest
+
+from risk.report import figures, memo
+
+PDF_MAGIC = b"%PDF-"  # ISO 32000-1:2008, section 7.5.2 (file header)
+
+
+class _Collector(HTMLParser):
+    """Headings, tagged table cells, image sources and every attribute of an HTML page."""
+
+    def __init__(self) -> None:
+        super().__init__(convert_charrefs=True)
+        self.h2: list[str] = []
+        self.cells: list[tuple[dict[str, str | None], str]] = []
+        self.imgs: list[dict[str, str | None]] = []
+        self.attrs: list[tuple[str, str, str | None]] = []
+        self.tags: list[str] = []
+        self._h2: list[str] | None = None
+        self._cell: tuple[dict[str, str | None], list[str]] | None = None
+
+    def handle_starttag(self, tag: str, attrs: list[tuple[str, str | None]]) -> None:
+        a = dict(attrs)
+        self.tags.append(tag)
+        self.attrs += [(tag, k, v) for k, v in attrs]
+        if tag == "h2":
+            self._h2 = []
+        if tag in ("td", "th") and "data-field" in a:
+            self._cell = (a, [])
+        if tag == "img":
+            self.imgs.append(a)
+
+    def handle_endtag(self, tag: str) -> None:
+        if tag == "h2" and self._h2 is not None:
+            self.h2.append(" ".join("".join(self._h2).split()))
+            self._h2 = None
+        if tag in ("td", "th") and self._cell is not None:
+            self.cells.append((self._cell[0], "".join(self._cell[1]).strip()))
+            self._cell = None
+
+    def handle_data(self, data: str) -> None:
+        if self._h2 is not None:
+            self._h2.append(data)
+        if self._cell is not None:
+            self._cell[1].append(data)
+
+
+def _parse(html: str) -> _Collector:
+    c = _Collector()
+    c.feed(html)
+    return c
+
+
+def test_every_section_heading_in_order(perforated_memo):
+    h2 = _parse(perforated_memo.html).h2
+    found = [next(i for i, h in enumerate(h2) if title in h) for title in memo.SECTIONS]
+    assert found == sorted(found) and len(found) == 7
+
+
+def test_limits_table_equals_results(perforated, perforated_memo):
+    unit = perforated["units"]["pressure"]
+    cells = [(a, text) for a, text in _parse(perforated_memo.html).cells
+             if a.get("data-mechanism")]
+    expected = {(key, k, field): st[field]
+                for key, mech in perforated["mechanisms"].items()
+                if "failure_probability" in (mech.get("stages") or [{}])[0]
+                for k, st in enumerate(mech["stages"])
+                for field in ("drawdown_limit", "drawdown_limit_lower")}
+    seen = {}
+    for a, text in cells:
+        key = (a["data-mechanism"], int(a["data-stage"] or -1), a["data-field"])
+        value = json.loads(a["data-value"] or "")
+        seen[key] = value
+        assert value == expected[key], key
+        shown = figures.format_value(value, unit, none="not resolved")
+        assert text.startswith(shown), (key, text, shown)
+    assert seen.keys() == expected.keys()
+
+
+def test_every_figure_embedded_as_data_uri(perforated_memo):
+    imgs = _parse(perforated_memo.html).imgs
+    by_payload = {base64.b64decode(i["src"].split(",", 1)[1]) for i in imgs
+                  if (i["src"] or "").startswith("data:image/png;base64,")}
+    assert len(imgs) == len(perforated_memo.figures)
+    for name, png in perforated_memo.figures.items():
+        assert png in by_payload, name
+
+
+def test_no_external_resource(perforated_memo):
+    html = perforated_memo.html
+    c = _parse(html)
+    text = re.sub(r"data:image/png;base64,[A-Za-z0-9+/=]+", "", html)
+    assert "http:" not in text and "https:" not in text and "//" not in text
+    for tag, attr, value in c.attrs:
+        if attr in ("src", "href", "srcset", "poster", "data"):
+            assert (value or "").startswith("data:"), (tag, attr, (value or "")[:40])
+    assert "link" not in c.tags and "script" not in c.tags and "iframe" not in c.tags
+    assert "@import" not in html and not re.search(r"url\((?!data:)", html)
+
+
+def test_text_from_results_is_escaped(perforated, perforated_memo):
+    # the fixture title holds "<well> & co"
+    assert "<well>" not in perforated_memo.html
+    assert "&lt;well&gt; &amp; co" in perforated_memo.html
+    hostile = copy.deepcopy(perforated)
+    hostile["mechanisms"]["yield_onset"]["stages"][0]["convergence_warning"] = "<b>bold</b>"
+    hostile["mechanisms"]["yield_onset"]["name"] = "<i>name</i>"
+    hostile["inputs"][0]["source"] = "<script>x</script>"
+    html = memo.render_html(hostile, {})
+    for raw in ("<b>bold</b>", "<i>name</i>", "<script>"):
+        assert raw not in html
+    for escaped in ("&lt;b&gt;bold&lt;/b&gt;", "&lt;i&gt;name&lt;/i&gt;", "&lt;script&gt;"):
+        assert escaped in html
+
+
+def test_convergence_warnings_shown_prominently(perforated, perforated_memo):
+    n_warn = sum(1 for m in perforated["mechanisms"].values() for s in m.get("stages") or []
+                 if s.get("convergence_warning"))
+    assert n_warn > 0  # the 128-sample fixture cannot resolve a 5% risk (derived: n p = 6.4)
+    assert perforated_memo.html.count('<div class="warning" role="alert">') == len(
+        [m for m in perforated["mechanisms"].values()
+         if any(s.get("convergence_warning") for s in m.get("stages") or [])])
+
+
+def test_recommendation_names_the_largest_total_index(perforated, perforated_memo):
+    rows = perforated["sensitivity"]["yield_onset"]
+    top = max(rows, key=lambda r: r["total"])
+    assert (f"measure {figures.input_label(top['input'])} next"
+            in perforated_memo.html)
+
+
+def test_safety_and_assumptions_stated(perforated_memo):
+    text = " ".join(perforated_memo.html.split())
+    for phrase in ("Terzaghi", "unbounded medium", "far-field", "Willson et al. 2002",
+                   "Yeow et al. 2004", "Palmer et al. 2003", "Bellarby (2009)", "McNally 1987",
+                   "Chang, Zoback &amp; Khaksar 2006", "strain softening", "thermal",
+                   "screening tool", "licensed professional", "local sanding history",
+                   "loss of containment", "Ramp rates up slowly", "Monitor sand production",
+                   "Common practice"):
+        assert phrase in text, phrase
+
+
+def test_reproducibility_section(perforated, perforated_memo):
+    html = perforated_memo.html
+    for value in (perforated["scenario_sha256"], str(perforated["seed"]),
+                  perforated["sampling"], perforated["criterion"], perforated["version"],
+                  perforated["run_date"]):
+        assert value in html
+
+
+def test_rendering_is_pure_and_repeatable(perforated, perforated_figures, perforated_memo):
+    assert memo.render_html(perforated, perforated_figures) == perforated_memo.html
+    no_date = {k: v for k, v in perforated.items() if k != "run_date"}
+    html = memo.render_html(no_date, {})
+    assert perforated["run_date"] not in html and "date of the run" not in html
+
+
+def test_forbidden_words_absent(perforated_memo):
+    low = perforated_memo.html.lower()
+    for word in ("transcript", "lecture", "seed document"):
+        assert word not in low
+
+
+def test_oldest_results_shape_renders_with_notes(legacy):
+    m = memo.build_memo(legacy)
+    assert dataclasses.is_dataclass(m)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        m.html = ""  # type: ignore[misc]
+    assert set(m.figures) == {"failure_probability", "envelope"}
+    assert m.pdf.startswith(PDF_MAGIC)
+    for note in ("do not list the inputs", "Open hole: there are no perforation directions",
+                 "No tunnel-collapse profile", "Pore collapse was not assessed",
+                 "No sensitivity study"):
+        assert note in m.html, note
+    assert [h for h in _parse(m.html).h2 if any(s in h for s in memo.SECTIONS)]
+
+
+# --------------------------------------------------------------------------- PDF
+
+def _pdf_page_objects(pdf: bytes) -> int:
+    """Count /Type /Page objects, looking inside Flate-compressed object streams too
+    (ISO 32000-1:2008, sections 7.5.7 and 7.7.3.3) — an independent check of the page count."""
+    pattern = re.compile(rb"/Type\s*/Page(?![A-Za-z])")
+    n = len(pattern.findall(pdf))
+    for m in re.finditer(rb"stream\r?\n(.*?)\r?\nendstream", pdf, re.S):
+        try:
+            n += len(pattern.findall(zlib.decompress(m.group(1))))
+        except zlib.error:
+            continue
+    return n
+
+
+def _page_texts(html: str) -> list[str]:
+    from weasyprint import HTML
+
+    def walk(box: Any) -> Any:
+        yield box
+        for child in getattr(box, "children", None) or []:
+            yield from walk(child)
+
+    doc = HTML(string=html).render()
+    return [" ".join("".join(b.text for b in walk(p._page_box) if type(b).__name__ == "TextBox")
+                     .split()) for p in doc.pages]
+
+
+@pytest.fixture(scope="module")
+def pages(perforated_memo) -> list[str]:
+    return _page_texts(perforated_memo.html)
+
+
+def test_pdf_header_and_page_count(perforated_memo, pages):
+    assert perforated_memo.pdf.startswith(PDF_MAGIC)
+    assert _pdf_page_objects(perforated_memo.pdf) == len(pages)
+    # the layout puts the summary on page 1 and starts "Assumptions" on a new page
+    # (CSS break-before), after the results and sensitivity pages (derived from the template)
+    first = [i for i, t in enumerate(pages) if "5 Assumptions and limitations" in t][0]
+    assert pages[first].startswith("5 Assumptions and limitations")
+    assert 6 <= len(pages) <= 30
+
+
+def test_pdf_text_contains_the_limits(perforated, pages):
+    unit = perforated["units"]["pressure"]
+    first = pages[0]
+    assert "1 Summary" in first
+    for key, mech in perforated["mechanisms"].items():
+        if "failure_probability" not in (mech.get("stages") or [{}])[0]:
+            continue
+        assert mech["name"].split()[0] in first, key
+        for st in mech["stages"]:
+            assert figures.format_value(st["drawdown_limit"], unit) in first
+            assert figures.format_value(st["reservoir_pressure"], unit) in first
+
+
+def test_pdf_sections_in_order(pages):
+    where = []
+    for k, title in enumerate(memo.SECTIONS, start=1):
+        where.append(next(i for i, t in enumerate(pages) if f"{k} {title}" in t))
+    assert where == sorted(where)
+
+
+def test_pdf_refuses_external_resources(tmp_path, perforated_figures):
+    """The PDF renderer loads nothing but data URIs: a figure linked as a local file is not
+    embedded, the same figure as a data URI is."""
+    png = perforated_figures["failure_probability"]
+    path = tmp_path / "figure.png"
+    path.write_bytes(png)
+    uri = "data:image/png;base64," + base64.b64encode(png).decode()
+    linked = memo.render_pdf(f'<html><body><img src="{path.as_uri()}"></body></html>')
+    embedded = memo.render_pdf(f'<html><body><img src="{uri}"></body></html>')
+    assert len(embedded) - len(linked) > len(png) // 4
