@@ -22,17 +22,30 @@ class RunResult:
     assessment: Any
 
 
-def _check_overrides(samples: int | None, seed: int | None) -> None:
-    if samples is not None and not 1 <= samples <= MAX_SAMPLES:
-        raise ScenarioError.single("--samples", samples,
-                                   f"a whole number of samples from 1 to {MAX_SAMPLES:,}")
-    if seed is not None and not 0 <= seed < 2**63:
-        raise ScenarioError.single("--seed", seed, "a whole number >= 0")
+def _whole(option: str, value: int | str | None, expected: str, low: int, high: int
+           ) -> int | None:
+    """A command-line whole number (given as text or int) within [low, high], else refused."""
+    if value is None:
+        return None
+    try:
+        number = int(str(value).strip().replace("_", ""))
+    except ValueError:
+        raise ScenarioError.single(option, value, expected) from None
+    if not low <= number <= high:
+        raise ScenarioError.single(option, value, expected)
+    return number
 
 
-def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: int | None = None,
-                 seed: int | None = None, show_progress: bool = False,
-                 force: bool = False) -> RunResult:
+def _check_overrides(samples: int | str | None, seed: int | str | None
+                     ) -> tuple[int | None, int | None]:
+    return (_whole("--samples", samples, f"a whole number of samples from 1 to "
+                   f"{MAX_SAMPLES:,}", 1, MAX_SAMPLES),
+            _whole("--seed", seed, "a whole number >= 0 (below 2**63)", 0, 2**63 - 1))
+
+
+def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
+                 samples: int | str | None = None, seed: int | str | None = None,
+                 show_progress: bool = False, force: bool = False) -> RunResult:
     """Load, assess and write the outputs (``results.json`` ...) into the folder ``out``.
 
     Raises
@@ -40,7 +53,7 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: 
     ScenarioError
         For any bad input (the file, the overrides or the output folder).
     """
-    _check_overrides(samples, seed)
+    n_samples, n_seed = _check_overrides(samples, seed)
     scenario = load_scenario(path)
     from risk.report.writer import check_output_dir, dumps, publish
 
@@ -57,9 +70,9 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run", samples: 
             def tick(done: int, total: int) -> None:
                 bar.update(task, completed=done, total=total)
 
-            assessment = assess(scenario, samples=samples, seed=seed, progress=tick)
+            assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=tick)
     else:
-        assessment = assess(scenario, samples=samples, seed=seed)
+        assessment = assess(scenario, samples=n_samples, seed=n_seed)
     summary = summarize(assessment)
     run_info = {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
                 "scenario_file": str(path)}

@@ -32,10 +32,14 @@ def _fail(message: str, code: int) -> None:
 
 
 def _guard(fn: Any, *args: Any, **kwargs: Any) -> Any:
+    import warnings
+
     from risk.errors import ScenarioError
 
     try:
-        return fn(*args, **kwargs)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")  # numerical warnings are for developers, not users
+            return fn(*args, **kwargs)
     except ScenarioError as err:
         _fail(_escape(err.message), EXIT_BAD_INPUT)
     except typer.Exit:
@@ -82,8 +86,10 @@ def run(
     file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")],
     out: Annotated[Path, typer.Option("--out", "-o", help="Output folder (replaced whole).")
                    ] = Path("reports/run"),
-    samples: Annotated[int | None, typer.Option(help="Override [analysis] samples.")] = None,
-    seed: Annotated[int | None, typer.Option(help="Override [analysis] seed.")] = None,
+    samples: Annotated[str | None, typer.Option(
+        help="Override [analysis] samples (a whole number).")] = None,
+    seed: Annotated[str | None, typer.Option(
+        help="Override [analysis] seed (a whole number).")] = None,
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
     as_json: Annotated[bool, typer.Option("--json", help="Print results.json.")] = False,
     force: Annotated[bool, typer.Option(

@@ -19,6 +19,8 @@ class RiskError(Exception):
 
 
 def _show(value: Any) -> str:
+    if hasattr(value, "isoformat"):  # TOML dates and times: as written in the file
+        return str(value.isoformat())
     text = repr(value)
     return text if len(text) <= 80 else text[:77] + "..."
 

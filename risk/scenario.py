@@ -16,6 +16,7 @@ from __future__ import annotations
 import difflib
 import hashlib
 import math
+import re
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -25,7 +26,7 @@ from typing import Any, Final
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, UNIT_SYSTEMS
 from risk.errors import Problem, ScenarioError
 from risk.mechanics.criteria import CRITERIA
-from risk.uncertainty import Bounds, Marginal, parse_input
+from risk.uncertainty import MAGNITUDE_TEXT, Bounds, Marginal, magnitude_ok, parse_input
 
 __all__ = [
     "InputSpec",
@@ -201,7 +202,23 @@ def _did_you_mean(word: str, choices: tuple[str, ...] | list[str]) -> str:
 
 
 def _is_number(v: object) -> bool:
-    return isinstance(v, int | float) and not isinstance(v, bool)
+    """A plain TOML number of a sensible magnitude (see risk.uncertainty.magnitude_ok)."""
+    return (isinstance(v, int | float) and not isinstance(v, bool) and _num_ok(v)
+            and math.isfinite(float(v)) and magnitude_ok(float(v)))
+
+
+def _num_ok(v: int | float) -> bool:
+    try:
+        float(v)
+    except OverflowError:
+        return False
+    return True
+
+
+def _key_text(key: object) -> str:
+    """A key as TOML would need it written: bare when possible, else quoted."""
+    text = str(key)
+    return text if re.fullmatch(r"[A-Za-z0-9_-]+", text) else '"' + text.replace('"', '\\"') + '"'
 
 
 class _Collector:
@@ -225,11 +242,13 @@ class _Collector:
             return None
         v = table[key]
         if integer:
-            if not isinstance(v, int) or isinstance(v, bool):
+            if not isinstance(v, int) or isinstance(v, bool) or not _num_ok(v):
                 self.add(full, v, expected)
                 return None
         elif not _is_number(v):
-            self.add(full, v, expected)
+            self.add(full, v, expected if not isinstance(v, int | float) or isinstance(v, bool)
+                     or (_num_ok(v) and not math.isfinite(float(v)))
+                     else f"{MAGNITUDE_TEXT}; {expected}")
             return None
         fv = float(v)
         if not math.isfinite(fv) or (check is not None and not check(fv)):
@@ -242,7 +261,7 @@ def _check_keys(c: _Collector, table: Mapping[str, Any], section: str) -> None:
     allowed = _SECTIONS[section]
     for key in table:
         if key not in allowed:
-            where = f"{section}.{key}" if section else key
+            where = f"{section}.{_key_text(key)}" if section else _key_text(key)
             kind = "section" if not section and isinstance(table[key], dict) else "key"
             c.add(where, table[key],
                   f"a known {kind}{' in [' + section + ']' if section else ''}: "
@@ -266,7 +285,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         c.add("title", title, "a text")
         title = ""
     units = doc.get("units")
-    if units not in UNIT_SYSTEMS:
+    if not isinstance(units, str) or units not in UNIT_SYSTEMS:
         c.add("units", units, 'units = "field" (psi, ft, in, degrees, psi/ft) or "si" '
               "(MPa, m, mm, degrees, kPa/m)"
               + (_did_you_mean(units, list(UNIT_SYSTEMS)) if isinstance(units, str) else ""),
@@ -281,7 +300,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         if not isinstance(t, dict):
             c.add(name, t, f"a table [{name}]")
             t = {}
-        elif name != "correlation" and name not in doc:
+        elif name not in ("correlation", "analysis") and name not in doc:
             c.add(name, None, f"a [{name}] table", found_text="nothing (the table is missing)")
         else:
             _check_keys(c, t, name)
@@ -296,7 +315,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     azi = c.number(w, "well", "azimuth", required=False, check=math.isfinite,
                    expected="an azimuth in degrees clockwise from north")
     completion = w.get("completion")
-    if completion not in COMPLETIONS:
+    if not isinstance(completion, str) or completion not in COMPLETIONS:
         c.add("well.completion", completion, 'completion = "perforated" or "openhole"'
               + (_did_you_mean(completion, list(COMPLETIONS))
                  if isinstance(completion, str) else ""),
@@ -310,7 +329,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     if completion == "perforated":
         raw_shots = w.get("shot_angles")
         if (not isinstance(raw_shots, list) or not raw_shots
-                or not all(_is_number(a) and math.isfinite(a) for a in raw_shots)):
+                or not all(_is_number(a) for a in raw_shots)):
             c.add("well.shot_angles", raw_shots,
                   "a non-empty list of shot angles in degrees from the high side, "
                   "e.g. [0, 60, 120, 180, 240, 300]",
@@ -323,7 +342,11 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
             if len(set(reduced)) != len(reduced):
                 c.add("well.shot_angles", raw_shots, "distinct directions (modulo 360 degrees)")
             shots = tuple(a * conv["angle"] for a in reduced)
-    elif completion == "openhole" and "shot_angles" in w:
+    if completion == "openhole" and "tunnel_diameter" in w:
+        c.add("well.tunnel_diameter", w["tunnel_diameter"],
+              'no tunnel diameter for completion = "openhole" (use hole_diameter, or set '
+              'completion = "perforated")')
+    if completion == "openhole" and "shot_angles" in w:
         c.add("well.shot_angles", w["shot_angles"],
               'no shot angles for completion = "openhole" (remove the key, or set '
               'completion = "perforated")')
@@ -367,7 +390,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     if _is_number(stages_raw):
         stages_raw = [stages_raw]
     if (not isinstance(stages_raw, list) or not stages_raw
-            or not all(_is_number(s) and math.isfinite(s) and s > 0 for s in stages_raw)):
+            or not all(_is_number(s) and s > 0 for s in stages_raw)):
         if "production" in doc:
             c.add("production.reservoir_pressure", stages_raw,
                   f"a list of reservoir pressures > 0 [{disp['pressure']}], one per depletion "
@@ -393,7 +416,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     else:
         for i, op in enumerate(raw_ops):
             if (isinstance(op, list) and len(op) == 2
-                    and all(_is_number(v) and math.isfinite(v) and v >= 0 for v in op)
+                    and all(_is_number(v) and v >= 0 for v in op)
                     and op[1] <= op[0]):
                 ops.append((float(op[0]) * conv["pressure"], float(op[1]) * conv["pressure"]))
             else:
@@ -404,7 +427,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     # ---- analysis -----------------------------------------------------------------------------
     an = sections["analysis"]
     criterion = an.get("criterion", "mohr-coulomb")
-    if criterion not in CRITERIA:
+    if not isinstance(criterion, str) or criterion not in CRITERIA:
         names = sorted(CRITERIA)
         c.add("analysis.criterion", criterion, "one of " + ", ".join(names)
               + (_did_you_mean(criterion, names) if isinstance(criterion, str) else ""))
@@ -415,12 +438,12 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                     check=lambda v: 0 <= v < 2**63,
                     expected="a whole number >= 0 (the random seed)")
     sampling = an.get("sampling", "sobol")
-    if sampling not in SAMPLING_RULES:
+    if not isinstance(sampling, str) or sampling not in SAMPLING_RULES:
         c.add("analysis.sampling", sampling, "one of " + ", ".join(SAMPLING_RULES)
               + (_did_you_mean(sampling, list(SAMPLING_RULES))
                  if isinstance(sampling, str) else ""))
     cavity = an.get("effective_strength_cavity", "tunnel")
-    if cavity not in ("tunnel", "tip"):
+    if not isinstance(cavity, str) or cavity not in ("tunnel", "tip"):
         c.add("analysis.effective_strength_cavity", cavity,
               '"tunnel" (cylindrical tunnel or open-hole wall) or "tip" (spherical perforation '
               "tip)")
@@ -438,7 +461,8 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     else:
         for i, pair in enumerate(pairs):
             if (not isinstance(pair, list) or len(pair) != 3 or not isinstance(pair[0], str)
-                    or not isinstance(pair[1], str) or not _is_number(pair[2])):
+                    or not isinstance(pair[1], str) or not isinstance(pair[2], int | float)
+                    or isinstance(pair[2], bool) or not _num_ok(pair[2])):
                 c.add(f"correlation.pairs[{i}]", pair,
                       '[name, name, rank correlation], e.g. ["ucs", "friction_angle", 0.5]')
             else:
@@ -552,38 +576,46 @@ def _physics_checks(c: _Collector, inputs: Mapping[str, Marginal], given: Mappin
     """Checks that need several inputs together, on their medians (fixed values)."""
     conv = TO_INTERNAL[units]
 
-    def central(name: str) -> tuple[str, float] | None:
+    def central(name: str) -> tuple[str, float, str] | None:
+        """(key, central stress at depth [MPa], the value as written with its unit)."""
         key = name if given.get(name) == "absolute" else f"{name}_gradient"
         m = inputs.get(key)
         if m is None:
             return None
         v = m.median if not m.is_fixed else m.value
-        return key, (v if key == name else v * depth)
+        dim = "pressure" if key == name else "gradient"
+        written = (f"{v / conv[dim]:.6g} {disp[dim]}" + ("" if m.is_fixed else " (median)"))
+        return key, (v if key == name else v * depth), written
 
     sv, pp = central("sv"), central("pp")
     sh, sH = central("shmin"), central("shmax")
 
     def show(v: float) -> str:
-        return f"{v / conv['pressure']:.6g} {disp['pressure']} at the interval depth"
+        return f"{v / conv['pressure']:.6g} {disp['pressure']}"
+
+    def found(x: tuple[str, float, str]) -> str:
+        if x[0].endswith("_gradient"):
+            return f"{x[2]}, i.e. {show(x[1])} at the interval depth"
+        return x[2]
 
     if sv and pp and pp[1] >= sv[1]:
-        c.add(f"stress.{pp[0]}", show(pp[1]),
-              f"an initial pore pressure below the overburden stress ({show(sv[1])})",
-              found_text=show(pp[1]))
+        c.add(f"stress.{pp[0]}", found(pp),
+              f"an initial pore pressure below the overburden stress ({found(sv)})",
+              found_text=found(pp))
     if sh and sH and sh[1] > sH[1] * (1 + 1e-12):
-        c.add(f"stress.{sh[0]}", show(sh[1]),
-              f"Shmin <= SHmax ({show(sH[1])}); swap them or check the azimuth",
-              found_text=show(sh[1]))
+        c.add(f"stress.{sh[0]}", found(sh),
+              f"Shmin <= SHmax ({found(sH)}); swap them or check the azimuth",
+              found_text=found(sh))
     if sh and pp and sh[1] <= pp[1]:
-        c.add(f"stress.{sh[0]}", show(sh[1]),
-              f"Shmin above the initial pore pressure ({show(pp[1])}); otherwise the rock "
-              "would be fracturing", found_text=show(sh[1]))
+        c.add(f"stress.{sh[0]}", found(sh),
+              f"Shmin above the initial pore pressure ({found(pp)}); otherwise the rock "
+              "would be fracturing", found_text=found(sh))
     if sv:
-        for i, s in enumerate(stages):
-            if s >= sv[1]:
-                c.add(f"production.reservoir_pressure[{i}]", show(s),
-                      f"a reservoir pressure below the overburden stress ({show(sv[1])})",
-                      found_text=show(s))
+        for i, st_ in enumerate(stages):
+            if st_ >= sv[1]:
+                c.add(f"production.reservoir_pressure[{i}]", show(st_),
+                      f"a reservoir pressure below the overburden stress ({found(sv)})",
+                      found_text=show(st_))
 
 
 def load_scenario(path: str | Path) -> Scenario:
@@ -617,6 +649,8 @@ def load_scenario(path: str | Path) -> Scenario:
         raise ScenarioError.single("scenario", name, "a UTF-8 text file in TOML",
                                    found_text=f"binary or non-UTF-8 content (byte "
                                    f"{exc.start})") from None
+    if text.startswith("\ufeff"):
+        text = text[1:]  # a UTF-8 byte-order mark, as some editors write
     if "\x00" in text:
         raise ScenarioError.single("scenario", name, "a UTF-8 text file in TOML",
                                    found_text="binary content (NUL bytes)")
@@ -625,5 +659,9 @@ def load_scenario(path: str | Path) -> Scenario:
     except tomllib.TOMLDecodeError as exc:
         raise ScenarioError.single("scenario", name, "valid TOML",
                                    found_text=f"a syntax error: {exc}") from None
+    except RecursionError:
+        raise ScenarioError.single("scenario", name, "a TOML scenario of sensible depth",
+                                   found_text="arrays or tables nested too deeply to read"
+                                   ) from None
     sha = hashlib.sha256(data).hexdigest()
     return parse_scenario(doc, source_name=name, sha256=sha)

@@ -125,8 +125,28 @@ def _did_you_mean(word: str, choices: Sequence[str]) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+#: Plain numbers in a scenario must be 0 or of magnitude in [MIN_MAGNITUDE, MAX_MAGNITUDE]:
+#: wider values are typing errors, and they overflow or underflow the unit conversions.
+MAX_MAGNITUDE: Final = 1e12
+MIN_MAGNITUDE: Final = 1e-12
+MAGNITUDE_TEXT: Final = "a number of magnitude between 1e-12 and 1e12 (or 0)"
+
+
 def _is_number(value: object) -> bool:
-    return isinstance(value, numbers.Real) and not isinstance(value, bool)
+    """A real number (not a bool) that converts to a float without overflow."""
+    if not isinstance(value, numbers.Real) or isinstance(value, bool):
+        return False
+    try:
+        float(value)
+    except OverflowError:
+        return False
+    return True
+
+
+def magnitude_ok(value: float) -> bool:
+    """0, or a finite magnitude within [MIN_MAGNITUDE, MAX_MAGNITUDE]."""
+    a = abs(value)
+    return a == 0.0 or MIN_MAGNITUDE <= a <= MAX_MAGNITUDE
 
 
 # --------------------------------------------------------------------------------------------
@@ -543,7 +563,8 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
     """
     if not scale > 0 or not math.isfinite(scale):
         raise ValueError(f"scale must be a finite number > 0, got {scale!r}")
-    if _is_number(raw):
+    plain = isinstance(raw, numbers.Real) and not isinstance(raw, bool)
+    if plain:
         table: Mapping[str, Any] = {"dist": "fixed", "value": raw}
     elif isinstance(raw, Mapping):
         table = raw
@@ -552,6 +573,11 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
             key, raw, "a number or a table like { dist = \"normal\", mean = ..., sd = ... }")
 
     problems: list[Problem] = []
+
+    def where(name: str) -> str:
+        """Key of a parameter in messages (a plain number is the key itself)."""
+        return key if plain else f"{key}.{name}"
+
     dist = table.get("dist")
     if dist is None:
         raise ScenarioError.single(
@@ -576,9 +602,13 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
                                     f"only parameters {', '.join(allowed)} for {dist}{hint}",
                                     found_text=f"unknown parameter {name!r} = {value!r}"))
         elif not _is_number(value):
-            problems.append(Problem(f"{key}.{name}", value, "a number"))
+            problems.append(Problem(where(name), value,
+                                    "a number" if not isinstance(value, numbers.Real)
+                                    or isinstance(value, bool) else MAGNITUDE_TEXT))
         elif not math.isfinite(float(value)):
-            problems.append(Problem(f"{key}.{name}", value, "a finite number"))
+            problems.append(Problem(where(name), value, "a finite number"))
+        elif not magnitude_ok(float(value)):
+            problems.append(Problem(where(name), value, MAGNITUDE_TEXT))
         else:
             given[name] = float(value)
 
@@ -612,12 +642,21 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
     ordered = [n for n in allowed if n in given]
     internal = {n: given[n] if n in _DIMENSIONLESS else given[n] * scale for n in ordered}
     for name, value, expected in _param_problems(dist, given):
-        problems.append(Problem(f"{key}.{name}", value, expected))
+        problems.append(Problem(where(name), value, expected))
     if problems:
         raise ScenarioError(problems)
 
-    marginal = Marginal(dist, tuple((n, internal[n]) for n in ordered), source)
-    below, above = bounds.outside_probability(marginal)
+    try:
+        marginal = Marginal(dist, tuple((n, internal[n]) for n in ordered), source)
+        below, above = bounds.outside_probability(marginal)
+        tails: tuple[float, ...] = (marginal.quantile(1e-9), marginal.quantile(0.5),
+                                    marginal.quantile(1 - 1e-9))
+    except (ValueError, OverflowError, ZeroDivisionError, FloatingPointError):
+        tails = (math.nan,)
+    if not all(math.isfinite(t) for t in tails):
+        raise ScenarioError.single(
+            key, raw, "distribution parameters whose spread and quantiles are finite numbers "
+            "after conversion to internal units (these overflow or underflow)")
     if marginal.is_fixed:
         if below > 0 or above > 0:
             if isinstance(raw, Mapping):

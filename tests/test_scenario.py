@@ -119,4 +119,6 @@ def test_openhole_needs_no_shots(write, field_doc):
     err = _problems(write(doc))
     assert "well.shot_angles" in str(err)
     doc = doc.replace("shot_angles = [0, 60, 120, 180, 240, 300]\n", "")
+    assert "well.tunnel_diameter" in str(_problems(write(doc)))
+    doc = doc.replace("tunnel_diameter = 0.5\n", "hole_diameter = 8.5\n")
     assert load_scenario(write(doc)).well.shot_angles == ()
