@@ -171,6 +171,61 @@ def critical_wall_pressure(
     loc = LocalStress(*flat[:6])
     p_r, big_a, nu, t0 = flat[6:10]
     prm = tuple(flat[10:])
+    n = p_r.size
+    p_wc = np.full(n, -np.inf)
+    theta = np.full(n, np.nan)
+    general = np.ones(n, dtype=bool)
+    if criterion == "mohr-coulomb":
+        general = ~_mohr_coulomb_principal_axis(loc, p_r, big_a, nu, prm[0], p_wc, theta)
+    if np.any(general):
+        g = np.nonzero(general)[0]
+        pw_g, th_g = _general_solver(LocalStress(*(c[g] for c in loc)), p_r[g], big_a[g], nu[g],
+                                     t0[g], tuple(v[g] for v in prm), criterion, n_theta)
+        p_wc[g] = pw_g
+        theta[g] = th_g
+    theta = np.where(np.isneginf(p_wc), np.nan, np.mod(theta, np.pi))
+    return OnsetResult(p_wc.reshape(shape), theta.reshape(shape))
+
+
+def _mohr_coulomb_principal_axis(loc: LocalStress, p_r: Array, big_a: Array, nu: Array,
+                                 ucs: Array, p_wc: Array, theta: Array) -> NDArray[np.bool_]:
+    """Closed form where it is exact; fills ``p_wc``/``theta`` there and returns that mask.
+
+    When the cavity axis is a principal direction of the far field (no shear along the axis,
+    so t_tz = 0 all round the wall, e.g. a vertical well) and the hoop and axial effective
+    stresses are non-negative everywhere on the wall at zero drawdown (so the radial stress, 0,
+    is the minor principal stress for every p_w <= p_r), Mohr-Coulomb yield is s'_major = UCS.
+    Both the hoop and the axial stress then peak at the same angle, where
+    -(2 (sxx - syy) cos 2t + 4 sxy sin 2t) is largest, R = 2 sqrt((sxx - syy)^2 + 4 sxy^2):
+
+        p_wc = max((sxx + syy + R - A p_r - UCS)/(2 - A), (szz + nu R - A p_r - UCS)/(1 - A))
+
+    (the first is MECHANICS.md 4.1's closed form; derived). Everything else goes to the
+    general solver.
+    """
+    scale = np.abs(loc.sxx) + np.abs(loc.syy) + np.abs(loc.szz) + 1.0
+    diff, sxy = loc.sxx - loc.syy, loc.sxy
+    r = 2.0 * np.sqrt(diff * diff + 4.0 * sxy * sxy)
+    no_shear = (np.abs(loc.sxz) + np.abs(loc.syz)) <= 1e-12 * scale
+    compressive = ((loc.sxx + loc.syy - r - 2.0 * p_r) >= 0.0) & (
+        (loc.szz - nu * r - p_r) >= 0.0)
+    ok = no_shear & compressive & (big_a < 1.0 - 1e-9)
+    if not np.any(ok):
+        return ok
+    i = np.nonzero(ok)[0]
+    a, pr = big_a[i], p_r[i]
+    hoop = (loc.sxx[i] + loc.syy[i] + r[i] - a * pr - ucs[i]) / (2.0 - a)
+    axial = (loc.szz[i] + nu[i] * r[i] - a * pr - ucs[i]) / (1.0 - a)
+    pc = np.maximum(hoop, axial)
+    p_wc[i] = np.where(pc >= pr, pr, np.where(pc < 0.0, -np.inf, pc))
+    theta[i] = 0.5 * (np.arctan2(4.0 * sxy[i], 2.0 * diff[i]) + np.pi)
+    return ok
+
+
+def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,
+                    prm: tuple[Array, ...], criterion: str, n_theta: int
+                    ) -> tuple[Array, Array]:
+    """The envelope iteration for any criterion and orientation (see the Notes above)."""
     # per case: 8 stress constants, A, then the strength parameters
     case = (*_pack(loc, p_r, big_a, nu), big_a, *prm)
     solver = _Solver(CRITERIA[criterion], n_theta)
@@ -214,8 +269,7 @@ def critical_wall_pressure(
         active = active[~done]
     p_wc[idx] = p_k
     theta[idx] = t_k
-    theta = np.where(np.isneginf(p_wc), np.nan, np.mod(theta, np.pi))
-    return OnsetResult(p_wc.reshape(shape), theta.reshape(shape))
+    return p_wc, theta
 
 
 def _take(arrays: tuple[Array, ...], idx: NDArray[np.intp]) -> tuple[Array, ...]:

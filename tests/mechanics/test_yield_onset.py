@@ -245,3 +245,32 @@ def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
     if pwc < p_r:
         above = max(pwc, 0.0) + frac * (p_r - max(pwc, 0.0)) + 1e-6
         assert worst(min(above, p_r)) <= 1e-6
+
+
+def test_principal_axis_closed_form_equals_general_solver():
+    # The Mohr-Coulomb shortcut for cavities along a principal axis (vertical wells) must give
+    # the general envelope iteration's answer (derived closed form; independent algorithm).
+    from risk.mechanics.yield_onset import _general_solver
+
+    rng = np.random.default_rng(8)
+    n = 3000
+    sh_min = rng.uniform(25, 50, n)
+    sh_max = sh_min + rng.uniform(0, 25, n)
+    sv = rng.uniform(30, 75, n)
+    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), 0.0, 0.0)
+    ucs = rng.uniform(10, 140, n)
+    a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
+    p_r = rng.uniform(10, 24, n)
+    fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
+                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
+                                  tensile_strength=2.0).wall_pressure
+    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
+                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
+                               np.full(n, 0.5)), "mohr-coulomb", 24)
+    finite = np.isfinite(slow)
+    np.testing.assert_array_equal(np.isfinite(fast), finite)
+    np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
+    # both regimes occur: the shortcut and the fallback to the general solver
+    compressive = (sh_max + sh_min - 2 * np.sqrt((sh_max - sh_min) ** 2) - 2 * p_r >= 0) & (
+        sv - nu * 2 * (sh_max - sh_min) - p_r >= 0)
+    assert 0.2 < compressive.mean() < 0.95
