@@ -75,7 +75,9 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
         assessment = assess(scenario, samples=n_samples, seed=n_seed)
     summary = summarize(assessment)
     run_info = {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
-                "scenario_file": str(path)}
+                "scenario_file": str(path), "scenario_sha256": summary["scenario_sha256"],
+                "version": summary["version"], "seed": summary["seed"],
+                "samples": summary["samples"], "sampling": summary["sampling"]}
     files: dict[str, str | bytes] = {"results.json": dumps(summary),
                                      "run.json": dumps(run_info)}
     files.update(_memo_files(summary, run_info))

@@ -45,14 +45,19 @@ MECHANISMS: Final[dict[str, str]] = {
 DEFAULT_TWC_FACTOR: Final = 3.1  # Willson et al. (2002), SPE 78168, as quoted by Bellarby (2009)
 
 CHUNK: Final = 4096  # samples per evaluation chunk (a power of two keeps Sobol' balanced)
+HEAD_ROWS: Final = 65_536  # leading samples whose inputs and wall angles are kept
+LARGE_RUN: Final = 2**20  # above this many samples, outcomes are stored in single precision
 
 
 @dataclass(frozen=True)
 class MechanismResult:
     """Per-sample outcomes of one mechanism.
 
-    by_direction : critical drawdown [MPa], shape (n, n_directions, n_stages); +inf = never
-    theta : wall angle [rad] where the limit is first reached, same shape (nan = never)
+    by_direction : critical drawdown [MPa], shape (n, n_directions, n_stages); +inf = never.
+        Single precision for runs above LARGE_RUN samples (relative rounding 6e-8, far below
+        any input uncertainty), so that 10^7 samples fit in memory.
+    theta : wall angle [rad] where the limit is first reached, for the first HEAD_ROWS
+        samples (nan = never)
     """
 
     name: str
@@ -89,9 +94,11 @@ class Assessment:
     deterministic: bool
     directions: tuple[float, ...]  # shot angles [rad]; (nan,) for an open hole
     stages: tuple[float, ...]  # reservoir pressures [MPa]
-    inputs: Mapping[str, Array]  # every input by name, (n,) [internal units]
+    #: every input by name for the first HEAD_ROWS samples (what the input summaries and the
+    #: sensitivity design use), (min(n, HEAD_ROWS),) [internal units]
+    inputs: Mapping[str, Array]
     uncertain: tuple[str, ...]
-    xi: Array  # independent standard normals behind the samples (n, d)
+    xi: Array  # independent standard normals behind those samples (min(n, HEAD_ROWS), d)
     mechanisms: Mapping[str, MechanismResult]
     compaction: CompactionResult | None = None
     #: FORM/SORM/importance sampling per (mechanism, stage index), internal units
@@ -482,13 +489,17 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     n = 1 if deterministic else n_req
     rng = np.random.default_rng(seed_)
     sampler = UnitSampler(scenario.sampling, joint.d, rng)
-    blocks: dict[str, list[Array]] = {}
-    theta_blocks: dict[str, list[Array]] = {}
-    col_blocks: dict[str, list[Array]] = {k: [] for k in names}
-    xi_blocks: list[Array] = []
-    far_blocks: list[Array] = []
-    wall_blocks: list[Array] = []
+    n_dir = len(scenario.well.shot_angles) if scenario.well.completion == "perforated" else 1
+    n_stage = len(scenario.reservoir_pressure)
+    dtype = np.float64 if n <= LARGE_RUN else np.float32
+    head = min(n, HEAD_ROWS)
+    dc_all: dict[str, NDArray[Any]] = {}
+    theta_head: dict[str, Array] = {}
+    col_head: dict[str, Array] = {k: np.empty(head) for k in names}
+    xi_head = np.empty((head, joint.d))
     with_compaction = "pore_collapse_pressure" in scenario.inputs
+    far_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
+    wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
     done = 0
     while done < n:
@@ -501,23 +512,28 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             m0 = min(PROFILE_SAMPLES, u.shape[0])
             profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
                                        out["tunnel_collapse"].by_direction[:m0])
+        rows = slice(done, done + m)
+        h = max(0, min(m, head - done))
         for key, res in out.items():
-            blocks.setdefault(key, []).append(res.by_direction)
-            theta_blocks.setdefault(key, []).append(res.theta)
+            if key not in dc_all:
+                dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
+                theta_head[key] = np.empty((head, n_dir, n_stage))
+            dc_all[key][rows] = res.by_direction
+            if h:
+                theta_head[key][done:done + h] = res.theta[:h]
         if with_compaction:
             comp = evaluate_compaction(cols, scenario)
-            far_blocks.append(comp.far_field)
-            wall_blocks.append(comp.wall)
-        for k in names:
-            col_blocks[k].append(cols[k])
-        xi_blocks.append(xi)
+            far_all[rows] = comp.far_field
+            wall_all[rows] = comp.wall
+        if h:
+            for k in names:
+                col_head[k][done:done + h] = cols[k][:h]
+            xi_head[done:done + h] = xi[:h]
         done += m
         if progress is not None:
             progress(done, n)
-    mechanisms = {
-        key: MechanismResult(key, np.concatenate(blocks[key]), np.concatenate(theta_blocks[key]))
-        for key in blocks
-    }
+    mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key]) for key in dc_all}
+    far_blocks = [far_all] if with_compaction else []
     reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
     if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
         for key, mech in mechanisms.items():
@@ -534,8 +550,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
                     rng=np.random.default_rng([seed_, 1, stage]))
-    xi_all = np.concatenate(xi_blocks)
-    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, far_blocks, xi_all, seed_)
+    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, far_blocks, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     import scipy
@@ -544,10 +559,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         scenario=scenario, samples=n, seed=seed_, sampling=scenario.sampling,
         deterministic=deterministic, directions=tuple(directions),
         stages=scenario.reservoir_pressure,
-        inputs={k: np.concatenate(v) for k, v in col_blocks.items()},
-        uncertain=tuple(joint.names), xi=xi_all, mechanisms=mechanisms,
-        compaction=(CompactionResult(np.concatenate(far_blocks), np.concatenate(wall_blocks))
-                    if with_compaction else None),
+        inputs=col_head, uncertain=tuple(joint.names), xi=xi_head, mechanisms=mechanisms,
+        compaction=(CompactionResult(far_all, wall_all) if with_compaction else None),
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
         collapse_profile=profile,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,

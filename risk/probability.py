@@ -49,6 +49,8 @@ def _sorted_dc(dc: ArrayLike) -> FloatArray:
         raise ValueError(f"dc must be a non-empty 1-D array, got shape {a.shape}")
     if np.isnan(a).any():
         raise ValueError("dc contains NaN; every sample needs a critical drawdown or +inf")
+    if a.size < 2 or bool(np.all(a[1:] >= a[:-1])):
+        return a  # already sorted (callers that sort once pass it on): no copy
     return np.sort(a)
 
 

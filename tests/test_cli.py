@@ -107,3 +107,19 @@ def test_templates_describe_the_same_well(tmp_path):
         assert s.inputs[name].median == pytest.approx(f.inputs[name].median, rel=0.01)
     for a, b in zip(s.reservoir_pressure, f.reservoir_pressure, strict=True):
         assert a == pytest.approx(b, rel=0.01)
+
+
+def test_every_output_records_seed_version_and_hash(tmp_path):
+    out = tmp_path / "o"
+    r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(out), "--samples", "128",
+                            "--seed", "9", "-q"])
+    assert r.exit_code == 0, r.output
+    res = json.loads((out / "results.json").read_text())
+    sha, version = res["scenario_sha256"], res["version"]
+    run = json.loads((out / "run.json").read_text())
+    assert (run["seed"], run["scenario_sha256"], run["version"]) == (9, sha, version)
+    html = (out / "memo.html").read_text()
+    assert sha in html and "9" in html
+    for png in (out / "figures").glob("*.png"):
+        data = png.read_bytes()
+        assert sha.encode() in data and b"seed 9" in data  # PNG tEXt chunk

@@ -738,10 +738,20 @@ FIGURES: Final[dict[str, Callable[..., Any]]] = {
 }
 
 
-def _png(fig: Figure) -> bytes:
+def provenance_text(results: Mapping[str, Any]) -> str:
+    """Tool version, scenario hash, seed and sample count, stored in every PNG (tEXt chunk)."""
+    return (f"risk {results.get('version')}; scenario sha256 {results.get('scenario_sha256')}; "
+            f"seed {results.get('seed')}; samples {results.get('samples')}; "
+            f"sampling {results.get('sampling')}")
+
+
+def _png(fig: Figure, description: str = "") -> bytes:
     buf = io.BytesIO()
+    meta: dict[str, Any] = {"Software": None}
+    if description:
+        meta["Description"] = description
     with _styled():
-        fig.savefig(buf, format="png", dpi=DPI, metadata={"Software": None})
+        fig.savefig(buf, format="png", dpi=DPI, metadata=meta)
     return buf.getvalue()
 
 
@@ -754,5 +764,5 @@ def render_all(results: Mapping[str, Any]) -> dict[str, bytes]:
         if drawn is None:
             continue
         fig = drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True)
-        out[name] = _png(fig)
+        out[name] = _png(fig, provenance_text(results))
     return out

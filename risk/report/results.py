@@ -42,11 +42,35 @@ def _angle(a: Assessment, v: float) -> float | None:
     return rounded(math.degrees(v)) if math.isfinite(v) else None
 
 
+def _best_phasing(a: Assessment, by_dir: Any, p_r: float) -> dict[str, Any] | None:
+    """The best 180-degree phasing (two opposite shots) among the scenario's directions.
+
+    A pair fails when either tunnel fails, so its critical drawdown per sample is the smaller
+    of the two; the pair with the largest drawdown limit at the accepted risk wins.
+    """
+    angles = np.mod(np.degrees(np.asarray(a.directions)), 360.0)
+    best: tuple[float, int, int] | None = None
+    for i, ai in enumerate(angles):
+        for j, aj in enumerate(angles):
+            if j <= i or not np.isclose(np.mod(aj - ai, 360.0), 180.0, atol=1e-6):
+                continue
+            pair = np.minimum(by_dir[:, i], by_dir[:, j])
+            lim = min(probability.drawdown_limit(pair, a.scenario.accepted_risk)[0], p_r)
+            if best is None or lim > best[0]:
+                best = (lim, i, j)
+    if best is None:
+        return None
+    lim, i, j = best
+    return {"angles": [_angle(a, a.directions[i]), _angle(a, a.directions[j])],
+            "drawdown_limit": _pressure(a, lim)}
+
+
 def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
     sc = a.scenario
     mech = a.mechanisms[key]
     p_r = a.stages[k]
-    dc = mech.well[:, k]
+    # sorted once, in double precision: every probability function below then reuses it
+    dc = np.sort(mech.by_direction[:, :, k].min(axis=1).astype(np.float64))
     levels = (0.01, 0.05, 0.1, 0.25, 0.5, 0.75, 0.9)
     qs = probability.percentiles(dc, levels)
     q = qs[[2, 4, 6]]
@@ -105,6 +129,9 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
         out["worst_shot_angle"] = _angle(a, a.directions[worst])
         out["best_shot_angle"] = _angle(a, a.directions[int(np.argmax(limits))])
         out["shots"] = shots
+        phasing = _best_phasing(a, by_dir, p_r)
+        if phasing is not None:
+            out["best_phasing"] = phasing
     else:
         th = mech.theta[:, 0, k]
         ok = np.isfinite(th)
