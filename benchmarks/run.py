@@ -111,6 +111,7 @@ def run_cli(args: list[str]) -> tuple[float, int]:
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--quick", action="store_true", help="smaller sizes")
+    ap.add_argument("--full", action="store_true", help="also run 10^7 samples (minutes)")
     args = ap.parse_args()
     quick = args.quick
     rng = np.random.default_rng(1)
@@ -166,13 +167,30 @@ def main() -> None:
     t_help = min(run_cli(["--help"])[0] for _ in range(3))
     rows.append(("risk --help start-up", f"{t_help * 1e3:.0f} ms", ""))
 
-    # 5. peak memory per sample (demo scenario, yield onset + TWC + pore collapse)
-    n_mem = 50_000 if quick else 200_000
-    _, rss = run_cli(["run", str(demo), "--out", str(out), "--force", "-q",
-                      "--samples", str(n_mem)])
-    rows.append((f"peak RSS at {n_mem:,} samples", f"{rss / 2**20:.0f} MiB",
-                 f"about {rss / n_mem * 1e7 / 2**30:.1f} GiB at 10^7 samples if linear "
-                 "(goal < 1 GB)"))
+    # 5. peak memory: two sizes give the per-sample slope; --full measures 10^7 directly
+    def rss_at(n_samples: int) -> float:
+        # a fresh interpreter per size, so the children's maximum is that run's own peak
+        code = ("import resource, subprocess, sys; subprocess.run(sys.argv[1:], check=True, "
+                "stdout=subprocess.DEVNULL); "
+                "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)")
+        res = subprocess.run([sys.executable, "-c", code, RISK, "run", str(demo), "--out",
+                              str(out), "--force", "-q", "--samples", str(n_samples)],
+                             check=True, capture_output=True, text=True)
+        return float(res.stdout.strip()) * 1024.0
+
+    n1, n2 = (16_384, 65_536) if quick else (65_536, 524_288)
+    r1, r2 = rss_at(n1), rss_at(n2)
+    slope = (r2 - r1) / (n2 - n1)
+    rows.append((f"peak RSS at {n1:,} / {n2:,} samples",
+                 f"{r1 / 2**20:.0f} / {r2 / 2**20:.0f} MiB",
+                 f"{slope:.0f} B per sample; 10^7 samples about "
+                 f"{(r2 + slope * (1e7 - n2)) / 1e9:.2f} GB (goal < 1 GB; double precision "
+                 "below 2^20 samples, single above, so this overestimates)"))
+    if args.full:
+        t10 = time.perf_counter()
+        r10 = rss_at(10_000_000)
+        rows.append(("peak RSS at 10^7 samples (measured)", f"{r10 / 1e9:.2f} GB",
+                     f"goal < 1 GB; run took {time.perf_counter() - t10:.0f} s"))
 
     width = max(len(r[0]) for r in rows)
     for name, value, note in rows:
