@@ -26,7 +26,14 @@ from typing import Any, Final
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, UNIT_SYSTEMS
 from risk.errors import Problem, ScenarioError
 from risk.mechanics.criteria import CRITERIA
-from risk.uncertainty import MAGNITUDE_TEXT, Bounds, Marginal, magnitude_ok, parse_input
+from risk.uncertainty import (
+    MAGNITUDE_TEXT,
+    Bounds,
+    Marginal,
+    is_plain_number,
+    is_real,
+    parse_input,
+)
 
 __all__ = [
     "InputSpec",
@@ -201,18 +208,8 @@ def _did_you_mean(word: str, choices: tuple[str, ...] | list[str]) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
-def _is_number(v: object) -> bool:
-    """A plain TOML number of a sensible magnitude (see risk.uncertainty.magnitude_ok)."""
-    return (isinstance(v, int | float) and not isinstance(v, bool) and _num_ok(v)
-            and math.isfinite(float(v)) and magnitude_ok(float(v)))
-
-
-def _num_ok(v: int | float) -> bool:
-    try:
-        float(v)
-    except OverflowError:
-        return False
-    return True
+_is_number = is_plain_number
+_num_ok = is_real
 
 
 def _key_text(key: object) -> str:

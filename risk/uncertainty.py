@@ -132,7 +132,7 @@ MIN_MAGNITUDE: Final = 1e-12
 MAGNITUDE_TEXT: Final = "a number of magnitude between 1e-12 and 1e12 (or 0)"
 
 
-def _is_number(value: object) -> bool:
+def is_real(value: object) -> bool:
     """A real number (not a bool) that converts to a float without overflow."""
     if not isinstance(value, numbers.Real) or isinstance(value, bool):
         return False
@@ -141,6 +141,15 @@ def _is_number(value: object) -> bool:
     except OverflowError:
         return False
     return True
+
+
+_is_number = is_real
+
+
+def is_plain_number(value: object) -> bool:
+    """A finite real number of sensible magnitude (:func:`magnitude_ok`): what a scenario may
+    write wherever a plain number is expected."""
+    return is_real(value) and math.isfinite(float(value)) and magnitude_ok(float(value))  # type: ignore[arg-type]
 
 
 def magnitude_ok(value: float) -> bool:
