@@ -106,6 +106,27 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "Not modelled: transient and cyclic loading (start-ups, shut-ins), multiphase flow and "
     "water breakthrough, rate-dependent erosion and sand transport, strain softening and large "
     "strains, thermal effects.",
+    "Tunnel collapse (when computed): an axisymmetric elastic-perfectly plastic cavity "
+    "(Mohr\u2013Coulomb with dilation, or Hoek\u2013Brown) in an equivalent hydrostatic in-plane "
+    "stress (3\u03c3\u2081 \u2212 \u03c3\u2083)/2, with steady Darcy flow to a fixed drainage "
+    "radius and unchanged permeability; small strain, monotonic loading, no softening. "
+    "Collapse is taken when the wall plastic hoop strain reaches the calibrated critical value, "
+    "or when the seepage gradient at the yielded wall reaches the unconfined strength. Where "
+    "the axial stress at the yielded wall exceeds the hoop stress the plane-strain solution is "
+    "approximate; the share of such samples is reported with the collapse profile.",
+    "Effective-strength onset at a perforation tip (when chosen) treats the tip as a spherical "
+    "cavity in the mean far-field total stress.",
+    "Pore collapse (when computed): compaction starts when the mean effective stress reaches "
+    "the pore-collapse pressure P* of hydrostatic tests; the wall value is taken at zero "
+    "drawdown (flowing only raises it).",
+    "Sensitivity indices describe the critical drawdown capped at the reservoir pressure; "
+    "outcomes stuck at zero drawdown or at the full reservoir pressure make the output "
+    "non-smooth, in which case a Monte-Carlo estimator replaces the polynomial surrogate. With "
+    "correlated inputs, Shapley effects rank the inputs; the tornado varies one input at a time "
+    "and ignores correlation.",
+    "P10 of a critical drawdown is the drawdown at or below which 10% of the samples fail "
+    "(pessimistic end); for pore collapse, the reservoir pressure at or above which 10% have "
+    "compacted.",
     "Sampling error: every probability is estimated from a finite number of samples. Failure "
     "curves carry 95% confidence bands and each drawdown limit a one-sided 95% lower "
     "confidence bound; use the bound, not the estimate, when the two differ.",
