@@ -395,8 +395,8 @@ def _best_shot(stage: Mapping[str, Any]) -> float | None:
 
 def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = None
                          ) -> Figure | None:
-    """Risk per perforation direction: polar bars of the probability that a tunnel shot in each
-    direction has failed at the well's drawdown limit, one row per mechanism and one column per
+    """Risk per perforation direction: polar bars of the drawdown limit of a tunnel shot in each
+    direction (at the accepted risk; longer is better), one row per mechanism and one column per
     depletion stage; the best direction highlighted. Angles from the high side, clockwise
     (vertical well: from the ``azimuth`` reference, seen from above). ``None`` for open hole."""
     mechs = _shot_mechanisms(results)
@@ -411,10 +411,16 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
         fig = fig or _new_figure((size + 0.65) * nrows + 0.6, max(size * ncols, 4.8))
         unit = _unit(results)
         axes = fig.subplots(nrows, ncols, squeeze=False, subplot_kw={"projection": "polar"})
-        top = max((_f(sh.get("probability_at_limit")) for _, m in mechs for st in m["stages"]
-                   for sh in st["shots"]), default=0.0)
-        rmax = next((v for v in _RADIAL_STEPS if v >= 1.05 * np.nan_to_num(top)), 1.0)
+        def radial_max(mech: Mapping[str, Any]) -> float:
+            """Scale of one mechanism's row: its largest per-shot limit (else p_r), padded."""
+            tops = [_f(sh.get("drawdown_limit")) for st in mech["stages"] for sh in st["shots"]]
+            top = max((t for t in tops if np.isfinite(t)), default=0.0)
+            if top <= 0.0:
+                top = max((_f(st.get("reservoir_pressure")) for st in mech["stages"]),
+                          default=1.0)
+            return 1.1 * float(np.nan_to_num(top, nan=1.0)) or 1.0
         for m, (key, mech) in enumerate(mechs):
+            rmax = radial_max(mech)
             name = textwrap.wrap(str(mech.get("name", key)), 30)
             for k in range(rows_per * ncols):
                 ax = axes[m * rows_per + k // ncols, k % ncols]
@@ -424,7 +430,7 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                 st = mech["stages"][k]
                 shots = st["shots"]
                 ang = np.radians(_arr([s["angle"] for s in shots]))
-                prob = _arr([s.get("probability_at_limit") for s in shots])
+                prob = _arr([s.get("drawdown_limit") for s in shots])
                 order = np.sort(np.mod(ang, 2 * np.pi))
                 gaps = np.diff(np.concatenate([order, [order[0] + 2 * np.pi]]))
                 width = 0.65 * float(gaps[gaps > 0].min()) if (gaps > 0).any() else 0.8
@@ -438,13 +444,14 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                 ax.set_theta_zero_location("N")
                 ax.set_theta_direction(-1)
                 if best is not None:  # visible even when the best shot's probability is 0
-                    ax.plot([np.radians(best)] * 2, [0.0, rmax], color=PALETTE[2], lw=2.0,
-                            solid_capstyle="butt", zorder=4)
+                    ax.plot([np.radians(best)] * 2, [0.0, rmax], color=PALETTE[2], lw=1.0,
+                            ls="--", zorder=4)
                     ax.plot([np.radians(best)], [rmax], marker="o", ms=5, color=PALETTE[2],
                             mec="black", mew=0.5, clip_on=False, zorder=5)
                 ax.set_ylim(0.0, rmax)
                 ax.set_rticks(list(rmax * np.array([0.25, 0.5, 0.75, 1.0])))
-                ax.set_yticklabels(["", f"{rmax / 2:g}", "", f"{rmax:g}"], fontsize=6.5)
+                ax.set_yticklabels(["", format_value(rmax / 2, unit), "",
+                                    format_value(rmax, unit)], fontsize=6.5)
                 ax.set_rlabel_position(float(np.degrees(order[widest] + gaps[widest] / 2)))
                 ax.set_xticks(np.radians(np.arange(0, 360, 60)))
                 ax.set_xticklabels([f"{a}°" for a in range(0, 360, 60)], fontsize=7)
@@ -454,11 +461,11 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                     [*head, f"{PR} = {format_value(st.get('reservoir_pressure'), unit)}"]),
                     fontsize=8)
         fig.legend(handles=[
-            Line2D([], [], color=PALETTE[2], lw=2.0, marker="o", mec="black", mew=0.5,
+            Line2D([], [], color=PALETTE[2], lw=1.0, ls="--", marker="o", mec="black", mew=0.5,
                    label="best direction"),
             Patch(facecolor=PALETTE[0], edgecolor="black", label="other shots"),
         ], loc="outside lower center", ncol=2, frameon=False,
-            title="radius: probability of failure at the drawdown limit [-]\n"
+            title=f"radius: drawdown limit of tunnels shot in that direction [{unit}]\n"
                   "angle: shot direction from the high side [deg]")
     return fig
 

@@ -61,8 +61,8 @@ CAPTIONS: Final[dict[str, str]] = {
         "share of samples fails) vs reservoir pressure. Shading gives the share of samples "
         "failing; the straight line is zero drawdown."),
     "shot_directions": (
-        "Risk per perforation direction: probability that a tunnel shot in each direction has "
-        "failed at the well's drawdown limit; the best direction is highlighted. Angles are "
+        "Risk per perforation direction: the drawdown limit at the accepted risk of tunnels shot "
+        "in each direction (longer is better); the best direction is highlighted. Angles are "
         "measured from the high side of the well (vertical well: from the azimuth reference)."),
     "tunnel_collapse": (
         "Tunnel collapse: plastic radius ratio and wall plastic strain vs drawdown, median "

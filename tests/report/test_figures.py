@@ -142,7 +142,7 @@ def test_best_shot_is_highlighted(perforated):
         for bar, shot in zip(bars, st["shots"], strict=True):
             highlighted = np.allclose(bar.get_facecolor()[:3], figures.PALETTE[2])
             assert highlighted == math.isclose(shot["angle"], st["best_shot_angle"])
-            assert bar.get_height() == pytest.approx(shot["probability_at_limit"])
+            assert bar.get_height() == pytest.approx(shot["drawdown_limit"])
 
 
 def test_format_value():
