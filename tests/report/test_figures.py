@@ -97,7 +97,8 @@ def test_every_axis_label_has_a_unit(perforated):
         for lab in labels:
             assert unit.search(lab), (name, lab)
         if name == "shot_directions":
-            assert "[-]" in labels[-1] and "[deg]" in labels[-1]
+            unit_p = perforated["units"]["pressure"]
+            assert f"[{unit_p}]" in labels[-1] and "[deg]" in labels[-1]
 
 
 def _lines(fig: Figure, label: str) -> list[Any]:
