@@ -81,6 +81,7 @@ class CompactionResult:
 
     far_field: Array
     wall: Array
+    initial: Array | None = None  # initial pore pressure p0 of each sample [MPa]
 
 
 @dataclass(frozen=True)
@@ -268,7 +269,7 @@ def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
         ratio = np.where(resp.seepage_unstable, np.inf, resp.plastic_radius / kw["r_w"])
         strain = np.where(resp.seepage_unstable, np.inf, resp.wall_plastic_strain)
         d_crit = dc[np.arange(n), worst[:, k], k]
-        collapsing = np.isfinite(d_crit) & (d_crit > 0.0)
+        collapsing = np.isfinite(d_crit)  # including collapse with no drawdown
         flag = 0.0
         if np.any(collapsing):
             at = fn(p_r=p_r, p_w=np.where(collapsing, p_r - d_crit, p_r)[:, None],
@@ -352,7 +353,7 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
             wall_excess, (np.zeros(idx.size), hi[idx]), args=tuple(a[idx] for a in args),
             tolerances={"xatol": 1e-12, "xrtol": 4 * np.finfo(float).eps})
         wall[idx] = res.x
-    return CompactionResult(np.asarray(far, dtype=float), wall)
+    return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"])
 
 
 PROFILE_SAMPLES: Final = 256
@@ -372,7 +373,7 @@ GROUPS: Final[dict[str, tuple[str, ...]]] = {
 
 
 def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
-             far: Array | None) -> tuple[list[tuple[str, int]], Array]:
+             comp: CompactionResult | None) -> tuple[list[tuple[str, int]], Array]:
     """Capped outputs for sensitivity: min(D_c, p_r) per mechanism and stage [MPa]; pore
     collapse as the far-field critical reservoir pressure clipped to [0, p0] [MPa]."""
     keys: list[tuple[str, int]] = []
@@ -382,14 +383,27 @@ def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
         for stage, p_r in enumerate(scenario.reservoir_pressure):
             keys.append((key, stage))
             cols.append(np.minimum(well[:, stage], p_r))
-    if far is not None:
+    if comp is not None:
         keys.append(("pore_collapse", 0))
-        cols.append(np.clip(np.where(np.isneginf(far), 0.0, far), 0.0, None))
+        far = np.where(np.isneginf(comp.far_field), 0.0, comp.far_field)
+        top = comp.initial if comp.initial is not None else np.inf
+        cols.append(np.clip(far, 0.0, top))
     return keys, np.column_stack(cols)
 
 
+def _has_spread(y: Array) -> NDArray[np.bool_]:
+    """Columns where enough samples leave the most common value (a plateau such as "fails
+    with no drawdown") for indices to mean anything: at least 2% and 20 samples."""
+    out = np.zeros(y.shape[1], dtype=bool)
+    for c in range(y.shape[1]):
+        _, counts = np.unique(y[:, c], return_counts=True)
+        off = y.shape[0] - int(counts.max())
+        out[c] = off >= max(20, 0.02 * y.shape[0])
+    return out
+
+
 def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
-                 far_blocks: list[Array], xi: Array, seed_: int) -> tuple[
+                 compaction_all: CompactionResult | None, xi: Array, seed_: int) -> tuple[
                      dict[tuple[str, int], Any],
                      dict[str, dict[str, tuple[float, float, float, float]]],
                      dict[str, float]]:
@@ -405,16 +419,19 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     m = min(SENSITIVITY_RUNS, n_all)
     rng = np.random.default_rng([seed_, 2])
     head = {k: MechanismResult(k, r.by_direction[:m], r.theta[:m]) for k, r in mechanisms.items()}
-    far = np.concatenate(far_blocks)[:m] if far_blocks else None
-    keys, y = _outputs(scenario, head, far)
+    comp_head = (CompactionResult(compaction_all.far_field[:m], compaction_all.wall[:m],
+                                  None if compaction_all.initial is None
+                                  else compaction_all.initial[:m])
+                 if compaction_all is not None else None)
+    keys, y = _outputs(scenario, head, comp_head)
     names = list(joint.names)
-    with_far = far is not None
+    with_far = compaction_all is not None
     z = correlated_normals(joint, xi[:m])
     groups = {g: [n for n in members if n in names] for g, members in GROUPS.items()}
     groups = {g: v for g, v in groups.items() if len(v) >= 2}
-    corr = joint.normal_corr if np.any(joint.normal_corr != np.eye(joint.d)) else None
-    spread = np.ptp(y, axis=0) > 1e-12 * (1.0 + np.abs(y).max(axis=0))
-    cols_ok = np.nonzero(spread)[0]
+    correlated = bool(np.any(joint.normal_corr != np.eye(joint.d)))
+    corr = joint.normal_corr if correlated else None
+    cols_ok = np.nonzero(_has_spread(y))[0]
     res: dict[int, Any] = {}
     if cols_ok.size:
         with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
@@ -422,14 +439,29 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
                                   groups=groups or None, n_bootstrap=100)
         res = dict(zip(cols_ok.tolist(), fitted, strict=True))
     bad = [c for c, r in res.items() if not r.loo_error <= sa.LOO_THRESHOLD]
-    if bad:
+    if bad and correlated:
+        # Monte-Carlo pick-freeze indices would be those of the independent Cholesky
+        # variables, not of the inputs: use the given-data full first-order indices of the
+        # inputs themselves, on every stored sample of the run (no model runs).
+        n_g = xi.shape[0]
+        head_g = {k: MechanismResult(k, r.by_direction[:n_g], r.theta[:n_g])
+                  for k, r in mechanisms.items()}
+        comp_g = (CompactionResult(compaction_all.far_field[:n_g], compaction_all.wall[:n_g],
+                                   None if compaction_all.initial is None
+                                   else compaction_all.initial[:n_g])
+                  if compaction_all is not None else None)
+        _, y_g = _outputs(scenario, head_g, comp_g)
+        z_g = correlated_normals(joint, xi)
+        for c in bad:
+            res[c] = sa.given_data_first_order(z_g, y_g[:, c], names=names, rng=rng,
+                                               loo_error=res[c].loo_error)
+    elif bad:
         need = {keys[c][0] for c in bad}
 
         def model_xi(xi_: Array) -> Array:
             cols = input_columns(joint, normals_to_inputs(joint, xi_))
             out = evaluate(cols, scenario, only=need - {"pore_collapse"})
-            f = (evaluate_compaction(cols, scenario).far_field
-                 if "pore_collapse" in need else None)
+            f = (evaluate_compaction(cols, scenario) if "pore_collapse" in need else None)
             k2, yy = _outputs(scenario, out, f)
             return yy[:, [k2.index(keys[c]) for c in bad]]
 
@@ -446,7 +478,7 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
 
     def model_x(x: Array) -> Array:
         out = evaluate(input_columns(joint, x), scenario)
-        f = evaluate_compaction(input_columns(joint, x), scenario).far_field if with_far else None
+        f = evaluate_compaction(input_columns(joint, x), scenario) if with_far else None
         return _outputs(scenario, out, f)[1]
 
     rows = [mid] + [np.where(np.arange(joint.d) == j, low[j], mid) for j in range(joint.d)] + [
@@ -500,6 +532,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     with_compaction = "pore_collapse_pressure" in scenario.inputs
     far_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
+    p0_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
     done = 0
     while done < n:
@@ -525,6 +558,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             comp = evaluate_compaction(cols, scenario)
             far_all[rows] = comp.far_field
             wall_all[rows] = comp.wall
+            p0_all[rows] = comp.initial
         if h:
             for k in names:
                 col_head[k][done:done + h] = cols[k][:h]
@@ -533,7 +567,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         if progress is not None:
             progress(done, n)
     mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key]) for key in dc_all}
-    far_blocks = [far_all] if with_compaction else []
+    comp_all = CompactionResult(far_all, wall_all, p0_all) if with_compaction else None
     reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
     if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
         for key, mech in mechanisms.items():
@@ -550,7 +584,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
                     rng=np.random.default_rng([seed_, 1, stage]))
-    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, far_blocks, xi_head, seed_)
+    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     import scipy
@@ -560,7 +594,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         deterministic=deterministic, directions=tuple(directions),
         stages=scenario.reservoir_pressure,
         inputs=col_head, uncertain=tuple(joint.names), xi=xi_head, mechanisms=mechanisms,
-        compaction=(CompactionResult(far_all, wall_all) if with_compaction else None),
+        compaction=comp_all,
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
         collapse_profile=profile,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,

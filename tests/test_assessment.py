@@ -173,3 +173,53 @@ def test_tunnel_collapse_needs_radius_below_drainage(write):
     doc = COLLAPSE.replace("CRIT", "0.02").replace("hole_diameter = 216\n", "")
     with pytest.raises(ScenarioError, match="well.hole_diameter"):
         load_scenario(write(doc))
+
+
+def test_worst_wall_angle_is_a_circular_mean(write):
+    # Kirsch: the hoop stress peaks 90 degrees from SHmax (Zoback 2007, sec. 6.1). With SHmax
+    # at 90 +- 8 degrees the worst angle is near 0 = 180 degrees; a plain median of angles
+    # wrapped to [0, 180) would land near 90 (the least critical direction).
+    from risk.report.results import summarize
+
+    doc = OPENHOLE_SI.replace("shmax_azimuth = 20",
+                              'shmax_azimuth = { dist = "normal", mean = 90, sd = 8 }')
+    s = summarize(assess(load_scenario(write(doc)), samples=512))
+    angle = s["mechanisms"]["yield_onset"]["stages"][0]["worst_wall_angle"]
+    assert min(angle, 180.0 - angle) < 3.0
+
+
+def test_identical_shots_give_no_preference(write, field_doc):
+    # a vertical well with equal horizontal stresses: every shot direction is the same
+    # (derived from the symmetry), so no best or worst direction may be named
+    from risk.report.results import summarize
+
+    doc = (field_doc.replace("inclination = 35", "inclination = 0")
+           .replace("shmax_gradient = 0.88", "shmax_gradient = 0.74"))
+    s = summarize(assess(load_scenario(write(doc))))
+    st0 = s["mechanisms"]["yield_onset"]["stages"][0]
+    assert st0["best_shot_angle"] is None and st0["worst_shot_angle"] is None
+    assert "no preference" in st0["shot_note"]
+
+
+def test_correlated_inputs_never_get_cholesky_variable_indices():
+    # With correlated inputs the Monte-Carlo pick-freeze fallback would index the hidden
+    # independent variables; the run must use the surrogate or the given-data indices instead.
+    from pathlib import Path
+
+    ex = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
+    a = assess(load_scenario(ex), samples=2048)
+    assert a.sensitivity
+    for r in a.sensitivity.values():
+        assert r.method in ("pce", "given-data")
+        assert r.correlated
+
+
+def test_pore_collapse_sensitivity_output_is_clipped_to_p0():
+    from risk.assessment import CompactionResult, _outputs
+
+    sc_stub = type("S", (), {"reservoir_pressure": ()})()
+    comp = CompactionResult(np.array([-np.inf, 10.0, 40.0]), np.zeros(3),
+                            np.array([30.0, 30.0, 30.0]))
+    keys, y = _outputs(sc_stub, {}, comp)  # type: ignore[arg-type]
+    assert keys == [("pore_collapse", 0)]
+    np.testing.assert_array_equal(y[:, 0], [0.0, 10.0, 30.0])

@@ -554,3 +554,28 @@ def test_bad_inputs_raise() -> None:
         sa.mc_sobol(lambda x: x[:1, 0], 2, 16, rng)
     with pytest.raises(ValueError):
         sa.mc_sobol(lambda x: x[:, 0], 2, 16, rng, rule="lhs")  # type: ignore[arg-type]
+
+
+def test_given_data_full_first_order_correlated_linear():
+    # y = x1 + 2 x2 with x ~ N(0, [[1, r], [r, 1]]): full first-order indices
+    # S1 = (1 + 2r)^2 / Var(Y), S2 = (2 + r)^2 / Var(Y), Var(Y) = 1 + 4 + 4r (derived from the
+    # conditional expectation of a Gaussian vector). Tolerance: 4 bootstrap standard errors
+    # (the percentile band / 2 / 1.96 x 4) plus the class-discretisation bias (~1/M).
+    from risk.sensitivity import given_data_first_order
+
+    rng = np.random.default_rng(17)
+    r = 0.6
+    n = 16384
+    z = rng.standard_normal((n, 2)) @ np.linalg.cholesky([[1, r], [r, 1]]).T
+    y = z[:, 0] + 2 * z[:, 1]
+    res = given_data_first_order(z, y, names=["x1", "x2"], rng=rng, n_bootstrap=60)
+    var = 1 + 4 + 4 * r
+    exact = np.array([(1 + 2 * r) ** 2, (2 + r) ** 2]) / var
+    half = (res.first_high - res.first_low) / 2
+    assert np.all(np.abs(res.first - exact) < 4 * half / 1.96 + 1.5 / np.sqrt(n))
+    assert np.all(np.isnan(res.total)) and res.method == "given-data"
+    # an input the output does not depend on gets about zero
+    res2 = given_data_first_order(np.column_stack([z[:, 0], rng.standard_normal(n)]),
+                                  z[:, 0], names=["a", "b"], rng=rng, n_bootstrap=0)
+    assert res2.first[0] == pytest.approx(1.0, abs=0.02)
+    assert abs(res2.first[1]) < 0.01

@@ -17,6 +17,7 @@ from __future__ import annotations
 import base64
 import json
 import math
+import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -113,7 +114,8 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "Collapse is taken when the wall plastic hoop strain reaches the calibrated critical value, "
     "or when the seepage gradient at the yielded wall reaches the unconfined strength. Where "
     "the axial stress at the yielded wall exceeds the hoop stress the plane-strain solution is "
-    "approximate; the share of such samples is reported with the collapse profile.",
+    "approximate; the share of such samples is in results.json (plane_strain_flag_fraction) "
+    "and flagged in the results section when it is not zero.",
     "Effective-strength onset at a perforation tip (when chosen) treats the tip as a spherical "
     "cavity in the mean far-field total stress.",
     "Pore collapse (when computed): compaction starts when the mean effective stress reaches "
@@ -121,8 +123,11 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "drawdown (flowing only raises it).",
     "Sensitivity indices describe the critical drawdown capped at the reservoir pressure; "
     "outcomes stuck at zero drawdown or at the full reservoir pressure make the output "
-    "non-smooth, in which case a Monte-Carlo estimator replaces the polynomial surrogate. With "
-    "correlated inputs, Shapley effects rank the inputs; the tornado varies one input at a time "
+    "non-smooth, in which case a Monte-Carlo estimator on the model (independent inputs) "
+    "replaces the polynomial surrogate. With "
+    "correlated inputs, Shapley effects rank the inputs where the surrogate holds; where it "
+    "does not, full first-order indices from the sample itself (given data) rank them; the "
+    "tornado varies one input at a time "
     "and ignores correlation.",
     "P10 of a critical drawdown is the drawdown at or below which 10% of the samples fail "
     "(pessimistic end); for pore collapse, the reservoir pressure at or above which 10% have "
@@ -223,10 +228,31 @@ def _png_width_in(png: bytes) -> str:
     return f"{int.from_bytes(png[16:20], 'big') / DPI:.3f}in"
 
 
+#: A source that says the value comes from a log correlation (not merely "density log").
+_LOG_CORRELATION: Final = re.compile(
+    r"correlat|\bsonic\b|log[- ]derived|from (the )?(well )?logs?\b|\bmcnally\b", re.I)
+
+
+def _rank_value(row: Mapping[str, Any]) -> float | None:
+    """What ranks an input: Shapley effect, else total index, else first-order index."""
+    for k in ("rank_value", "shapley", "total", "first"):
+        if row.get(k) is not None:
+            return float(row[k])
+    return None
+
+
+def _rank_basis(row: Mapping[str, Any]) -> str:
+    for k, text in (("shapley", "Shapley effect"), ("total", "total Sobol index"),
+                    ("first", "first-order (full) Sobol index")):
+        if row.get(k) is not None:
+            return text
+    return "index"
+
+
 def _top_sensitivity(results: Mapping[str, Any], key: str) -> Mapping[str, Any] | None:
     rows = (results.get("sensitivity") or {}).get(key) or []
-    rows = [r for r in rows if r.get("total") is not None]
-    return max(rows, key=lambda r: float(r["total"])) if rows else None
+    rows = [r for r in rows if _rank_value(r) is not None]
+    return max(rows, key=lambda r: float(_rank_value(r) or 0.0)) if rows else None
 
 
 def _interp_probability(stage: Mapping[str, Any], drawdown: float) -> float | None:
@@ -293,6 +319,11 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 return "every mechanism"
             return " and ".join(names[g] for g in keys)
 
+        common = set(governing[0][1]).intersection(*(set(g[1]) for g in governing[1:]))
+        if len({g[1] for g in governing}) > 1 and common:
+            # one mechanism governs throughout; others only tie with it at some stages
+            governing = [(g[0], tuple(k for k in g[1] if k in common), g[2])
+                         for g in governing]
         if len({g[1] for g in governing}) == 1:
             subject = who(governing[0][1])
             verb = "governs" if len(governing[0][1]) == 1 else "govern"
@@ -328,7 +359,7 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
         if top is not None:
             sentences.append(
                 f"The input whose uncertainty matters most is {input_label(str(top['input']))} "
-                f"(largest total Sobol index, {float(top['total']):.2f}, at the first stage).")
+                f"(largest {_rank_basis(top)}, {_rank_value(top):.2f}, at the first stage).")
     pore = (results.get("mechanisms") or {}).get("pore_collapse")
     if pore and pore.get("stages"):
         last = pore["stages"][-1]
@@ -399,8 +430,7 @@ def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
             groups.append({"title": _SECTION_TITLES.get(sec, sec.capitalize()),
                            "rows": by_section[sec]})
     log_based = [f"{input_label(str(i['name']))} ({i['source']})" for i in inputs or []
-                 if i.get("source") and any(w in str(i["source"]).lower()
-                                            for w in ("correlation", "sonic", " log"))]
+                 if i.get("source") and _LOG_CORRELATION.search(str(i["source"]))]
     return {
         "settings": [(k, _rich(v)) for k, v in settings], "groups": groups,
         "uncertain": [input_label(str(n)) for n in results.get("uncertain_inputs") or []],
@@ -416,6 +446,14 @@ def _mechanism_sections(results: Mapping[str, Any]) -> list[dict[str, Any]]:
         warnings = [{"p_r": _p(results, s.get("reservoir_pressure")),
                      "text": str(s["convergence_warning"])}
                     for s in stages if s.get("convergence_warning")]
+        for prof in mech.get("profile") or []:
+            share = prof.get("plane_strain_flag_fraction")
+            if share:
+                warnings.append({
+                    "p_r": _p(results, prof.get("reservoir_pressure")),
+                    "text": f"{_pct(share)} of the collapsing samples of the profile have an "
+                            "axial effective stress above the hoop stress at the yielded wall: "
+                            "the plane-strain solution is approximate for them."})
         dist_rows, limit_rows = [], []
         for s in stages:
             dc = s.get("critical_drawdown") or {}
@@ -543,7 +581,7 @@ def _sensitivity(results: Mapping[str, Any]) -> dict[str, Any]:
     names = {k: str(m.get("name", k)) for k, m in (results.get("mechanisms") or {}).items()}
     tables = []
     for key, rows in sens.items():
-        ranked = sorted(rows, key=lambda r: -(r.get("total") or 0.0))
+        ranked = sorted(rows, key=lambda r: -(_rank_value(r) or 0.0))
         tables.append({"name": names.get(key, key), "output": output_name(key), "rows": [{
             "rank": i + 1, "input": input_label(str(r["input"])),
             "first": _idx(r.get("first"), r.get("first_low"), r.get("first_high")),
@@ -556,14 +594,14 @@ def _sensitivity(results: Mapping[str, Any]) -> dict[str, Any]:
         if top is not None:
             recs.append(
                 f"For {_lower(names.get(key, key))}, measure "
-                f"{input_label(str(top['input']))} next: it has the largest total index "
-                f"({float(top['total']):.2f}), so narrowing its range narrows the spread of the "
+                f"{input_label(str(top['input']))} next: it has the largest {_rank_basis(top)} "
+                f"({_rank_value(top):.2f}), so narrowing its range narrows the spread of the "
                 f"{output_name(key)} the most.")
     by_stage = []
     for key, entries in (results.get("sensitivity_by_stage") or {}).items():
         for e in entries or []:
-            idx = [r for r in e.get("indices") or [] if r.get("total") is not None]
-            top = max(idx, key=lambda r: float(r["total"])) if idx else None
+            idx = [r for r in e.get("indices") or [] if _rank_value(r) is not None]
+            top = max(idx, key=lambda r: float(_rank_value(r) or 0.0)) if idx else None
             loo = e.get("loo_error")
             by_stage.append({
                 "name": names.get(key, key),
@@ -572,8 +610,8 @@ def _sensitivity(results: Mapping[str, Any]) -> dict[str, Any]:
                 "method": str(e.get("method") or "–"),
                 "loo": "–" if loo is None else f"{float(loo):.3f}",
                 "runs": f"{int(e['model_runs']):,}" if e.get("model_runs") is not None else "–",
-                "top": (f"{input_label(str(top['input']))} ({float(top['total']):.2f})"
-                        if top else "–"),
+                "top": (f"{input_label(str(top['input']))} ({_rank_value(top):.2f}, "
+                        f"{_rank_basis(top)})" if top else "–"),
             })
     tornado = []
     units = {str(i["name"]): str(i.get("unit") or "") for i in results.get("inputs") or []}

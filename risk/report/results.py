@@ -49,18 +49,21 @@ def _best_phasing(a: Assessment, by_dir: Any, p_r: float) -> dict[str, Any] | No
     of the two; the pair with the largest drawdown limit at the accepted risk wins.
     """
     angles = np.mod(np.degrees(np.asarray(a.directions)), 360.0)
-    best: tuple[float, int, int] | None = None
+    best: tuple[tuple[float, float, float], int, int] | None = None
+    worst: tuple[float, float, float] | None = None
     for i, ai in enumerate(angles):
         for j, aj in enumerate(angles):
             if j <= i or not np.isclose(np.mod(aj - ai, 360.0), 180.0, atol=1e-6):
                 continue
             pair = np.minimum(by_dir[:, i], by_dir[:, j])
             lim = min(probability.drawdown_limit(pair, a.scenario.accepted_risk)[0], p_r)
-            if best is None or lim > best[0]:
-                best = (lim, i, j)
-    if best is None:
-        return None
-    lim, i, j = best
+            key = (lim, -float(np.mean(pair <= lim)), float(np.mean(np.minimum(pair, p_r))))
+            if best is None or key > best[0]:
+                best = (key, i, j)
+            worst = key if worst is None or key < worst else worst
+    if best is None or worst == best[0]:
+        return None  # fewer than two pairs, or every pair alike: no preference
+    (lim, _, _), i, j = best
     return {"angles": [_angle(a, a.directions[i]), _angle(a, a.directions[j])],
             "drawdown_limit": _pressure(a, lim)}
 
@@ -120,14 +123,23 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
                 for j in range(by_dir.shape[1])]
         limits = [min(probability.drawdown_limit(by_dir[:, j], sc.accepted_risk)[0], p_r)
                   for j in range(by_dir.shape[1])]
+        p_at = [float(np.mean(by_dir[:, j] <= lim)) for j in range(by_dir.shape[1])]
+        # mean of the critical drawdown capped at p_r: the last tie-breaker (larger is safer)
+        means = [float(np.mean(np.minimum(by_dir[:, j], p_r))) for j in range(by_dir.shape[1])]
         shots = [{"angle": _angle(a, ang), "critical_drawdown_p50": _pressure(a, v),
                   "drawdown_limit": _pressure(a, lim_j),
-                  "probability_at_limit": rounded(float(np.mean(by_dir[:, j] <= lim)))}
-                 for j, (ang, v, lim_j) in enumerate(zip(a.directions, p50s, limits,
-                                                         strict=True))]
-        worst = int(np.argmin(p50s))
-        out["worst_shot_angle"] = _angle(a, a.directions[worst])
-        out["best_shot_angle"] = _angle(a, a.directions[int(np.argmax(limits))])
+                  "probability_at_limit": rounded(pj)}
+                 for ang, v, lim_j, pj in zip(a.directions, p50s, limits, p_at, strict=True)]
+        # best: largest own limit, then lowest probability at the well's limit, then largest
+        # capped mean; worst: the reverse. Exact ties all the way are reported as no preference.
+        keys = [(lim_j, -pj, mj) for lim_j, pj, mj in zip(limits, p_at, means, strict=True)]
+        order = sorted(range(len(keys)), key=lambda j: keys[j])
+        worst, best = order[0], order[-1]
+        distinct = keys[best] != keys[worst]
+        out["worst_shot_angle"] = _angle(a, a.directions[worst]) if distinct else None
+        out["best_shot_angle"] = _angle(a, a.directions[best]) if distinct else None
+        if not distinct:
+            out["shot_note"] = "every shot direction gives the same result: no preference"
         out["shots"] = shots
         phasing = _best_phasing(a, by_dir, p_r)
         if phasing is not None:
@@ -135,7 +147,10 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
     else:
         th = mech.theta[:, 0, k]
         ok = np.isfinite(th)
-        out["worst_wall_angle"] = (_angle(a, float(np.median(th[ok]))) if ok.any() else None)
+        # wall angles are axial (t and t + pi are the same place): circular mean of 2t
+        mean2 = (math.atan2(float(np.mean(np.sin(2 * th[ok]))), float(np.mean(np.cos(2 * th[ok]))))
+                 if ok.any() else math.nan)
+        out["worst_wall_angle"] = (_angle(a, (0.5 * mean2) % math.pi) if ok.any() else None)
     return out
 
 
@@ -160,6 +175,10 @@ def _pore_collapse(a: Assessment) -> dict[str, Any]:
                        "wall_probability": rounded(float(np.mean(a.compaction.wall >= p_r)))})
     out["stages"] = stages
     out["never_fraction"] = rounded(float(np.mean(np.isneginf(a.compaction.far_field))))
+    if a.compaction.initial is not None:
+        # a critical pressure at or above p0: compacted before any depletion
+        out["initially_compacted_fraction"] = rounded(
+            float(np.mean(a.compaction.far_field >= a.compaction.initial)))
     return out
 
 
@@ -176,7 +195,10 @@ def _indices(a: Assessment, r: Any) -> list[dict[str, Any]]:
             "total_high": rounded(float(r.total_high[j]), 4),
             "shapley": rounded(float(r.shapley[j]), 4),
         })
-    rows.sort(key=lambda row: -(row["total"] if row["total"] is not None else -1.0))
+    for row in rows:  # what ranks the inputs: Shapley, else the total, else the first index
+        row["rank_value"] = next((row[k] for k in ("shapley", "total", "first")
+                                  if row[k] is not None), None)
+    rows.sort(key=lambda row: -(row["rank_value"] if row["rank_value"] is not None else -1.0))
     return rows
 
 
@@ -207,7 +229,8 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
                 entry = {"reservoir_pressure": _pressure(a, a.stages[stage])
                          if key != "pore_collapse" else None,
                          "method": "none", "indices": [], "groups": [],
-                         "note": "every sample has the same outcome (no spread to analyse)"}
+                         "note": "almost every sample has the same outcome (fewer than 2% "
+                                 "differ): no spread to analyse"}
                 by_stage.setdefault(key, []).insert(stage, entry)
                 if stage == 0:
                     first[key] = []
@@ -310,7 +333,8 @@ def summarize(a: Assessment) -> dict[str, Any]:
     """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``)."""
     sc = a.scenario
     units = {"pressure": sc.display_unit("pressure"), "angle": "deg",
-             "length": sc.display_unit("length"), "probability": "-"}
+             "length": sc.display_unit("length"), "probability": "-", "strain": "-",
+             "plastic_radius_ratio": "-"}
     mechanisms = {
         key: {"name": MECHANISMS[key],
               "stages": [_stage_summary(a, key, k) for k in range(len(a.stages))]}
