@@ -350,16 +350,19 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 f"stage results (for example {_lower(first[0])} at p_r = {first[1]}: "
                 f"{_pct(first[2])} of the samples fail at zero drawdown), so the limit there "
                 f"is 0 {_punit(results)}.")
-        top = _top_sensitivity(results, governing[0][1][0])
+        top_key = governing[0][1][0]
+        top = _top_sensitivity(results, top_key)
         if top is None:
             for key, _m in mechs:
                 top = _top_sensitivity(results, key)
                 if top is not None:
+                    top_key = key
                     break
         if top is not None:
             sentences.append(
-                f"The input whose uncertainty matters most is {input_label(str(top['input']))} "
-                f"(largest {_rank_basis(top)}, {_rank_value(top):.2f}, at the first stage).")
+                f"For {_lower(names.get(top_key, top_key))}, the input whose uncertainty "
+                f"matters most is {input_label(str(top['input']))} (largest "
+                f"{_rank_basis(top)}, {_rank_value(top):.2f}, at the first stage).")
     pore = (results.get("mechanisms") or {}).get("pore_collapse")
     if pore and pore.get("stages"):
         last = pore["stages"][-1]
