@@ -580,10 +580,14 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                 def model(cols: dict[str, Array], key: str = key, stage: int = stage) -> Array:
                     return evaluate(cols, scenario)[key].well[:, stage]
 
+                # FORM starts from the most probable failing sample of the run
+                fails = np.nonzero(dc[:head] <= limit)[0]
+                start = (xi_head[fails[np.argmin(np.sum(xi_head[fails] ** 2, axis=1))]]
+                         if fails.size else None)
                 reliability[(key, stage)] = reliability_at_limit(
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
-                    rng=np.random.default_rng([seed_, 1, stage]))
+                    rng=np.random.default_rng([seed_, 1, stage]), start=start)
     sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))

@@ -40,6 +40,7 @@ IS_SAMPLES = 4096
 def reliability_at_limit(
     model: Model, joint: JointModel, *, reservoir_pressure: float, drawdown: float,
     sampling_p: float, n_samples: int, rng: np.random.Generator,
+    start: Array | None = None,
 ) -> dict[str, Any]:
     """FORM, SORM and importance sampling of P(D_c <= drawdown) for one mechanism and stage.
 
@@ -60,6 +61,9 @@ def reliability_at_limit(
         Size of the sampling run [-].
     rng : numpy.random.Generator
         For importance sampling.
+    start : ndarray (d,), optional
+        Starting point of FORM in the standard-normal space, e.g. the most probable failing
+        sample of the run (the median point may sit on a plateau where g has no gradient).
 
     Returns
     -------
@@ -84,7 +88,7 @@ def reliability_at_limit(
         dc = model(input_columns(joint, x))
         return np.minimum(dc, reservoir_pressure) - drawdown
 
-    fr = form(g, d)
+    fr = form(g, d, u0=start)
     if not np.all(np.isfinite(fr.design_point)) or not np.any(fr.gradient != 0.0):
         return {
             "drawdown": drawdown, "sampling_p": sampling_p, "beta": fr.beta, "form_p": fr.pf,

@@ -92,7 +92,8 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
             dc = s["critical_drawdown"]
             worst = s.get("worst_shot_angle", s.get("worst_wall_angle"))
             t.add_row(_fmt(s["reservoir_pressure"]), _fmt(s["drawdown_limit"]),
-                      _fmt(s["drawdown_limit_lower"]),
+                      "n/a" if s["drawdown_limit_lower"] is None
+                      else _fmt(s["drawdown_limit_lower"]),
                       " / ".join(_fmt(dc[k]) for k in ("p10", "p50", "p90")),
                       _fmt(s["critical_wall_pressure"]["p50"]),
                       f"{s['never_fraction']:.1%}", "-" if worst is None else _fmt(worst))

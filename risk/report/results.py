@@ -82,6 +82,8 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
     grid = np.linspace(0.0, sc.max_drawdown, GRID_POINTS)
     p, lo, hi = probability.failure_curve(dc, grid)
     limit, lower = probability.drawdown_limit(dc, sc.accepted_risk)
+    if a.deterministic:  # one exact evaluation: no sampling error, no band, bound = value
+        lo, hi, lower = p, p, limit
     out: dict[str, Any] = {
         "reservoir_pressure": _pressure(a, p_r),
         "critical_drawdown": {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
@@ -170,6 +172,8 @@ def _pore_collapse(a: Assessment) -> dict[str, Any]:
     stages = []
     for p_r in a.stages:
         p, lo, hi = probability.failure_curve(-a.compaction.far_field, [-p_r])
+        if a.deterministic:
+            lo, hi = p, p
         stages.append({"reservoir_pressure": _pressure(a, p_r), "probability": rounded(p[0]),
                        "low": rounded(lo[0]), "high": rounded(hi[0]),
                        "wall_probability": rounded(float(np.mean(a.compaction.wall >= p_r)))})
