@@ -15,9 +15,9 @@ from risk.scenario import _SPEC, Scenario
 __all__ = ["print_scenario", "print_summary"]
 
 
-def _fmt(v: float | None, digits: int = 4) -> str:
+def _fmt(v: float | None, digits: int = 4, none: str = "never") -> str:
     if v is None:
-        return "never"
+        return none
     return f"{v:,.{digits}g}" if abs(v) < 1e5 else f"{v:,.0f}"
 
 
@@ -83,38 +83,47 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
         if key == "pore_collapse":
             _print_pore_collapse(con, mech, u)
             continue
-        t = Table(title=f"{mech['name']} ({key})", show_edge=False)
-        for col in (f"p_r [{u}]", f"limit @ {summary['accepted_risk']:g} [{u}]",
-                    f"95% lower [{u}]", f"Dc p10/p50/p90 [{u}]", f"p_wf,c p50 [{u}]",
-                    "never", "worst shot/wall [deg]"):
+        perforated = "shots" in mech["stages"][0]
+        t = Table(title=f"{mech['name']} ({key}) - pressures in {u}", show_edge=False,
+                  title_justify="left")
+        for col in ("p_r", f"limit@{summary['accepted_risk']:g}", "low95", "Dc P10",
+                    "Dc P50", "Dc P90", "never", "best/worst" if perforated else "wall"):
             t.add_column(col, justify="right")
         for s in mech["stages"]:
             dc = s["critical_drawdown"]
-            worst = s.get("worst_shot_angle", s.get("worst_wall_angle"))
+            if perforated:
+                b, w = s.get("best_shot_angle"), s.get("worst_shot_angle")
+                angle = "-" if b is None else f"{_fmt(b)}/{_fmt(w)}"
+            else:
+                wa = s.get("worst_wall_angle")
+                angle = "-" if wa is None else _fmt(wa)
             t.add_row(_fmt(s["reservoir_pressure"]), _fmt(s["drawdown_limit"]),
                       "n/a" if s["drawdown_limit_lower"] is None
                       else _fmt(s["drawdown_limit_lower"]),
-                      " / ".join(_fmt(dc[k]) for k in ("p10", "p50", "p90")),
-                      _fmt(s["critical_wall_pressure"]["p50"]),
-                      f"{s['never_fraction']:.1%}", "-" if worst is None else _fmt(worst))
+                      *(_fmt(dc[k]) for k in ("p10", "p50", "p90")),
+                      f"{s['never_fraction']:.0%}", angle)
         con.print(t)
         for s in mech["stages"]:
             if s.get("convergence_warning"):
                 con.print(f"[yellow]warning[/] (p_r {_fmt(s['reservoir_pressure'])} {u}): "
                           f"{s['convergence_warning']}")
     for key, rows in summary.get("sensitivity", {}).items():
-        ranked = [r for r in rows if r["total"] is not None]
+        ranked = [r for r in rows if r.get("rank_value") is not None]
         if not ranked:
-            con.print(f"sensitivity ({key}): no spread in the output (every sample has the "
-                      "same outcome)")
+            con.print(f"sensitivity ({key}): no spread in the output (almost every sample has "
+                      "the same outcome)")
             continue
         name = summary["mechanisms"].get(key, {}).get("name", key)
-        t = Table(title=f"What drives it: {name}, first stage (Sobol indices)", show_edge=False)
+        t = Table(title=f"What drives it: {name}, first stage", show_edge=False,
+                  title_justify="left")
         for col in ("input", "total", "first", "Shapley"):
             t.add_column(col, justify="right" if col != "input" else "left")
+
+        def num(v: float | None) -> str:
+            return "-" if v is None else f"{v:.2f}"
+
         for r in ranked[:8]:
-            t.add_row(r["input"], f"{r['total']:.2f}", f"{r['first']:.2f}",
-                      "-" if r["shapley"] is None else f"{r['shapley']:.2f}")
+            t.add_row(r["input"], num(r["total"]), num(r["first"]), num(r["shapley"]))
         con.print(t)
     con.print(f"results: {out_dir / 'results.json'}")
     if (out_dir / "memo.html").exists():
