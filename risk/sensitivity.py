@@ -1243,7 +1243,9 @@ def given_data_first_order(
     within-class variance, over Var(Y). It needs no model runs, holds for correlated inputs
     (the index is then the *full* first-order one: the effect of ``x_j`` with everything
     correlated with it) and for non-smooth outputs, where a polynomial surrogate fails.
-    Total indices and Shapley effects are not available from it (NaN).
+    Total indices and Shapley effects are not available from it (NaN). The bias-corrected
+    estimate of an index near zero can come out slightly negative from sampling noise; such
+    values (and interval ends) are reported as 0, which this docstring and the memo state.
 
     References
     ----------
@@ -1285,12 +1287,12 @@ def given_data_first_order(
             out[j] = (between - (int(used.sum()) - 1) / rows.size * within) / var
         return out
 
-    first = estimate(np.arange(n))
+    first = np.maximum(estimate(np.arange(n)), 0.0)
     if n_bootstrap > 0:
         boot = np.array([estimate(np.asarray(rng.integers(0, n, n), dtype=np.intp))
                          for _ in range(n_bootstrap)])
         alpha = (1.0 - confidence) / 2.0
-        low, high = np.nanquantile(boot, [alpha, 1.0 - alpha], axis=0)
+        low, high = np.maximum(np.nanquantile(boot, [alpha, 1.0 - alpha], axis=0), 0.0)
     else:
         low = high = np.full(d, np.nan)
     nan = np.full(d, np.nan)

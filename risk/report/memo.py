@@ -126,7 +126,8 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "non-smooth, in which case a Monte-Carlo estimator on the model (independent inputs) "
     "replaces the polynomial surrogate. With "
     "correlated inputs, Shapley effects rank the inputs where the surrogate holds; where it "
-    "does not, full first-order indices from the sample itself (given data) rank them; the "
+    "does not, full first-order indices from the sample itself (given data; estimates below "
+    "zero from sampling noise are shown as 0) rank them; the "
     "tornado varies one input at a time "
     "and ignores correlation.",
     "P10 of a critical drawdown is the drawdown at or below which 10% of the samples fail "
