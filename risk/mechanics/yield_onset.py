@@ -177,6 +177,16 @@ def critical_wall_pressure(
     general = np.ones(n, dtype=bool)
     if criterion == "mohr-coulomb":
         general = ~_mohr_coulomb_principal_axis(loc, p_r, big_a, nu, prm[0], p_wc, theta)
+        if np.any(general):
+            g = np.nonzero(general)[0]
+            done = _mohr_coulomb_compressive_wall(
+                LocalStress(*(c[g] for c in loc)), p_r[g], big_a[g], nu[g], prm[0][g],
+                prm[1][g], n_theta)
+            if done is not None:
+                mask, pw_d, th_d = done
+                p_wc[g[mask]] = pw_d
+                theta[g[mask]] = th_d
+                general[g[mask]] = False
     if np.any(general):
         g = np.nonzero(general)[0]
         pw_g, th_g = _general_solver(LocalStress(*(c[g] for c in loc)), p_r[g], big_a[g], nu[g],
@@ -220,6 +230,65 @@ def _mohr_coulomb_principal_axis(loc: LocalStress, p_r: Array, big_a: Array, nu:
     p_wc[i] = np.where(pc >= pr, pr, np.where(pc < 0.0, -np.inf, pc))
     theta[i] = 0.5 * (np.arctan2(4.0 * sxy[i], 2.0 * diff[i]) + np.pi)
     return ok
+
+
+def _mohr_coulomb_compressive_wall(
+    loc: LocalStress, p_r: Array, big_a: Array, nu: Array, ucs: Array, phi: Array, n_theta: int,
+) -> tuple[NDArray[np.bool_], Array, Array] | None:
+    """Mohr-Coulomb yield onset in closed form at each wall angle, for compressive walls.
+
+    If the smallest principal stress of the wall's hoop-axial block is non-negative all round
+    the wall at zero drawdown, it stays so for every lower wall pressure (it cannot fall as
+    p_w falls, as for the tensile cut-off; derived), so the radial stress 0 is the minor
+    principal stress and Mohr-Coulomb reads lambda_max = UCS. A sufficient test uses
+    lambda_min >= min(s'_t, s'_z) - |t_tz| with the closed-form extremes over the angle. At one
+    angle, lambda_max = UCS is (UCS - s'_t)(UCS - s'_z) = t_tz^2 on the upper branch, a
+    quadratic in p_w whose larger root is the critical wall pressure at that angle (derived;
+    the discriminant is a sum of squares). The worst angle maximises that explicit function:
+    angle grid, then the parabolic refinement used by the general solver.
+
+    Returns the mask of cases handled, their critical wall pressures [MPa] (p_r: fails with no
+    drawdown, -inf: never) and worst angles [rad]; None when no case qualifies.
+    """
+    del phi  # the friction angle does not enter while the minor principal stress is zero
+    a = big_a
+    k0 = loc.sxx + loc.syy - a * p_r
+    z0 = loc.szz - a * p_r
+    pp, qq = 2.0 * (loc.sxx - loc.syy), 4.0 * loc.sxy
+    yy, xx = 2.0 * loc.syz, 2.0 * loc.sxz
+    bt, bz = 2.0 - a, 1.0 - a
+    amp, tmax = np.hypot(pp, qq), np.hypot(xx, yy)
+    ok = ((k0 - amp - bt * p_r - tmax >= 0.0) & (z0 - nu * amp - bz * p_r - tmax >= 0.0)
+          & (a < 1.0 - 1e-9))
+    if not np.any(ok):
+        return None
+    i = np.nonzero(ok)[0]
+    case = (k0[i], z0[i], pp[i], qq[i], yy[i], xx[i], bt[i], bz[i], nu[i], ucs[i])
+
+    def p_of_theta(t: Array, _p: Array, k0_: Array, z0_: Array, pp_: Array, qq_: Array,
+                   yy_: Array, xx_: Array, bt_: Array, bz_: Array, nu_: Array, u_: Array
+                   ) -> Array:
+        dev = pp_ * np.cos(2.0 * t) + qq_ * np.sin(2.0 * t)
+        tau = yy_ * np.cos(t) - xx_ * np.sin(t)
+        a1 = u_ - k0_ + dev  # UCS - a_t
+        a2 = u_ - z0_ + nu_ * dev  # UCS - a_z
+        qa = bt_ * bz_
+        qb = a1 * bz_ + a2 * bt_
+        qc = a1 * a2 - tau * tau
+        sd = np.sqrt((a1 * bz_ - a2 * bt_) ** 2 + 4.0 * qa * tau * tau)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            big = np.where(qb <= 0.0, (-qb + sd) / (2.0 * qa), 2.0 * qc / (-qb - sd))
+        return np.asarray(big)
+
+    grid: Array = np.asarray(np.arange(n_theta) * (np.pi / n_theta), dtype=np.float64)
+    dummy = np.zeros(i.size)
+    vals = p_of_theta(grid[None, :], dummy[:, None], *(c[:, None] for c in case))
+    k = np.argmax(vals, axis=1)
+    best = vals[np.arange(i.size), k]
+    best, t = _refine_max(p_of_theta, grid[k], best, np.pi / n_theta, dummy, case)
+    pr = p_r[i]
+    pw = np.where(best >= pr, pr, np.where(best < 0.0, -np.inf, best))
+    return ok, pw, np.mod(t, np.pi)
 
 
 def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,

@@ -274,3 +274,35 @@ def test_principal_axis_closed_form_equals_general_solver():
     compressive = (sh_max + sh_min - 2 * np.sqrt((sh_max - sh_min) ** 2) - 2 * p_r >= 0) & (
         sv - nu * 2 * (sh_max - sh_min) - p_r >= 0)
     assert 0.2 < compressive.mean() < 0.95
+
+
+def test_compressive_wall_closed_form_equals_general_solver():
+    # The per-angle closed form for Mohr-Coulomb on compressive walls (tunnels and deviated
+    # wells, shear along the axis) must give the general envelope iteration's answer
+    # (derived closed form; independent algorithm), and be used for most realistic cases.
+    from risk.mechanics.yield_onset import _general_solver, _mohr_coulomb_compressive_wall
+
+    rng = np.random.default_rng(21)
+    n = 3000
+    sh_min = rng.uniform(40, 50, n)
+    sh_max = sh_min + rng.uniform(0, 15, n)
+    sv = sh_max + rng.uniform(-5, 15, n)
+    shots = rng.uniform(0, 2 * np.pi, n)
+    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), rng.uniform(0, 1.5, n),
+                rng.uniform(0, 6, n), shots)
+    ucs = rng.uniform(10, 160, n)
+    a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
+    p_r = rng.uniform(15, 30, n)
+    fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
+                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
+                                  tensile_strength=2.0).wall_pressure
+    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
+                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
+                               np.full(n, 0.5)), "mohr-coulomb", 24)
+    np.testing.assert_array_equal(np.isfinite(fast), np.isfinite(slow))
+    finite = np.isfinite(slow)
+    np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
+    handled = _mohr_coulomb_compressive_wall(loc, p_r, a, nu, ucs, np.full(n, 0.5), 24)
+    assert handled is not None and 0.3 < handled[0].mean() < 1.0
+    inside = (slow > 0) & (slow < p_r)
+    assert np.mean(inside & handled[0]) > 0.05  # the interesting outcome occurs in the path
