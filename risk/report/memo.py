@@ -364,6 +364,19 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 f"For {_lower(names.get(top_key, top_key))}, the input whose uncertainty "
                 f"matters most is {input_label(str(top['input']))} (largest "
                 f"{_rank_basis(top)}, {_rank_value(top):.2f}, at the first stage).")
+    for key, mech in _drawdown_mechanisms(results):
+        st0 = (mech.get("stages") or [{}])[0]
+        ph = st0.get("best_phasing")
+        if not ph or ph.get("drawdown_limit") is None or st0.get("drawdown_limit") is None:
+            continue
+        if float(ph["drawdown_limit"]) > float(st0["drawdown_limit"]):
+            a1, a2 = ph["angles"]
+            sentences.append(
+                f"Oriented perforating ({_lower(str(mech.get('name', key)))}, p_r = "
+                f"{_p(results, st0.get('reservoir_pressure'))}): shooting only at {a1:g}\u00b0 "
+                f"and {a2:g}\u00b0 from the high side raises the drawdown limit from "
+                f"{_p(results, st0['drawdown_limit'])} with every planned direction to "
+                f"{_p(results, ph['drawdown_limit'])}.")
     pore = (results.get("mechanisms") or {}).get("pore_collapse")
     if pore and pore.get("stages"):
         last = pore["stages"][-1]

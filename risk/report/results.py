@@ -284,7 +284,6 @@ def _well(a: Assessment) -> dict[str, Any]:
         f"true vertical depth [{length}]": rounded(sc.to_display(w.depth, "length")),
         "inclination [deg]": rounded(math.degrees(w.inclination)),
         "azimuth [deg]": rounded(math.degrees(w.azimuth)),
-        "completion": w.completion,
     }
     if w.completion == "perforated":
         out["shot angles [deg]"] = ", ".join(f"{math.degrees(x):g}" for x in w.shot_angles)
