@@ -126,7 +126,8 @@ def main() -> None:
     n = 20_000 if not quick else 5_000
     n_loop = 20 if not quick else 8
     for label, inc in (("vertical well (closed-form path)", 0.0),
-                       ("60-degree well (general path)", np.radians(60.0))):
+                       ("60-degree well (per-angle closed form where the wall is "
+                        "compressive, else the general path)", np.radians(60.0))):
         case = yield_case(n, rng, inc)
         t_vec = best_of(lambda case=case: vectorised(case)) / n
         t_loop = best_of(lambda case=case: scipy_loop(case, n_loop), repeat=1) / n_loop
