@@ -131,6 +131,18 @@ def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, 
     return out
 
 
+def depletion_paths(cols: Mapping[str, Array]) -> tuple[Array, Array]:
+    """Depletion paths dSh/dp and dSH/dp [1] (MECHANICS.md sec. 3): ``depletion_path``, or the
+    uniaxial-strain value alpha (1 - 2 nu)/(1 - nu); ``depletion_path_shmax`` defaults to it."""
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
+            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    path_big = (np.asarray(cols["depletion_path_shmax"], dtype=float)
+                if "depletion_path_shmax" in cols else path)
+    return path, path_big
+
+
 def _frames(scenario: Scenario) -> Array:
     w = scenario.well
     if w.completion == "openhole":
@@ -162,11 +174,10 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     biot = np.asarray(cols["biot"], dtype=float)
     big_a = st.poroelastic_coefficient(biot=biot, poisson_ratio=nu)
-    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
-            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    path, path_big = depletion_paths(cols)
     p0 = phys["pp"][:, None]
     sh_max = st.depleted_stress(initial=phys["shmax"][:, None], initial_pore_pressure=p0,
-                                reservoir_pressure=stages, path=path[:, None])
+                                reservoir_pressure=stages, path=path_big[:, None])
     sh_min = st.depleted_stress(initial=phys["shmin"][:, None], initial_pore_pressure=p0,
                                 reservoir_pressure=stages, path=path[:, None])
     tensor = st.far_field_tensor(shmax=sh_max, shmin=sh_min, sv=phys["sv"][:, None],
@@ -236,10 +247,7 @@ def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
     phys = physical_inputs(cols, scenario)
     n = phys["sv"].size
     stages = np.asarray(scenario.reservoir_pressure)
-    nu = np.asarray(cols["poisson_ratio"], dtype=float)
-    biot = np.asarray(cols["biot"], dtype=float)
-    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
-            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    path, path_big = depletion_paths(cols)
     frames = _frames(scenario)
     worst = np.argmin(dc, axis=1)  # (n, k): first direction to collapse
     if scenario.criterion == "hoek-brown":
@@ -249,7 +257,7 @@ def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
     out = []
     for k, p_r in enumerate(stages):
         big = st.depleted_stress(initial=phys["shmax"], initial_pore_pressure=phys["pp"],
-                                 reservoir_pressure=p_r, path=path)
+                                 reservoir_pressure=p_r, path=path_big)
         small = st.depleted_stress(initial=phys["shmin"], initial_pore_pressure=phys["pp"],
                                    reservoir_pressure=p_r, path=path)
         t = st.far_field_tensor(shmax=big, shmin=small, sv=phys["sv"],
@@ -318,20 +326,18 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
     """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa]."""
     phys = physical_inputs(cols, scenario)
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
-    biot = np.asarray(cols["biot"], dtype=float)
-    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
-            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    path, path_big = depletion_paths(cols)
     p_star = np.asarray(cols["pore_collapse_pressure"], dtype=float)
     far = compaction.far_field_collapse_pressure(
         sv=phys["sv"], shmax0=phys["shmax"], shmin0=phys["shmin"], p0=phys["pp"], path=path,
-        collapse_pressure=p_star)
+        path_shmax=path_big, collapse_pressure=p_star)
     far = np.where(far < 0.0, -np.inf, far)
     frames = _frames(scenario)
 
     def wall_excess(p_r: Array, *args: Array) -> Array:
-        sv, sh_max0, sh_min0, p0, g, az, nu_, pstar = args
+        sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar = args
         big = st.depleted_stress(initial=sh_max0, initial_pore_pressure=p0,
-                                 reservoir_pressure=p_r, path=g)
+                                 reservoir_pressure=p_r, path=g_big)
         small = st.depleted_stress(initial=sh_min0, initial_pore_pressure=p0,
                                    reservoir_pressure=p_r, path=g)
         t = st.far_field_tensor(shmax=big, shmin=small, sv=sv, shmax_azimuth=az)
@@ -340,7 +346,7 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
                                            poisson_ratio=nu_[..., None])
         return np.asarray(m.max(axis=-1) - pstar)
 
-    args = (phys["sv"], phys["shmax"], phys["shmin"], phys["pp"], path,
+    args = (phys["sv"], phys["shmax"], phys["shmin"], phys["pp"], path, path_big,
             np.asarray(cols["shmax_azimuth"], dtype=float), nu, p_star)
     hi = phys["pp"]
     f_hi = wall_excess(hi, *args)
@@ -365,7 +371,7 @@ MC_FALLBACK_RUNS: Final = 512  # base sample of the Monte-Carlo fallback, n (d +
 GROUPS: Final[dict[str, tuple[str, ...]]] = {
     "in-situ stresses": ("sv", "sv_gradient", "shmax", "shmax_gradient", "shmin",
                          "shmin_gradient", "shmax_azimuth", "pp", "pp_gradient",
-                         "depletion_path"),
+                         "depletion_path", "depletion_path_shmax"),
     "rock strength": ("ucs", "friction_angle", "tensile_strength", "twc", "twc_ratio",
                       "twc_factor", "hb_mi", "gsi", "critical_plastic_strain",
                       "pore_collapse_pressure"),

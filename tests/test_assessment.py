@@ -223,3 +223,20 @@ def test_pore_collapse_sensitivity_output_is_clipped_to_p0():
     keys, y = _outputs(sc_stub, {}, comp)  # type: ignore[arg-type]
     assert keys == [("pore_collapse", 0)]
     np.testing.assert_array_equal(y[:, 0], [0.0, 10.0, 30.0])
+
+
+def test_separate_shmax_depletion_path(write):
+    # Vertical well, Mohr-Coulomb, hoop major: SH and Sh follow their own paths, so at a
+    # depleted stage the closed form (MECHANICS.md 4.1) uses SH - gH dp and Sh - gh dp.
+    doc = OPENHOLE_SI.replace("depletion_path = 0.5",
+                              "depletion_path = 0.5\ndepletion_path_shmax = 0.8")
+    a = assess(load_scenario(write(doc)), samples=64)
+    A = float(st.poroelastic_coefficient(biot=0.8, poisson_ratio=0.25))
+    ucs = a.inputs["ucs"]
+    p_r = 20.0
+    sh_max, sh_min = 48 - 0.8 * 5.0, 40 - 0.5 * 5.0
+    expected = p_r - (3 * sh_max - sh_min - ucs - A * p_r) / (2 - A)
+    got = a.mechanisms["yield_onset"].well[:, 1]
+    inside = (expected > 0) & (expected < p_r)
+    np.testing.assert_allclose(got[inside], expected[inside], atol=1e-9)
+    assert inside.any()

@@ -44,7 +44,7 @@ def far_field_mean_effective(
 
 def far_field_collapse_pressure(
     *, sv: ArrayLike, shmax0: ArrayLike, shmin0: ArrayLike, p0: ArrayLike, path: ArrayLike,
-    collapse_pressure: ArrayLike,
+    collapse_pressure: ArrayLike, path_shmax: ArrayLike | None = None,
 ) -> Array:
     """Reservoir pressure p_rc [MPa] at which the far-field mean effective stress reaches P*.
 
@@ -61,11 +61,14 @@ def far_field_collapse_pressure(
         Depletion stress path g = dSh/dp [1], in [0, 1].
     collapse_pressure : array_like
         Pore-collapse pressure P* (mean effective stress) [MPa].
+    path_shmax : array_like, optional
+        dSH/dp [1] when it differs from ``path``; the sum of the two replaces 2 g above.
     """
     g = np.asarray(path, dtype=float)
+    g_sum = g + (g if path_shmax is None else np.asarray(path_shmax, dtype=float))
     num = ((np.asarray(sv) + np.asarray(shmax0) + np.asarray(shmin0)
-            - 2.0 * g * np.asarray(p0)) / 3.0 - np.asarray(collapse_pressure))
-    return num / (1.0 - 2.0 * g / 3.0)
+            - g_sum * np.asarray(p0)) / 3.0 - np.asarray(collapse_pressure))
+    return num / (1.0 - g_sum / 3.0)
 
 
 def wall_mean_effective(local: LocalStress, *, reservoir_pressure: ArrayLike,

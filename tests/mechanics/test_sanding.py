@@ -78,3 +78,12 @@ def test_wall_mean_effective_equals_scan():
     assert float(compaction.wall_mean_effective(loc, reservoir_pressure=30.0,
                                                 poisson_ratio=0.25)) == pytest.approx(scan,
                                                                                       abs=1e-8)
+
+
+def test_far_field_pore_collapse_with_two_paths():
+    # derived: with dSH/dp = gH and dSh/dp = gh the mean effective stress on the path is
+    # (Sv + SH0 + Sh0 - (gH + gh)(p0 - p_r))/3 - p_r; at p_rc it equals P*
+    kw = dict(sv=70.0, shmax0=60.0, shmin0=50.0, p0=35.0, path=0.5)
+    prc = compaction.far_field_collapse_pressure(collapse_pressure=40.0, path_shmax=0.8, **kw)
+    mean = (70.0 + 60.0 + 50.0 - (0.8 + 0.5) * (35.0 - prc)) / 3.0 - prc
+    assert mean == pytest.approx(40.0)
