@@ -222,8 +222,14 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
                                                       reservoir_pressure=p_r,
                                                       poro_coefficient=per_sample(big_a))
         dc_es = sanding.classify_wall_pressure(pw, p_r)
-        out["effective_strength_onset"] = MechanismResult(
-            "effective_strength_onset", dc_es, np.full(dc_es.shape, np.nan))
+        if scenario.effective_strength_cavity == "tip":
+            th_es = np.full(dc_es.shape, np.nan)
+        else:  # the hoop stress peaks where 2 (sxx - syy) cos 2t + 4 sxy sin 2t is least
+            th_es = np.mod(0.5 * (np.arctan2(4.0 * local.sxy, 2.0 * (local.sxx - local.syy))
+                                  + np.pi), np.pi)
+            th_es = np.where(np.isinf(dc_es), np.nan, np.broadcast_to(th_es, dc_es.shape))
+        out["effective_strength_onset"] = MechanismResult("effective_strength_onset", dc_es,
+                                                          th_es)
     if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
         kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a)
         p_wc = cavity.collapse_wall_pressure(
