@@ -123,3 +123,18 @@ def test_every_output_records_seed_version_and_hash(tmp_path):
     for png in (out / "figures").glob("*.png"):
         data = png.read_bytes()
         assert sha.encode() in data and b"seed 9" in data  # PNG tEXt chunk
+
+
+def test_memo_rerenders_without_recomputing(tmp_path):
+    out = tmp_path / "run"
+    r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(out), "--samples", "128", "-q"])
+    assert r.exit_code == 0, r.output
+    before = (out / "results.json").read_bytes()
+    (out / "memo.html").unlink()
+    (out / "memo.pdf").unlink()
+    r = RUNNER.invoke(app, ["memo", str(out)])
+    assert r.exit_code == 0, r.output
+    assert (out / "memo.html").exists() and (out / "memo.pdf").read_bytes()[:5] == b"%PDF-"
+    assert (out / "results.json").read_bytes() == before  # nothing recomputed or rewritten
+    r = RUNNER.invoke(app, ["memo", str(tmp_path / "nothing")])
+    assert r.exit_code == 2 and "results.json" in r.output and "Traceback" not in r.output
