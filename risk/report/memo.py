@@ -564,7 +564,9 @@ def _pore_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
     return {"name": str(pc.get("name", "Pore collapse")), "crit": crit, "stages": stages,
             "has_wall": any(s.get("wall_probability") is not None
                             for s in pc.get("stages") or []),
-            "never": _pct(pc.get("never_fraction")) if "never_fraction" in pc else None}
+            "never": _pct(pc.get("never_fraction")) if "never_fraction" in pc else None,
+            "initial": (_pct(pc["initially_compacted_fraction"])
+                        if pc.get("initially_compacted_fraction") else None)}
 
 
 def _operating_points(results: Mapping[str, Any]) -> list[dict[str, Any]]:
