@@ -70,6 +70,7 @@ import numpy as np
 import scipy.linalg
 import scipy.linalg.blas
 import scipy.sparse
+import scipy.special
 from numpy.typing import ArrayLike, NDArray
 from scipy.sparse.csgraph import connected_components
 from scipy.special import ndtr, ndtri
@@ -1287,12 +1288,17 @@ def given_data_first_order(
             out[j] = (between - (int(used.sum()) - 1) / rows.size * within) / var
         return out
 
-    first = np.maximum(estimate(np.arange(n)), 0.0)
+    raw = estimate(np.arange(n))
+    first = np.maximum(raw, 0.0)
     if n_bootstrap > 0:
+        # normal interval from the bootstrap standard error: resampling with replacement
+        # biases this estimator upward (repeated rows shrink the within-class variance), so
+        # percentile intervals can miss the estimate itself
         boot = np.array([estimate(np.asarray(rng.integers(0, n, n), dtype=np.intp))
                          for _ in range(n_bootstrap)])
-        alpha = (1.0 - confidence) / 2.0
-        low, high = np.maximum(np.nanquantile(boot, [alpha, 1.0 - alpha], axis=0), 0.0)
+        z = float(scipy.special.ndtri(0.5 + confidence / 2.0))
+        half = z * np.nanstd(boot, axis=0, ddof=1)
+        low, high = np.maximum(raw - half, 0.0), np.maximum(raw + half, 0.0)
     else:
         low = high = np.full(d, np.nan)
     nan = np.full(d, np.nan)

@@ -324,11 +324,16 @@ def plot_envelope(results: Mapping[str, Any], *, fig: Figure | None = None) -> F
                        if all(q in s["critical_wall_pressure"] for s in stages)]
             ys = {q: np.nan_to_num(_arr([s["critical_wall_pressure"][q] for s in stages]),
                                    nan=0.0) for q in present}
-            colors = _band_colors(len(present) - 1)
+            colors = _band_colors(len(present))
             for j, (qa, qb) in enumerate(zip(present[:-1], present[1:], strict=True)):
                 label = f"{int(qa[1:])}–{int(qb[1:])}% of samples fail"
                 band_handles[label] = ax.fill_between(x, ys[qb], ys[qa], color=colors[j],
                                                       alpha=0.8, linewidth=0, label=label)
+            if present:  # below the last line more than that share fails: the worst region
+                last = present[-1]
+                label = f"more than {int(last[1:])}% of samples fail"
+                band_handles[label] = ax.fill_between(x, 0.0, ys[last], color=colors[-1],
+                                                      alpha=0.95, linewidth=0, label=label)
             styles = {"p10": ("--", 1.1), "p50": ("-", 1.6), "p90": (":", 1.4)}
             for q, (ls, lw) in styles.items():
                 if q in ys:
@@ -379,9 +384,12 @@ def _shot_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[str,
 
 def _best_shot(stage: Mapping[str, Any]) -> float | None:
     """The ``best_shot_angle`` of the stage, else the shot with the lowest probability at the
-    limit (ties: the larger median critical drawdown)."""
+    limit (ties: the larger median critical drawdown); None where the results state that no
+    direction is preferred."""
     if stage.get("best_shot_angle") is not None:
         return float(stage["best_shot_angle"])
+    if "best_shot_angle" in stage or stage.get("shot_note"):
+        return None
     shots = stage.get("shots") or []
     if not shots:
         return None
@@ -441,6 +449,10 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                 colors = [PALETTE[2] if b else PALETTE[0] for b in is_best]
                 ax.bar(ang, np.nan_to_num(prob, nan=0.0), width=width, color=colors,
                        edgecolor="black", linewidth=0.5, alpha=0.9)
+                if not np.any(np.nan_to_num(prob, nan=0.0) > 0.0):
+                    ax.text(0.5, 0.5, "limit 0 in\nevery direction", transform=ax.transAxes,
+                            ha="center", va="center", fontsize=7,
+                            bbox={"facecolor": "white", "edgecolor": "0.6", "pad": 2.0})
                 ax.set_theta_zero_location("N")
                 ax.set_theta_direction(-1)
                 if best is not None:  # visible even when the best shot's probability is 0

@@ -72,9 +72,12 @@ CAPTIONS: Final[dict[str, str]] = {
         "Pore collapse: probability vs reservoir pressure with its 95% band and the P10, P50 and "
         "P90 critical reservoir pressures."),
     "sensitivity": (
-        "Sobol first-order and total indices at the first stage, with their intervals, of the "
-        "critical drawdown (pore collapse: of the critical reservoir pressure); diamonds are "
-        "Shapley effects (shares of the variance)."),
+        "Sensitivity indices with their intervals at the first stage (pore collapse: over "
+        "depletion) of the capped critical drawdown (pore collapse: of the critical reservoir "
+        "pressure); diamonds are Shapley effects where the surrogate gave them. With correlated "
+        "inputs the first-order index is the full one (with everything correlated with the "
+        "input) and the total the independent one, so first can exceed total; where only "
+        "given-data first-order indices exist, no total is drawn."),
     "tornado": (
         "Tornado chart: the critical drawdown (pore collapse: the critical reservoir pressure) "
         "when one input at a time is moved to its P10 or P90 value, the others held at their "
@@ -107,6 +110,9 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "Not modelled: transient and cyclic loading (start-ups, shut-ins), multiphase flow and "
     "water breakthrough, rate-dependent erosion and sand transport, strain softening and large "
     "strains, thermal effects.",
+    "Yield onset at the wall is the earliest and most conservative signal: it marks the "
+    "first permanent deformation, not sand production, which needs the tunnel to fail "
+    "(tunnel collapse) or the calibrated effective-strength onset.",
     "Tunnel collapse (when computed): an axisymmetric elastic-perfectly plastic cavity "
     "(Mohr\u2013Coulomb with dilation, or Hoek\u2013Brown) in an equivalent hydrostatic in-plane "
     "stress (3\u03c3\u2081 \u2212 \u03c3\u2083)/2, with steady Darcy flow to a fixed drainage "
@@ -376,15 +382,24 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 f"{_p(results, st0.get('reservoir_pressure'))}): shooting only at {a1:g}\u00b0 "
                 f"and {a2:g}\u00b0 from the high side raises the drawdown limit from "
                 f"{_p(results, st0['drawdown_limit'])} with every planned direction to "
-                f"{_p(results, ph['drawdown_limit'])}.")
+                f"{_p(results, ph['drawdown_limit'])}"
+                + (" (the whole reservoir pressure: fewer than the accepted share fail even at "
+                   "zero flowing pressure)"
+                   if float(ph["drawdown_limit"]) >= float(st0.get("reservoir_pressure") or
+                                                           math.inf) else "")
+                + " at this stage; check the other stages in the tables below.")
     pore = (results.get("mechanisms") or {}).get("pore_collapse")
     if pore and pore.get("stages"):
         last = pore["stages"][-1]
         crit = (pore.get("critical_reservoir_pressure") or {}).get("p50")
+        wall = last.get("wall_probability")
         sentences.append(
-            f"{pore.get('name', 'Pore collapse')}: probability {_prob(last.get('probability'))}"
-            f" at the last stage (p_r = {_p(results, last.get('reservoir_pressure'))}); median "
-            f"critical reservoir pressure {_p(results, crit, none='not reached')}.")
+            f"{pore.get('name', 'Pore collapse')}: probability "
+            f"{_prob(last.get('probability'))} in the far field"
+            + (f" and {_prob(wall)} at the wall" if wall is not None else "")
+            + f" at the last stage (p_r = {_p(results, last.get('reservoir_pressure'))}); "
+            f"median far-field critical reservoir pressure "
+            f"{_p(results, crit, none='not reached')}.")
     if results.get("deterministic"):
         sentences.append("Deterministic run (every input fixed, one evaluation): each "
                          "probability is 0 or 1 and carries no sampling error, so no confidence "
@@ -566,7 +581,9 @@ def _pore_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
                             for s in pc.get("stages") or []),
             "never": _pct(pc.get("never_fraction")) if "never_fraction" in pc else None,
             "initial": (_pct(pc["initially_compacted_fraction"])
-                        if pc.get("initially_compacted_fraction") else None)}
+                        if pc.get("initially_compacted_fraction") else None),
+            "wall_initial": (_pct(pc["wall_initially_compacted_fraction"])
+                             if pc.get("wall_initially_compacted_fraction") else None)}
 
 
 def _operating_points(results: Mapping[str, Any]) -> list[dict[str, Any]]:

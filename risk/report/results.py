@@ -42,6 +42,11 @@ def _angle(a: Assessment, v: float) -> float | None:
     return rounded(math.degrees(v)) if math.isfinite(v) else None
 
 
+def _key(x: float) -> float:
+    """A ranking key insensitive to floating-point noise (9 significant digits)."""
+    return float(f"{x:.9g}") if math.isfinite(x) else x
+
+
 def _best_phasing(a: Assessment, by_dir: Any, p_r: float) -> dict[str, Any] | None:
     """The best 180-degree phasing (two opposite shots) among the scenario's directions.
 
@@ -57,7 +62,8 @@ def _best_phasing(a: Assessment, by_dir: Any, p_r: float) -> dict[str, Any] | No
                 continue
             pair = np.minimum(by_dir[:, i], by_dir[:, j])
             lim = min(probability.drawdown_limit(pair, a.scenario.accepted_risk)[0], p_r)
-            key = (lim, -float(np.mean(pair <= lim)), float(np.mean(np.minimum(pair, p_r))))
+            key = (_key(lim), _key(-float(np.mean(pair <= lim))),
+                   _key(float(np.mean(np.minimum(pair, p_r)))))
             if best is None or key > best[0]:
                 best = (key, i, j)
             worst = key if worst is None or key < worst else worst
@@ -134,7 +140,10 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
                  for ang, v, lim_j, pj in zip(a.directions, p50s, limits, p_at, strict=True)]
         # best: largest own limit, then lowest probability at the well's limit, then largest
         # capped mean; worst: the reverse. Exact ties all the way are reported as no preference.
-        keys = [(lim_j, -pj, mj) for lim_j, pj, mj in zip(limits, p_at, means, strict=True)]
+        # rounded so that floating-point noise (e.g. opposite shots, equal by symmetry) cannot
+        # pick a winner
+        keys = [(_key(lim_j), _key(-pj), _key(mj))
+                for lim_j, pj, mj in zip(limits, p_at, means, strict=True)]
         order = sorted(range(len(keys)), key=lambda j: keys[j])
         worst, best = order[0], order[-1]
         distinct = keys[best] != keys[worst]
@@ -180,9 +189,16 @@ def _pore_collapse(a: Assessment) -> dict[str, Any]:
     out["stages"] = stages
     out["never_fraction"] = rounded(float(np.mean(np.isneginf(a.compaction.far_field))))
     if a.compaction.initial is not None:
-        # a critical pressure at or above p0: compacted before any depletion
+        # a critical pressure at or above p0: compacted before any depletion (the wall value
+        # is then reported as p0 itself)
         out["initially_compacted_fraction"] = rounded(
             float(np.mean(a.compaction.far_field >= a.compaction.initial)))
+        out["wall_initially_compacted_fraction"] = rounded(
+            float(np.mean(a.compaction.wall >= a.compaction.initial)))
+    if a.stages:
+        last = min(a.stages)
+        out["uncollapsed_at_last_stage_fraction"] = rounded(
+            float(np.mean(a.compaction.far_field < last)))
     return out
 
 
