@@ -56,7 +56,8 @@ CAPTIONS: Final[dict[str, str]] = {
     "failure_probability": (
         "Probability of failure vs drawdown for each mechanism and depletion stage, with its "
         "95% confidence band. The dashed line is the accepted risk; each dot marks the drawdown "
-        "limit, its whisker reaches down to the 95% lower confidence bound."),
+        "limit, its whisker reaches down to the 95% lower confidence bound (limits beyond the "
+        "largest drawdown considered are in the tables only)."),
     "envelope": (
         "Operating envelope over depletion: the critical flowing wall pressure (below it, that "
         "share of samples fails) vs reservoir pressure. Shading gives the share of samples "
