@@ -247,11 +247,24 @@ def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
         assert worst(min(above, p_r)) <= 1e-6
 
 
+def _shortcut_and_general(loc, p_r, a, nu, ucs):
+    """Mohr-Coulomb critical wall pressures by the public solver (shortcuts allowed) and by the
+    general envelope iteration alone, for the same cases."""
+    from risk.mechanics.yield_onset import _general_solver
+
+    n = np.size(p_r)
+    fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
+                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
+                                  tensile_strength=2.0).wall_pressure
+    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
+                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
+                               np.full(n, 0.5)), "mohr-coulomb", 24)
+    return fast, slow
+
+
 def test_principal_axis_closed_form_equals_general_solver():
     # The Mohr-Coulomb shortcut for cavities along a principal axis (vertical wells) must give
     # the general envelope iteration's answer (derived closed form; independent algorithm).
-    from risk.mechanics.yield_onset import _general_solver
-
     rng = np.random.default_rng(8)
     n = 3000
     sh_min = rng.uniform(25, 50, n)
@@ -261,12 +274,7 @@ def test_principal_axis_closed_form_equals_general_solver():
     ucs = rng.uniform(10, 140, n)
     a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
     p_r = rng.uniform(10, 24, n)
-    fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
-                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
-                                  tensile_strength=2.0).wall_pressure
-    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
-                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
-                               np.full(n, 0.5)), "mohr-coulomb", 24)
+    fast, slow = _shortcut_and_general(loc, p_r, a, nu, ucs)
     finite = np.isfinite(slow)
     np.testing.assert_array_equal(np.isfinite(fast), finite)
     np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
@@ -280,7 +288,7 @@ def test_compressive_wall_closed_form_equals_general_solver():
     # The per-angle closed form for Mohr-Coulomb on compressive walls (tunnels and deviated
     # wells, shear along the axis) must give the general envelope iteration's answer
     # (derived closed form; independent algorithm), and be used for most realistic cases.
-    from risk.mechanics.yield_onset import _general_solver, _mohr_coulomb_compressive_wall
+    from risk.mechanics.yield_onset import _mohr_coulomb_compressive_wall
 
     rng = np.random.default_rng(21)
     n = 3000
@@ -293,12 +301,7 @@ def test_compressive_wall_closed_form_equals_general_solver():
     ucs = rng.uniform(10, 160, n)
     a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
     p_r = rng.uniform(15, 30, n)
-    fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
-                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
-                                  tensile_strength=2.0).wall_pressure
-    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
-                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
-                               np.full(n, 0.5)), "mohr-coulomb", 24)
+    fast, slow = _shortcut_and_general(loc, p_r, a, nu, ucs)
     np.testing.assert_array_equal(np.isfinite(fast), np.isfinite(slow))
     finite = np.isfinite(slow)
     np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
