@@ -55,34 +55,50 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     """
     n_samples, n_seed = _check_overrides(samples, seed)
     scenario = load_scenario(path)
-    from risk.report.writer import check_output_dir, dumps, publish
+    from risk.report.writer import check_output_dir, publish
 
     out_dir = check_output_dir(out, force=force)
     from risk.assessment import assess
     from risk.report.results import summarize
+
+    def produce(progress: Any = None, step: Any = None) -> tuple[Any, dict[str, Any],
+                                                                 dict[str, str | bytes]]:
+        assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=progress,
+                            step=step)
+        if step is not None:
+            step("figures and memo")
+        summary = summarize(assessment)
+        return assessment, summary, _output_files(summary, _run_info(path, summary))
 
     if show_progress:
         from rich.progress import Progress
 
         with Progress(transient=True) as bar:
             task = bar.add_task("evaluating samples", total=None)
-
-            def tick(done: int, total: int) -> None:
-                bar.update(task, completed=done, total=total)
-
-            assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=tick)
+            assessment, summary, files = produce(
+                lambda done, total: bar.update(task, completed=done, total=total),
+                lambda text: bar.update(task, description=text))
     else:
-        assessment = assess(scenario, samples=n_samples, seed=n_seed)
-    summary = summarize(assessment)
-    run_info = {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
-                "scenario_file": str(path), "scenario_sha256": summary["scenario_sha256"],
-                "version": summary["version"], "seed": summary["seed"],
-                "samples": summary["samples"], "sampling": summary["sampling"]}
+        assessment, summary, files = produce()
+    publish(out_dir, files, force=force)
+    return RunResult(summary, out_dir, assessment)
+
+
+def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:
+    return {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+            "scenario_file": str(path), "scenario_sha256": summary["scenario_sha256"],
+            "version": summary["version"], "seed": summary["seed"],
+            "samples": summary["samples"], "sampling": summary["sampling"]}
+
+
+def _output_files(summary: dict[str, Any], run_info: dict[str, Any]
+                  ) -> dict[str, str | bytes]:
+    from risk.report.writer import dumps
+
     files: dict[str, str | bytes] = {"results.json": dumps(summary),
                                      "run.json": dumps(run_info)}
     files.update(_memo_files(summary, run_info))
-    publish(out_dir, files, force=force)
-    return RunResult(summary, out_dir, assessment)
+    return files
 
 
 def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, str | bytes]:

@@ -508,7 +508,8 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
 
 
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
-           progress: Progress | None = None) -> Assessment:
+           progress: Progress | None = None,
+           step: Callable[[str], None] | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
 
     Parameters
@@ -518,6 +519,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         Override the scenario's ``[analysis] samples`` and ``seed``.
     progress : callable(done, total), optional
         Called after each evaluated chunk (the CLI shows a progress bar).
+    step : callable(text), optional
+        Told when a later step starts (small-risk methods, sensitivity).
 
     Notes
     -----
@@ -582,6 +585,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     comp_all = CompactionResult(far_all, wall_all, p0_all) if with_compaction else None
     reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
     if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
+        if step is not None:
+            step("FORM, SORM and importance sampling at the limits")
         for key, mech in mechanisms.items():
             for stage, p_r in enumerate(scenario.reservoir_pressure):
                 dc = mech.well[:, stage]
@@ -600,6 +605,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
                     rng=np.random.default_rng([seed_, 1, stage]), start=start)
+    if step is not None:
+        step("sensitivity indices")
     sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))

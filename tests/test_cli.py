@@ -138,3 +138,14 @@ def test_memo_rerenders_without_recomputing(tmp_path):
     assert (out / "results.json").read_bytes() == before  # nothing recomputed or rewritten
     r = RUNNER.invoke(app, ["memo", str(tmp_path / "nothing")])
     assert r.exit_code == 2 and "results.json" in r.output and "Traceback" not in r.output
+
+
+def test_progress_display_path_gives_the_same_results(tmp_path):
+    # the progress bar (a terminal nicety) must not change what is computed or written
+    from risk.api import run_scenario
+
+    a = run_scenario(EXAMPLE, out=tmp_path / "a", samples=64, show_progress=True)
+    b = run_scenario(EXAMPLE, out=tmp_path / "b", samples=64, show_progress=False)
+    assert (tmp_path / "a" / "results.json").read_bytes() == (
+        tmp_path / "b" / "results.json").read_bytes()
+    assert a.summary["samples"] == b.summary["samples"] == 64
