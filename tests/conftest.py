@@ -2,9 +2,17 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
+
+# Property tests draw the same examples on every run, so CI cannot turn red by chance;
+# HYPOTHESIS_PROFILE=explore draws new ones (run it locally now and then).
+settings.register_profile("deterministic", derandomize=True, database=None)
+settings.register_profile("explore", derandomize=False)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "deterministic"))
 
 FIELD_DOC = """
 title = "Test well (field units)"

@@ -95,8 +95,30 @@ def _accepted(call: Callable[[], Scenario], bad: Callable[[Scenario], bool]) -> 
         return False
 
 
+def _key_parts(key: str) -> list[str]:
+    """Split a dotted key as the loader writes it: TOML basic strings quote odd parts
+    (well.".." is the key '..' in [well], not four parts)."""
+    parts, cur, quoted, i = [], "", False, 0
+    while i < len(key):
+        ch = key[i]
+        if quoted and ch == "\\" and i + 1 < len(key):
+            cur += key[i + 1]
+            i += 2
+            continue
+        if ch == '"':
+            quoted = not quoted
+        elif ch == "." and not quoted:
+            parts.append(cur)
+            cur = ""
+        else:
+            cur += ch
+        i += 1
+    parts.append(cur)
+    return parts
+
+
 def _blank_part(key: str) -> bool:
-    return any(not part.strip() for part in key.split("."))
+    return any(not part.strip() for part in _key_parts(key))
 
 
 def _blank_key_named() -> bool:

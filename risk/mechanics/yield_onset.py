@@ -14,18 +14,20 @@ At the wall the effective radial stress is zero (permeable, producing wall: the 
 
 (:func:`risk.mechanics.stresses.wall_stresses`, Terzaghi effective stress). Every criterion in
 :mod:`risk.mechanics.criteria` has a convex elastic domain, so along this straight stress path
-the safe wall pressures at one angle form a single interval. Hence:
+the safe wall pressures at one angle form a single interval, and the tensile cut-off can only be
+reached at zero drawdown (the smallest principal effective stress does not fall as ``p_w``
+falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
 
-1. at each angle the critical wall pressure ``v(t)`` is the lower end of that interval, found by
-   a bracketed root (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``) on
-   ``[p_lo, p_r]`` with ``p_lo`` far below zero; ``v(t) >= p_r`` where the wall already fails
-   at zero drawdown;
-2. the worst angle maximises ``v(t)``: a grid of ``n_theta`` angles over [0, pi) (the wall
-   stresses have period pi) gives a bracket that is refined by Chandrupatla's minimiser
-   (1998, ``scipy.optimize.elementwise.find_minimum``) to the floating-point limit;
-3. the tensile cut-off can only be reached at zero drawdown for this stress path (the smallest
-   principal effective stress does not fall as ``p_w`` falls; derived), so it is checked at
-   ``p_w = p_r`` with its own refined maximum over the angle.
+- **Mohr-Coulomb** (the default criterion): a compiled kernel, one case per loop iteration
+  (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
+  a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
+  arguments, and on the remaining arc it is the root of the closed form's slope.
+- **the other criteria**: a vectorised envelope iteration (Notes of
+  :func:`critical_wall_pressure`): bracketed roots in the wall pressure (Chandrupatla 1997,
+  ``scipy.optimize.elementwise.find_root``) and maxima over ``n_theta`` grid angles refined by
+  parabolic steps on shrinking brackets.
+
+The two agree to 1e-8 MPa on Mohr-Coulomb (tests/mechanics/test_yield_onset.py).
 
 Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with no drawdown and
 ``p_wc = -inf`` when it does not fail for any wall pressure in [0, p_r] ("never").
@@ -136,7 +138,8 @@ def critical_wall_pressure(
     criterion : str
         A key of :data:`risk.mechanics.criteria.CRITERIA`.
     n_theta : int
-        Number of wall angles in the bracketing grid over [0, pi).
+        Number of wall angles in the bracketing grid over [0, pi) of the envelope iteration
+        (criteria other than Mohr-Coulomb).
 
     Returns
     -------
@@ -160,135 +163,57 @@ def critical_wall_pressure(
     """
     if criterion not in CRITERIA:
         raise ValueError(f"unknown criterion {criterion!r}; expected one of {sorted(CRITERIA)}")
-    parts = np.broadcast_arrays(
-        *(np.asarray(v, dtype=float) for v in local),
-        np.asarray(reservoir_pressure, dtype=float), np.asarray(poro_coefficient, dtype=float),
-        np.asarray(poisson_ratio, dtype=float), np.asarray(tensile_strength, dtype=float),
-        *(np.asarray(v, dtype=float) for v in strength),
-    )
-    shape = parts[0].shape
+    arrays = [np.asarray(v, dtype=float) for v in (
+        *local, reservoir_pressure, poro_coefficient, poisson_ratio, tensile_strength,
+        *strength)]
+    shape = np.broadcast_shapes(*(a.shape for a in arrays))
+    if criterion == "mohr-coulomb":
+        return _compiled_mohr_coulomb(arrays, shape)
+    parts = np.broadcast_arrays(*arrays)
     flat = [np.ascontiguousarray(p).ravel() for p in parts]
     loc = LocalStress(*flat[:6])
     p_r, big_a, nu, t0 = flat[6:10]
     prm = tuple(flat[10:])
-    n = p_r.size
-    p_wc = np.full(n, -np.inf)
-    theta = np.full(n, np.nan)
-    general = np.ones(n, dtype=bool)
-    if criterion == "mohr-coulomb":
-        general = ~_mohr_coulomb_principal_axis(loc, p_r, big_a, nu, prm[0], p_wc, theta)
-        if np.any(general):
-            g = np.nonzero(general)[0]
-            done = _mohr_coulomb_compressive_wall(
-                LocalStress(*(c[g] for c in loc)), p_r[g], big_a[g], nu[g], prm[0][g],
-                prm[1][g], n_theta)
-            if done is not None:
-                mask, pw_d, th_d = done
-                p_wc[g[mask]] = pw_d
-                theta[g[mask]] = th_d
-                general[g[mask]] = False
-    if np.any(general):
-        g = np.nonzero(general)[0]
-        pw_g, th_g = _general_solver(LocalStress(*(c[g] for c in loc)), p_r[g], big_a[g], nu[g],
-                                     t0[g], tuple(v[g] for v in prm), criterion, n_theta)
-        p_wc[g] = pw_g
-        theta[g] = th_g
-    theta = np.where(np.isneginf(p_wc), np.nan, np.mod(theta, np.pi))
-    return OnsetResult(p_wc.reshape(shape), theta.reshape(shape))
+    pw_g, th_g = _general_solver(loc, p_r, big_a, nu, t0, prm, criterion, n_theta)
+    theta = np.where(np.isneginf(pw_g), np.nan, np.mod(th_g, np.pi))
+    return OnsetResult(pw_g.reshape(shape), theta.reshape(shape))
 
 
-def _mohr_coulomb_principal_axis(loc: LocalStress, p_r: Array, big_a: Array, nu: Array,
-                                 ucs: Array, p_wc: Array, theta: Array) -> NDArray[np.bool_]:
-    """Closed form where it is exact; fills ``p_wc``/``theta`` there and returns that mask.
+def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> OnsetResult:
+    """Mohr-Coulomb by the compiled per-case kernel (:mod:`risk.mechanics._mc_kernel`).
 
-    When the cavity axis is a principal direction of the far field (no shear along the axis,
-    so t_tz = 0 all round the wall, e.g. a vertical well) and the hoop and axial effective
-    stresses are non-negative everywhere on the wall at zero drawdown (so the radial stress, 0,
-    is the minor principal stress for every p_w <= p_r), Mohr-Coulomb yield is s'_major = UCS.
-    Both the hoop and the axial stress then peak at the same angle, where
-    -(2 (sxx - syy) cos 2t + 4 sxy sin 2t) is largest, R = 2 sqrt((sxx - syy)^2 + 4 sxy^2):
-
-        p_wc = max((sxx + syy + R - A p_r - UCS)/(2 - A), (szz + nu R - A p_r - UCS)/(1 - A))
-
-    (the first is MECHANICS.md 4.1's closed form; derived). Everything else goes to the
-    general solver.
+    Inputs are read through broadcast views (no copies); shapes of more than three axes are
+    folded into three.
     """
-    scale = np.abs(loc.sxx) + np.abs(loc.syy) + np.abs(loc.szz) + 1.0
-    diff, sxy = loc.sxx - loc.syy, loc.sxy
-    r = 2.0 * np.sqrt(diff * diff + 4.0 * sxy * sxy)
-    no_shear = (np.abs(loc.sxz) + np.abs(loc.syz)) <= 1e-12 * scale
-    compressive = ((loc.sxx + loc.syy - r - 2.0 * p_r) >= 0.0) & (
-        (loc.szz - nu * r - p_r) >= 0.0)
-    ok = no_shear & compressive & (big_a < 1.0 - 1e-9)
-    if not np.any(ok):
-        return ok
-    i = np.nonzero(ok)[0]
-    a, pr = big_a[i], p_r[i]
-    hoop = (loc.sxx[i] + loc.syy[i] + r[i] - a * pr - ucs[i]) / (2.0 - a)
-    axial = (loc.szz[i] + nu[i] * r[i] - a * pr - ucs[i]) / (1.0 - a)
-    pc = np.maximum(hoop, axial)
-    p_wc[i] = np.where(pc >= pr, pr, np.where(pc < 0.0, -np.inf, pc))
-    theta[i] = 0.5 * (np.arctan2(4.0 * sxy[i], 2.0 * diff[i]) + np.pi)
-    return ok
+    from risk.mechanics._mc_kernel import mohr_coulomb_onset
 
-
-def _mohr_coulomb_compressive_wall(
-    loc: LocalStress, p_r: Array, big_a: Array, nu: Array, ucs: Array, phi: Array, n_theta: int,
-) -> tuple[NDArray[np.bool_], Array, Array] | None:
-    """Mohr-Coulomb yield onset in closed form at each wall angle, for compressive walls.
-
-    If the smallest principal stress of the wall's hoop-axial block is non-negative all round
-    the wall at zero drawdown, it stays so for every lower wall pressure (it cannot fall as
-    p_w falls, as for the tensile cut-off; derived), so the radial stress 0 is the minor
-    principal stress and Mohr-Coulomb reads lambda_max = UCS. A sufficient test uses
-    lambda_min >= min(s'_t, s'_z) - |t_tz| with the closed-form extremes over the angle. At one
-    angle, lambda_max = UCS is (UCS - s'_t)(UCS - s'_z) = t_tz^2 on the upper branch, a
-    quadratic in p_w whose larger root is the critical wall pressure at that angle (derived;
-    the discriminant is a sum of squares). The worst angle maximises that explicit function:
-    angle grid, then the parabolic refinement used by the general solver.
-
-    Returns the mask of cases handled, their critical wall pressures [MPa] (p_r: fails with no
-    drawdown, -inf: never) and worst angles [rad]; None when no case qualifies.
-    """
-    del phi  # the friction angle does not enter while the minor principal stress is zero
-    a = big_a
-    k0 = loc.sxx + loc.syy - a * p_r
-    z0 = loc.szz - a * p_r
-    pp, qq = 2.0 * (loc.sxx - loc.syy), 4.0 * loc.sxy
-    yy, xx = 2.0 * loc.syz, 2.0 * loc.sxz
-    bt, bz = 2.0 - a, 1.0 - a
-    amp, tmax = np.hypot(pp, qq), np.hypot(xx, yy)
-    ok = ((k0 - amp - bt * p_r - tmax >= 0.0) & (z0 - nu * amp - bz * p_r - tmax >= 0.0)
-          & (a < 1.0 - 1e-9))
-    if not np.any(ok):
-        return None
-    i = np.nonzero(ok)[0]
-    case = (k0[i], z0[i], pp[i], qq[i], yy[i], xx[i], bt[i], bz[i], nu[i], ucs[i])
-
-    def p_of_theta(t: Array, _p: Array, k0_: Array, z0_: Array, pp_: Array, qq_: Array,
-                   yy_: Array, xx_: Array, bt_: Array, bz_: Array, nu_: Array, u_: Array
-                   ) -> Array:
-        dev = pp_ * np.cos(2.0 * t) + qq_ * np.sin(2.0 * t)
-        tau = yy_ * np.cos(t) - xx_ * np.sin(t)
-        a1 = u_ - k0_ + dev  # UCS - a_t
-        a2 = u_ - z0_ + nu_ * dev  # UCS - a_z
-        qa = bt_ * bz_
-        qb = a1 * bz_ + a2 * bt_
-        qc = a1 * a2 - tau * tau
-        sd = np.sqrt((a1 * bz_ - a2 * bt_) ** 2 + 4.0 * qa * tau * tau)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            big = np.where(qb <= 0.0, (-qb + sd) / (2.0 * qa), 2.0 * qc / (-qb - sd))
-        return np.asarray(big)
-
-    grid: Array = np.asarray(np.arange(n_theta) * (np.pi / n_theta), dtype=np.float64)
-    dummy = np.zeros(i.size)
-    vals = p_of_theta(grid[None, :], dummy[:, None], *(c[:, None] for c in case))
-    k = np.argmax(vals, axis=1)
-    best = vals[np.arange(i.size), k]
-    best, t = _refine_max(p_of_theta, grid[k], best, np.pi / n_theta, dummy, case)
-    pr = p_r[i]
-    pw = np.where(best >= pr, pr, np.where(best < 0.0, -np.inf, best))
-    return ok, pw, np.mod(t, np.pi)
+    sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0, ucs, phi = arrays[:12]
+    derived = [sxx + syy, sxx - syy]  # two sums are cheaper than re-adding in every case
+    if len(shape) <= 3:
+        full = (1,) * (3 - len(shape)) + tuple(shape)
+        # put the longest axis first so the parallel loop has work to share
+        order = tuple(int(i) for i in np.argsort([-n for n in full], kind="stable"))
+    else:
+        full = (int(np.prod(shape)), 1, 1)
+        order = (0, 1, 2)
+    out = tuple(full[i] for i in order)
+    views = []
+    for a in (*derived, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi):
+        b = np.broadcast_to(a, shape)
+        b = np.ascontiguousarray(b).reshape(full) if len(shape) > 3 else b.reshape(full)
+        views.append(np.broadcast_to(np.transpose(b, order), out))  # read-only views
+    # outputs in the kernel's axis order (C-contiguous stores), returned in the caller's
+    p_k, cos2, sin2 = np.empty(out), np.empty(out), np.empty(out)
+    mohr_coulomb_onset(*views, p_k, cos2, sin2)  # type: ignore[call-arg]  # 12 + 3 arrays
+    inverse = tuple(int(i) for i in np.argsort(order))
+    p_wc = np.transpose(p_k, inverse).reshape(shape)
+    cos2 = np.transpose(cos2, inverse).reshape(shape)
+    sin2 = np.transpose(sin2, inverse).reshape(shape)
+    theta = np.arctan2(sin2, cos2, out=sin2)
+    theta *= 0.5
+    theta += np.pi * (theta < 0.0)
+    theta[np.isneginf(p_wc)] = np.nan
+    return OnsetResult(p_wc, theta)
 
 
 def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,

@@ -13,9 +13,11 @@ Checks against things outside the solver:
 
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as hs
 from scipy.optimize import brentq, minimize_scalar
 
@@ -220,6 +222,7 @@ def test_critical_drawdown_never_decreases_with_ucs(ucs, extra, inc, shot, crit)
 @settings(max_examples=30, deadline=None)
 @given(ucs=hs.floats(20, 120), inc=hs.floats(0, 90), frac=hs.floats(0, 1),
        crit=hs.sampled_from(sorted(CRITERIA)))
+@example(ucs=53.0, inc=0.0, frac=1.0, crit="modified-lade")  # the grid alone missed the peak
 def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
     # the wall stays yielded for every wall pressure below p_wc, and is elastic above it
     loc = _case(62.0, 48.0, 70.0, 0.3, np.radians(inc), 1.0)
@@ -228,7 +231,11 @@ def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
     r = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=A, poisson_ratio=nu,
                                strength=s, tensile_strength=np.inf, criterion=crit)
     pwc = float(r.wall_pressure)
+    # a dense grid, plus the solver's own worst angle (at p = p_wc the excess peaks there, and
+    # the grid alone can miss that peak by more than the tolerance)
     grid = np.linspace(0, np.pi, 2001)
+    if np.isfinite(float(r.theta)):
+        grid = np.append(grid, float(r.theta))
 
     def worst(p):
         w = st.wall_stresses(loc, theta=grid, wall_pressure=p, reservoir_pressure=p_r,
@@ -247,24 +254,36 @@ def test_yield_at_a_drawdown_implies_yield_at_larger(ucs, inc, frac, crit):
         assert worst(min(above, p_r)) <= 1e-6
 
 
-def _shortcut_and_general(loc, p_r, a, nu, ucs):
-    """Mohr-Coulomb critical wall pressures by the public solver (shortcuts allowed) and by the
-    general envelope iteration alone, for the same cases."""
+def _compiled_and_general(loc, p_r, a, nu, ucs, phi=0.5, t0=2.0):
+    """Mohr-Coulomb critical wall pressures and worst angles by the public solver (the compiled
+    per-case kernel) and by the general envelope iteration alone, for the same cases."""
     from risk.mechanics.yield_onset import _general_solver
 
     n = np.size(p_r)
+    phi, t0 = np.broadcast_to(phi, n), np.broadcast_to(t0, n)
     fast = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
-                                  poisson_ratio=nu, strength=StrengthParameters(ucs, 0.5),
-                                  tensile_strength=2.0).wall_pressure
-    slow, _ = _general_solver(loc, p_r, a, nu, np.full(n, 2.0),
-                              (ucs, np.full(n, 0.5), np.full(n, np.nan), np.ones(n),
-                               np.full(n, 0.5)), "mohr-coulomb", 24)
-    return fast, slow
+                                  poisson_ratio=nu, strength=StrengthParameters(ucs, phi),
+                                  tensile_strength=t0)
+    slow, theta = _general_solver(loc, p_r, a, nu, np.array(t0, dtype=float),
+                                  (ucs, np.array(phi, dtype=float), np.full(n, np.nan),
+                                   np.ones(n), np.full(n, 0.5)), "mohr-coulomb", 24)
+    return fast, slow, np.mod(theta, np.pi)
+
+
+def _agree(fast, slow, theta_slow, p_r):
+    np.testing.assert_array_equal(np.isfinite(fast.wall_pressure), np.isfinite(slow))
+    finite = np.isfinite(slow)
+    np.testing.assert_allclose(fast.wall_pressure[finite], slow[finite], atol=1e-8)
+    # the worst angle where the answer lies inside (0, p_r) (elsewhere it is a sector's
+    # representative); angles are modulo pi
+    inside = finite & (slow > 1e-6) & (slow < p_r - 1e-6)
+    d = np.abs(fast.theta[inside] - theta_slow[inside])
+    assert np.all(np.minimum(d, np.pi - d) < 1e-4)
 
 
 def test_principal_axis_closed_form_equals_general_solver():
-    # The Mohr-Coulomb shortcut for cavities along a principal axis (vertical wells) must give
-    # the general envelope iteration's answer (derived closed form; independent algorithm).
+    # Cavities along a principal axis (vertical wells): the compiled Mohr-Coulomb kernel must
+    # give the general envelope iteration's answer (independent algorithm).
     rng = np.random.default_rng(8)
     n = 3000
     sh_min = rng.uniform(25, 50, n)
@@ -274,25 +293,23 @@ def test_principal_axis_closed_form_equals_general_solver():
     ucs = rng.uniform(10, 140, n)
     a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
     p_r = rng.uniform(10, 24, n)
-    fast, slow = _shortcut_and_general(loc, p_r, a, nu, ucs)
-    finite = np.isfinite(slow)
-    np.testing.assert_array_equal(np.isfinite(fast), finite)
-    np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
-    # both regimes occur: the shortcut and the fallback to the general solver
+    fast, slow, theta = _compiled_and_general(loc, p_r, a, nu, ucs)
+    _agree(fast, slow, theta, p_r)
+    # both kinds of wall occur: compressive all round, and with a tensile sector
     compressive = (sh_max + sh_min - 2 * np.sqrt((sh_max - sh_min) ** 2) - 2 * p_r >= 0) & (
         sv - nu * 2 * (sh_max - sh_min) - p_r >= 0)
     assert 0.2 < compressive.mean() < 0.95
 
 
-def test_compressive_wall_closed_form_equals_general_solver():
-    # The per-angle closed form for Mohr-Coulomb on compressive walls (tunnels and deviated
-    # wells, shear along the axis) must give the general envelope iteration's answer
-    # (derived closed form; independent algorithm), and be used for most realistic cases.
-    from risk.mechanics.yield_onset import _mohr_coulomb_compressive_wall
-
-    rng = np.random.default_rng(21)
-    n = 3000
-    sh_min = rng.uniform(40, 50, n)
+@pytest.mark.parametrize("tensile", [False, True])
+def test_compiled_mohr_coulomb_equals_general_solver(tensile):
+    # Tunnels and deviated wells, with shear along the axis: the compiled kernel (closed forms
+    # per angle, a root of their slope over the angle) must give the general envelope
+    # iteration's answer and angle (independent algorithm), on walls compressive all round and
+    # on walls with a tensile sector (low horizontal stress, weak tension cut-off).
+    rng = np.random.default_rng(21 + tensile)
+    n = 4000
+    sh_min = rng.uniform(40, 50, n) - (18.0 if tensile else 0.0)
     sh_max = sh_min + rng.uniform(0, 15, n)
     sv = sh_max + rng.uniform(-5, 15, n)
     shots = rng.uniform(0, 2 * np.pi, n)
@@ -301,11 +318,65 @@ def test_compressive_wall_closed_form_equals_general_solver():
     ucs = rng.uniform(10, 160, n)
     a, nu = rng.uniform(0.2, 0.8, n), rng.uniform(0.15, 0.35, n)
     p_r = rng.uniform(15, 30, n)
-    fast, slow = _shortcut_and_general(loc, p_r, a, nu, ucs)
-    np.testing.assert_array_equal(np.isfinite(fast), np.isfinite(slow))
-    finite = np.isfinite(slow)
-    np.testing.assert_allclose(fast[finite], slow[finite], atol=1e-8)
-    handled = _mohr_coulomb_compressive_wall(loc, p_r, a, nu, ucs, np.full(n, 0.5), 24)
-    assert handled is not None and 0.3 < handled[0].mean() < 1.0
+    phi = rng.uniform(0.35, 0.7, n)
+    t0 = rng.uniform(0.5, 8.0, n)
+    fast, slow, theta = _compiled_and_general(loc, p_r, a, nu, ucs, phi, t0)
+    _agree(fast, slow, theta, p_r)
     inside = (slow > 0) & (slow < p_r)
-    assert np.mean(inside & handled[0]) > 0.05  # the interesting outcome occurs in the path
+    assert inside.mean() > 0.05  # the interesting outcome occurs
+    # the sufficient test for a wall compressive all round at p_r (module docstring of
+    # risk.mechanics._mc_kernel): the tensile branch is exercised when asked for
+    amp = np.hypot(2 * (loc.sxx - loc.syy), 4 * loc.sxy)
+    tmax = np.hypot(2 * loc.sxz, 2 * loc.syz)
+    comp = ((loc.sxx + loc.syy - a * p_r - amp - (2 - a) * p_r - tmax >= 0)
+            & (loc.szz - a * p_r - nu * amp - (1 - a) * p_r - tmax >= 0))
+    if tensile:
+        assert (~comp).mean() > 0.5
+    else:
+        assert comp.mean() > 0.3
+
+
+def test_compiled_mohr_coulomb_against_brute_force_wide_ranges():
+    # The compiled kernel against the independent brute force (eigvalsh, dense scan, brentq)
+    # over wide, partly unphysical ranges that reach its special cases: vertical wells with
+    # tunnels (the largest-u and largest-w directions antipodal, both end slopes zero), A = 1
+    # (Biot 1, Poisson 0), friction angles to 75 degrees (narrow tensile sectors), walls
+    # tensile throughout and tension cut-offs near zero. Each kind found a defect while the
+    # kernel was written (derived cases, not from a publication).
+    rng = np.random.default_rng(2026)
+    n = 8000
+    sh_min = rng.uniform(5, 60, n)
+    sh_max = sh_min + rng.uniform(0, 30, n) * rng.integers(0, 2, n)
+    sv = rng.uniform(5, 90, n)
+    inc = rng.uniform(0, 1.6, n) * rng.integers(0, 2, n)
+    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), inc, rng.uniform(0, 6, n),
+                rng.uniform(0, 6.3, n))
+    biot = np.where(rng.random(n) < 0.1, 1.0, rng.uniform(0.5, 1, n))
+    nu = np.where(rng.random(n) < 0.1, 0.0, rng.uniform(0, 0.49, n))
+    a = biot * (1 - 2 * nu) / (1 - nu)
+    p_r = rng.uniform(0.5, 50, n)
+    ucs = rng.uniform(1, 200, n)
+    phi = rng.uniform(0.05, 1.3, n)
+    t0 = np.where(rng.random(n) < 0.2, np.inf, rng.uniform(0, 20, n))
+    got = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
+                                 poisson_ratio=nu, strength=StrengthParameters(ucs, phi),
+                                 tensile_strength=t0).wall_pressure
+    ok = (got > 0) & (got < p_r)
+    inside = np.unique(np.concatenate([np.nonzero(ok)[0][:60],
+                                       np.nonzero(ok & (inc == 0.0))[0][:12],
+                                       np.nonzero(ok & (a == 1.0))[0][:12]]))
+    zero = np.nonzero(got == p_r)[0][:20]
+    never = np.nonzero(np.isneginf(got))[0][:10]
+    assert len(inside) >= 60 and len(zero) == 20 and len(never) == 10
+    assert np.sum(inc[inside] == 0.0) >= 12 and np.sum(a[inside] == 1.0) >= 2
+    for i in (*inside, *zero, *never):
+        one = st.LocalStress(*(np.asarray(c)[i] for c in loc))
+        with warnings.catch_warnings():  # the brute force's scalar minimiser meets -inf
+            warnings.simplefilter("ignore", RuntimeWarning)  # (no tension cut-off)
+            ref = _brute(one, p_r=p_r[i], A=a[i], nu=nu[i],
+                         strength=StrengthParameters(ucs[i], phi[i]), t0=t0[i],
+                         criterion="mohr-coulomb")
+        if np.isinf(ref):
+            assert got[i] == ref, i
+        else:
+            assert got[i] == pytest.approx(ref, abs=1e-7), (i, got[i], ref)

@@ -1,0 +1,596 @@
+"""Compiled Mohr-Coulomb yield onset at a cavity wall (numba).
+
+This is the Mohr-Coulomb path of :func:`risk.mechanics.yield_onset.critical_wall_pressure`;
+the conventions, outcomes and the stress path are documented there. What is specific here:
+
+Angle variable
+    With psi = 2 theta, every wall quantity the criterion sees is affine in (cos psi, sin psi):
+    the deviatoric term ``dev = P cos psi + Q sin psi`` and the squared hoop-axial shear
+    ``w = t_tz^2 = W0 + W1 cos psi + W2 sin psi`` (t_tz = Y cos theta - X sin theta). Write
+    ``u = -dev``: the hoop and axial effective stresses rise with u.
+
+Two branches of Mohr-Coulomb
+    With the radial effective stress 0 at the wall, s1 = max(hi, 0) and s3 = min(lo, 0), hi and
+    lo the eigenvalues of the hoop-axial block. Then
+    F = s1 - q s3 - UCS = max(F_a, F_b, F_c, -UCS), with F_a = hi - UCS, F_b = hi - q lo - UCS
+    and F_c = -q lo - UCS. All three are convex in the wall pressure p, and F_c only falls as p
+    falls (lo does not fall), so it matters with no drawdown only; below p_r the first wall
+    pressure where F >= 0 is the larger of the first crossings v_a, v_b of F_a and F_b
+    (derived). Each crossing is a root of a quadratic in p:
+
+    - F_a = 0  <=>  (UCS - s'_t)(UCS - s'_z) = w on the branch UCS >= mean: the larger root;
+    - F_b = 0  <=>  (1 + q)^2 (h^2 + w) = (UCS + (q - 1) m)^2 with UCS + (q - 1) m >= 0
+      (m, h the mean and half difference of s'_t, s'_z): the genuine root below p_r.
+
+Where to look for the worst angle (derived, used to shrink the search)
+    F_a, F_b and the tensile cut-off all rise with w at fixed u. Reflecting psi about the
+    direction of largest u keeps u and lowers w on the far side, so every maximum over the
+    wall lies on the half circle from the largest-u direction towards the largest-w direction.
+    F_a also rises with u (dF_a/du >= nu >= 0), so its maximum lies on the shorter arc between
+    the two directions; where w is constant (a principal-axis cavity) it is at the largest-u
+    direction itself. Walls whose hoop-axial block is compressive all round at p_r stay so as
+    p falls (as for the tensile cut-off), so there F_b <= F_a and only F_a is needed.
+
+Maximisation
+    F_a's value (the crossing v_a, or p_r plus the excess where the wall fails with no
+    drawdown) is quasi-concave along the arc: its superlevel sets in (u, w) are {w >= g(u)}
+    with g a convex parabola, and the arc is the concave north-east boundary of an ellipse in
+    (u, w) (derived). Its slope is >= 0 at the start of the arc and <= 0 at the end, so the
+    maximum is the root of the slope. The arc is parametrised by the half-angle tangent
+    t = tan(x/2 - d/4) in [-T, T], which gives the direction without trigonometric calls.
+    Blocks of cases take, all alike and branch-free so that the compiler vectorises the loops,
+    one bisection and then Anderson-Bjorck regula falsi steps (Anderson & Bjorck 1973, BIT 13,
+    253) kept 1 % of the bracket away from its ends (antipodal extreme directions make both
+    ends stationary). A case has converged when the bracket is below 1e-7 in t or the slope at
+    a moved end is below 1e-8 MPa/rad; the few others finish with Brent's method (Brent 1973,
+    ch. 4).
+
+Walls with a tensile sector
+    (rare in reservoirs; F_b and the cut-off matter only there) With no drawdown, F_b, the
+    full criterion's tensile-throughout branch -q lo - UCS and the cut-off -lo - T0 are each
+    maximised over the half circle as smooth functions (grid with the density of 24 angles over
+    [0, pi) in theta, then parabolic steps on shrinking brackets), skipped where a cheap bound
+    over all angles is negative. Below p_r, F_b's crossing above F_a's is found by the envelope
+    iteration of the general solver on F_b alone, with F_b's crossing at one angle in closed
+    form.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from numba import njit, prange, types
+
+_GRID = 12  # intervals on a half circle of psi = 24 angles over [0, pi) in theta
+_STEP = math.pi / _GRID
+_COS = np.cos(np.arange(_GRID + 1) * _STEP)
+_SIN = np.sin(np.arange(_GRID + 1) * _STEP)
+# compiled once per machine (cached beside the module); numpy's error model: x/0 gives inf
+_jit = njit(cache=True, error_model="numpy", nogil=True)
+_jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
+# one signature for the kernel (read-only inputs of any layout, broadcast views included), so
+# no call ever waits for a second compilation
+_IN = types.Array(types.float64, 3, "A", readonly=True)
+_OUT = types.Array(types.float64, 3, "C")
+_jit_parallel = njit(types.void(*([_IN] * 12), _OUT, _OUT, _OUT), cache=True,
+                     error_model="numpy", nogil=True, parallel=True)
+
+
+@_jit_inline
+def _fa(c: float, s: float, sg: float, k0: float, z0: float, pp: float, qq: float, w0: float,
+        w1: float, w2: float, bt: float, bz: float, nu: float, ucs: float, p_r: float
+        ) -> tuple[float, float]:
+    """F_a's value at direction (c, s): the first crossing v_a below p_r, or p_r + F_a(p_r)
+    where F_a(p_r) >= 0; and its slope d/dpsi turning by sign sg. Branch-free (vectorises)."""
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    ddev = sg * (qq * c - pp * s)
+    dw = sg * (w2 * c - w1 * s)
+    at = k0 - dev
+    az = z0 - nu * dev
+    a1 = ucs - at
+    a2 = ucs - az
+    qa = bt * bz
+    qb = a1 * bz + a2 * bt
+    qc = a1 * a2 - w
+    dd = a1 * bz - a2 * bt
+    sd = math.sqrt(dd * dd + 4.0 * qa * w)
+    # larger root of qa p^2 + qb p + qc = 0 without cancellation (discriminant a sum of squares)
+    neg = qb <= 0.0
+    root = (-qb + sd if neg else 2.0 * qc) / (2.0 * qa if neg else -qb - sd)
+    # implicit derivative of that root (dPhi/dp = sd there)
+    slope_root = -(ddev * (bz + nu * bt) * root + ddev * (a2 + nu * a1) - dw) / sd
+    st = at - bt * p_r
+    sz = az - bz * p_r
+    hh = 0.5 * (st - sz)
+    r = math.sqrt(hh * hh + w)
+    excess = 0.5 * (st + sz) + r - ucs
+    slope_excess = (-0.5 * (1.0 + nu) * ddev
+                    + (-0.5 * (1.0 - nu) * ddev * hh + 0.5 * dw) / max(r, 1e-300))
+    over = not root < p_r  # also where the root is nan (degenerate quadratic)
+    v = p_r + max(excess, 0.0) if over else root
+    g = slope_excess if over else slope_root
+    return v, g
+
+
+@_jit_inline
+def _fa_tan(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, pp: float,
+            qq: float, w0: float, w1: float, w2: float, bt: float, bz: float, nu: float,
+            ucs: float, p_r: float) -> tuple[float, float]:
+    """:func:`_fa` at the direction turned from (cm, sm) by 2 atan(t) (sense sg)."""
+    t2 = t * t
+    inv = 1.0 / (1.0 + t2)
+    cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
+    return _fa(cm * cx - sm * sx, sm * cx + cm * sx, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz,
+               nu, ucs, p_r)
+
+
+@_jit_inline
+def _block(c: float, s: float, p: float, k: tuple
+           ) -> tuple[float, float, float]:
+    """Mean m, half difference h and radius r of the hoop-axial block at wall pressure p."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, q, t0, p_r = k
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    st = k0 - dev - bt * p
+    sz = z0 - nu * dev - bz * p
+    hh = 0.5 * (st - sz)
+    return 0.5 * (st + sz), hh, math.sqrt(hh * hh + w)
+
+
+@_jit
+def _smooth(which: int, c: float, s: float, p: float, k: tuple
+            ) -> float:
+    """Smooth functions of the wall angle for walls with a tensile sector: F_b = hi - q lo -
+    UCS at wall pressure p (which = 1), or -lo at p (which = 2)."""
+    m, _, r = _block(c, s, p, k)
+    if which == 1:
+        return m + r - k[11] * (m - r) - k[10]
+    return r - m
+
+
+@_jit
+def _crossing_b(c: float, s: float, p_fail: float, p_safe: float, k: tuple
+                ) -> float:
+    """The wall pressure in [p_fail, p_safe] where F_b crosses zero at direction (c, s), given
+    F_b(p_fail) >= 0 > F_b(p_safe): F_b is convex in p, so the crossing is unique; it is a root
+    of (1 + q)^2 (h^2 + w) = (UCS + (q - 1) m)^2 with UCS + (q - 1) m >= 0 (closed form, then
+    one Newton step against rounding), kept inside the bracket."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, q, t0, p_r = k
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    at = k0 - dev
+    az = z0 - nu * dev
+    alpha2 = (1.0 + q) * (1.0 + q)
+    h0 = 0.5 * (at - az)
+    e0 = ucs + (q - 1.0) * 0.5 * (at + az)
+    e1 = (q - 1.0) * 0.5 * (bt + bz)
+    c2 = 0.25 * alpha2 - e1 * e1
+    c1 = -alpha2 * h0 + 2.0 * e0 * e1
+    c0 = alpha2 * (h0 * h0 + w) - e0 * e0
+    disc = max(c1 * c1 - 4.0 * c2 * c0, 0.0)
+    half = -0.5 * (c1 + math.copysign(math.sqrt(disc), c1))
+    best, err = 0.5 * (p_fail + p_safe), math.inf
+    for x in (half / c2, c0 / half):
+        if x == x and p_fail - 1e-9 <= x <= p_safe + 1e-9:
+            x = min(max(x, p_fail), p_safe)
+            f = abs(_smooth(1, c, s, x, k))
+            if f < err:
+                best, err = x, f
+    # one Newton step (dF_b/dp from m, h, r), kept inside the bracket
+    m, hh, r = _block(c, s, best, k)
+    slope = -(1.0 - q) * 0.5 * (bt + bz) - (1.0 + q) * 0.5 * hh / max(r, 1e-300)
+    f = m + r - q * (m - r) - ucs
+    if slope != 0.0:
+        nxt = best - f / slope
+        if p_fail <= nxt <= p_safe and abs(_smooth(1, c, s, nxt, k)) < abs(f):
+            best = nxt
+    return best
+
+
+@_jit_inline
+def _turn(x: float, c0: float, s0: float, sg: float) -> tuple[float, float]:
+    """(cos, sin) of the direction (c0, s0) turned by sg * x, |x| <= 0.3: Taylor series of
+    cos x and sin x to x^12 (truncation below 3e-17)."""
+    x2 = x * x
+    cx = 1.0 + x2 * (-1 / 2 + x2 * (1 / 24 + x2 * (-1 / 720 + x2 * (
+        1 / 40320 + x2 * (-1 / 3628800 + x2 / 479001600)))))
+    sx = sg * x * (1.0 + x2 * (-1 / 6 + x2 * (1 / 120 + x2 * (-1 / 5040 + x2 * (
+        1 / 362880 + x2 * (-1 / 39916800))))))
+    return c0 * cx - s0 * sx, s0 * cx + c0 * sx
+
+
+@_jit
+def _half_circle_max(which: int, p: float, cu: float, su: float, sg: float,
+                     k: tuple) -> tuple[float, float]:
+    """Maximum of :func:`_smooth` quantity ``which`` at wall pressure p over the half circle
+    from the largest-u direction (cu, su) turning by sg: a grid with the density of 24 angles
+    over [0, pi) in theta, then parabolic steps on shrinking brackets from the grid maximum
+    that never lose the best value seen. Returns the value and its offset in psi."""
+    j, best, fm, fp, prev = 0, -math.inf, -math.inf, -math.inf, -math.inf
+    for i in range(_GRID + 1):
+        cx, sx = _COS[i], sg * _SIN[i]
+        v = _smooth(which, cu * cx - su * sx, su * cx + cu * sx, p, k)
+        if v > best:
+            j, best, fm, fp = i, v, prev, -math.inf
+        elif i == j + 1:
+            fp = v
+        prev = v
+    c0, s0 = _COS[j], sg * _SIN[j]
+    c0, s0 = cu * c0 - su * s0, su * c0 + cu * s0
+    h = _STEP
+    if j == 0:
+        c, s = _turn(-h, c0, s0, sg)
+        fm = _smooth(which, c, s, p, k)
+    if j == _GRID:
+        c, s = _turn(h, c0, s0, sg)
+        fp = _smooth(which, c, s, p, k)
+    x = 0.0
+    tol = 1e-13 * (1.0 + abs(best))
+    for _ in range(8):
+        curv = fp - 2.0 * best + fm
+        off = 0.0
+        if curv < 0.0:
+            off = min(max(0.5 * h * (fm - fp) / curv, -h), h)
+        xb, fb = x, best
+        if fm > fb:
+            xb, fb = x - h, fm
+        if fp > fb:
+            xb, fb = x + h, fp
+        if off != 0.0 and -(fm - fp) * (fm - fp) / (8.0 * curv) > tol:
+            c, s = _turn(x + off, c0, s0, sg)
+            fv = _smooth(which, c, s, p, k)
+            if fv > fb:
+                xb, fb = x + off, fv
+        elif fb == best:
+            break
+        x, best = xb, fb
+        h *= 0.02
+        if h < 1e-10:
+            break
+        c, s = _turn(x - h, c0, s0, sg)
+        fm = _smooth(which, c, s, p, k)
+        c, s = _turn(x + h, c0, s0, sg)
+        fp = _smooth(which, c, s, p, k)
+    return best, j * _STEP + x
+
+
+@_jit_inline
+def _bounds(p: float, k: tuple) -> tuple[float, float]:
+    """Upper bounds over every wall angle of F_b and of -lo at wall pressure p, from the
+    ranges of the mean m, the half difference h and w over the angle (cheap; used to skip the
+    searches that cannot reach zero)."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, q, t0, p_r = k
+    amp = math.sqrt(pp * pp + qq * qq)  # |dev| <= amp
+    m_min = 0.5 * (k0 + z0) - 0.5 * (1.0 + nu) * amp - 0.5 * (bt + bz) * p
+    h_max = abs(0.5 * (k0 - z0) - 0.5 * (bt - bz) * p) + 0.5 * (1.0 - nu) * amp
+    r_max = math.sqrt(h_max * h_max + w0 + math.sqrt(w1 * w1 + w2 * w2))
+    return (1.0 - q) * m_min + (1.0 + q) * r_max - ucs, r_max - m_min
+
+
+@_jit
+def _tensile_side(best_a: float, x_a: float, cu: float, su: float, sg: float,
+                  k: tuple) -> tuple[float, float]:
+    """Walls with a tensile sector, against F_a's maximum (best_a, x_a; offsets are from the
+    largest-u direction on the half circle towards the largest-w direction).
+
+    With no drawdown, F = max(F_a, F_b, F_c) with F_c = -q lo - UCS (walls whose hoop-axial
+    block is tensile throughout) and the tensile cut-off -lo - T0; F_b and -lo are smooth in
+    the angle and are maximised on their own (the kinked F itself can hide a narrow tensile
+    sector between grid angles). Below p_r, F_c only falls, and F_b's crossing is found, where
+    it lies above F_a's, by the envelope iteration of the general solver on F_b alone
+    (p_{k+1} = F_b's crossing at the angle maximising F_b at p_k; F_b's crossing in closed
+    form). Returns the value (>= p_r: fails with no drawdown) and its offset."""
+    ucs, q, t0, p_r = k[10], k[11], k[12], k[13]
+    if best_a >= p_r:
+        return best_a, x_a  # F_a, hence F, is reached with no drawdown
+    fb_max, lo_max = _bounds(p_r, k)
+    if fb_max >= 0.0:
+        g_b, x_b = _half_circle_max(1, p_r, cu, su, sg, k)
+        if g_b >= 0.0:
+            return p_r + g_b, x_b
+    if q * lo_max - ucs >= 0.0 or lo_max - t0 >= 0.0:
+        g_l, x_l = _half_circle_max(2, p_r, cu, su, sg, k)
+        if q * g_l - ucs >= 0.0:
+            return p_r + q * g_l - ucs, x_l
+        if g_l - t0 >= 0.0:
+            return p_r, x_l
+    p = max(best_a, 0.0)
+    if _bounds(p, k)[0] < 0.0:
+        return best_a, x_a  # F_b cannot be reached above F_a's crossing (nor above 0)
+    g, x = _half_circle_max(1, p, cu, su, sg, k)
+    if g < 0.0:
+        return best_a, x_a  # F_b is not reached above F_a's crossing (nor above 0)
+    for _ in range(60):
+        c, s = math.cos(x), sg * math.sin(x)
+        c, s = cu * c - su * s, su * c + cu * s
+        p_new = _crossing_b(c, s, p, p_r, k)
+        g, x_new = _half_circle_max(1, p_new, cu, su, sg, k)
+        moved = p_new - p
+        p = p_new
+        if g <= 0.0 or moved <= 1e-13 * (1.0 + abs(p)):
+            break
+        x = x_new
+    return p, x
+
+
+_BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
+_ROUNDS = 7  # Anderson-Bjorck steps for every case (then the check, then Brent where needed)
+_NK = 12  # per-case constants of F_a
+
+
+@_jit
+def _setup(sum_xy: float, diff_xy: float, sxy: float, szz: float, sxz: float, syz: float,
+           p_r: float, big_a: float, nu: float, ucs: float, kk: np.ndarray, r: int
+           ) -> tuple[float, float, float, float, float, bool]:
+    """Per-case constants of F_a into column r of kk; returns the largest-u direction
+    (cu, su), the turning sign sg towards the largest-w direction, cos and sin of the angle d
+    in [0, pi] between the two, and whether the wall is compressive all round at p_r (a
+    sufficient test, see the module docstring)."""
+    k0 = sum_xy - big_a * p_r
+    z0 = szz - big_a * p_r
+    pp, qq = 2.0 * diff_xy, 4.0 * sxy
+    yy, xx = 2.0 * syz, 2.0 * sxz
+    w0, w1, w2 = 0.5 * (yy * yy + xx * xx), 0.5 * (yy * yy - xx * xx), -xx * yy
+    bt, bz = 2.0 - big_a, 1.0 - big_a
+    kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r] = k0, z0, pp, qq, w0, w1
+    kk[6, r], kk[7, r], kk[8, r], kk[9, r], kk[10, r], kk[11, r] = w2, bt, bz, nu, ucs, p_r
+    amp = math.sqrt(pp * pp + qq * qq)
+    cu, su = (-pp / amp, -qq / amp) if amp > 0.0 else (1.0, 0.0)
+    bw = math.sqrt(w1 * w1 + w2 * w2)
+    if bw > 1e-14 * (w0 + 1.0):
+        cw, sw = w1 / bw, w2 / bw
+    else:
+        cw, sw = cu, su
+    cross = cu * sw - su * cw
+    sg = 1.0 if cross >= 0.0 else -1.0
+    tmax = math.sqrt(2.0 * w0)
+    compressive = ((k0 - amp - bt * p_r - tmax >= 0.0)
+                   and (z0 - nu * amp - bz * p_r - tmax >= 0.0))
+    return cu, su, sg, cu * cw + su * sw, abs(cross), compressive
+
+
+@_jit
+def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: float,
+               sg: float, kk: np.ndarray, r: int) -> tuple[float, float]:
+    """Brent's zero finder (Brent 1973, ch. 4, 'zeroin') on F_a's slope in t over a bracket
+    [a, b] of its root, keeping the largest value seen. The fallback of the vectorised
+    steps."""
+    k0, z0, pp, qq, w0, w1 = kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r]
+    w2, bt, bz, nu, ucs, p_r = kk[6, r], kk[7, r], kk[8, r], kk[9, r], kk[10, r], kk[11, r]
+    va, fa = _fa_tan(a, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
+    vb, fb = _fa_tan(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
+    # the bracket keeps slope >= 0 at a and <= 0 at b; zeros (stationary ends, rounding) get
+    # the sign they stand for
+    fa = fa if fa > 0.0 else 1e-300
+    fb = fb if fb < 0.0 else -1e-300
+    c, fc = a, fa
+    e = dlt = b - a
+    for _ in range(100):
+        if (fb > 0.0) == (fc > 0.0):
+            c, fc = a, fa
+            e = dlt = b - a
+        if abs(fc) < abs(fb):
+            a, fa = b, fb
+            b, fb = c, fc
+            c, fc = a, fa
+        tol = 2e-16 * abs(b) + 1e-12
+        m = 0.5 * (c - b)
+        if abs(m) <= tol or fb == 0.0:
+            break
+        if abs(e) >= tol and abs(fa) > abs(fb):
+            s_ = fb / fa
+            if a == c:
+                p_ = 2.0 * m * s_
+                q_ = 1.0 - s_
+            else:
+                q0 = fa / fc
+                r_ = fb / fc
+                p_ = s_ * (2.0 * m * q0 * (q0 - r_) - (b - a) * (r_ - 1.0))
+                q_ = (q0 - 1.0) * (r_ - 1.0) * (s_ - 1.0)
+            if p_ > 0.0:
+                q_ = -q_
+            else:
+                p_ = -p_
+            if 2.0 * p_ < min(3.0 * m * q_ - abs(tol * q_), abs(e * q_)):
+                e = dlt
+                dlt = p_ / q_
+            else:
+                dlt = m
+                e = m
+        else:
+            dlt = m
+            e = m
+        a, fa = b, fb
+        b = b + dlt if abs(dlt) > tol else b + math.copysign(tol, m)
+        vb, fb = _fa_tan(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
+        if vb > best_v:
+            best_v, best_t = vb, b
+    return best_v, best_t
+
+
+@_jit
+def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, lo_io, hi_io,
+                  bv_out, bx_out, g_out):
+    """F_a's maximum over the arc [lo, hi] in t for a block of cases (1-D arrays): both ends,
+    then Anderson-Bjorck steps on the slope, every case alike and branch-free so that the
+    loops vectorise. Leaves the best value and its t in bv_out, bx_out, the final bracket of
+    the slope's root in lo_io, hi_io, and in g_out the smaller slope magnitude at an end of
+    it that moved (inf if neither did). The state lives in arrays allocated here, which the
+    compiler knows alias nothing, and only float arrays are stored to inside the loops (both
+    found necessary for the loops to vectorise)."""
+    cnt = lo_io.size
+    lo, hi = lo_io.copy(), hi_io.copy()
+    fl, fh, bv, bx = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
+    kept = np.zeros(cnt)
+    g_last = np.zeros(cnt)
+    for r in range(cnt):
+        va, ga = _fa_tan(lo[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+        vb, gb = _fa_tan(hi[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+        up = va >= vb
+        bv[r] = va if up else vb
+        bx[r] = lo[r] if up else hi[r]
+        # the slope is >= 0 at the start and <= 0 at the end (module docstring); where it
+        # vanishes there (antipodal extreme directions make both ends stationary) the maximum
+        # may still lie inside, so the search always runs on an arc of positive length, with
+        # signs forced at stationary ends
+        fl[r] = ga if ga > 0.0 else 1e-300
+        fh[r] = gb if gb < 0.0 else -1e-300
+    rounds = _ROUNDS
+    if not np.any(hi > lo):
+        rounds = 0  # every arc is a single direction (principal-axis cavities)
+    else:
+        # one bisection first: at antipodal extreme directions both end slopes vanish and
+        # regula falsi would creep from an end
+        for r in range(cnt):
+            tn = 0.5 * (lo[r] + hi[r])
+            v, g = _fa_tan(tn, cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                           w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+            better = v > bv[r]
+            bv[r] = v if better else bv[r]
+            bx[r] = tn if better else bx[r]
+            right = g > 0.0
+            lo[r] = tn if right else lo[r]
+            hi[r] = hi[r] if right else tn
+            fl[r] = g if right else fl[r]
+            fh[r] = fh[r] if right else g
+    for _ in range(rounds):
+        for r in range(cnt):
+            den = fh[r] - fl[r]
+            tn = (lo[r] * fh[r] - hi[r] * fl[r]) / den
+            mid = 0.5 * (lo[r] + hi[r])
+            tn = tn if den < 0.0 else mid
+            # at least 1% of the bracket from either end: a flat (stationary) end would
+            # otherwise hold the secant point on itself; where the root is that close to an
+            # end, the step shrinks the bracket a hundredfold
+            gap = 0.01 * (hi[r] - lo[r])
+            tn = min(max(tn, lo[r] + gap), hi[r] - gap)
+            v, g = _fa_tan(tn, cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                           w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+            better = v > bv[r]
+            bv[r] = v if better else bv[r]
+            bx[r] = tn if better else bx[r]
+            right = g > 0.0  # the maximum lies beyond tn: tn replaces the lower end
+            # the end kept a second time in a row has its slope scaled by
+            # 1 - g/(the replaced end's slope), or 1/2 (Anderson-Bjorck)
+            keep_hi_twice = right and kept[r] > 0.0
+            keep_lo_twice = (not right) and kept[r] < 0.0
+            m_lo = 1.0 - g / fh[r] if not right else 0.0
+            m_hi = 1.0 - g / fl[r] if right else 0.0
+            fh_s = fh[r] * (m_hi if m_hi > 0.0 else 0.5)
+            fl_s = fl[r] * (m_lo if m_lo > 0.0 else 0.5)
+            nfl = g if right else (fl_s if keep_lo_twice else fl[r])
+            nfh = fh_s if keep_hi_twice else fh[r]
+            nfh = nfh if right else g
+            nlo = tn if right else lo[r]
+            nhi = hi[r] if right else tn
+            lo[r] = nlo
+            hi[r] = nhi
+            fl[r] = nfl
+            fh[r] = nfh
+            kept[r] = 1.0 if right else -1.0
+    # the true slopes at the final ends (the retained one was scaled): the smaller in
+    # magnitude tells whether an end already sits on the maximum
+    for r in range(cnt):
+        _, g1 = _fa_tan(lo[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                        w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+        _, g2 = _fa_tan(hi[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                        w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+        # only ends that moved count (an original end may be stationary without being the
+        # maximum)
+        g_last[r] = min(abs(g1) if lo[r] > lo_io[r] else math.inf,
+                        abs(g2) if hi[r] < hi_io[r] else math.inf)
+    lo_io[:] = lo
+    hi_io[:] = hi
+    bv_out[:] = bv
+    bx_out[:] = bx
+    g_out[:] = g_last
+
+
+@_jit_inline
+def _passive(phi: float) -> float:
+    """q = (1 + sin phi)/(1 - sin phi)."""
+    sphi = math.sin(phi)
+    return (1.0 + sphi) / (1.0 - sphi)
+
+
+@_jit_parallel
+def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
+                       out_p, out_c, out_s):
+    """Fill out_p [n0, n1, n2] with the critical wall pressure [MPa] (p_r: fails with no
+    drawdown, -inf: never) and (out_c, out_s) with (cos, sin) of psi = 2 theta at the worst
+    wall angle, from 3-D inputs that broadcast to that shape (strides may be zero: broadcast
+    views are read without copying). The angle itself is left to numpy's vectorised arctan2.
+    """
+    n0, n1, n2 = out_p.shape
+    total = n0 * n1 * n2
+    nblocks = (total + _BLOCK - 1) // _BLOCK
+    for blk in prange(nblocks):
+        first = blk * _BLOCK
+        cnt = min(_BLOCK, total - first)
+        i0, rem = first // (n1 * n2), first % (n1 * n2)
+        j0, m0 = rem // n2, rem % n2
+        kk = np.empty((_NK, cnt))
+        cm, sm, sg = np.empty(cnt), np.empty(cnt), np.empty(cnt)
+        cu, su = np.empty(cnt), np.empty(cnt)
+        lo, hi = np.empty(cnt), np.empty(cnt)
+        bv, bx, g_last = np.empty(cnt), np.empty(cnt), np.empty(cnt)
+        comp = np.zeros(cnt, dtype=np.bool_)
+        i, j, m = i0, j0, m0
+        for r in range(cnt):
+            c_u, s_u, sgn, cd, sd_, comp[r] = _setup(
+                sum_xy[i, j, m], diff_xy[i, j, m], sxy[i, j, m], szz[i, j, m], sxz[i, j, m],
+                syz[i, j, m], p_r[i, j, m], big_a[i, j, m], nu[i, j, m], ucs[i, j, m], kk, r)
+            ch = math.sqrt(max(0.5 * (1.0 + cd), 0.0))  # half-angle formulas for d/2
+            sh = math.sqrt(max(0.5 * (1.0 - cd), 0.0))
+            if sd_ == 0.0 and cd > 0.0:
+                sh, ch = 0.0, 1.0  # the two directions coincide: a single point
+            cu[r], su[r], sg[r] = c_u, s_u, sgn
+            cm[r] = c_u * ch - s_u * sgn * sh  # mid-arc direction
+            sm[r] = s_u * ch + c_u * sgn * sh
+            hi[r] = sh / (1.0 + ch)  # T = tan(d/4)
+            lo[r] = -hi[r]
+            m += 1
+            if m == n2:
+                m = 0
+                j += 1
+                if j == n1:
+                    j = 0
+                    i += 1
+        _search_block(kk[0], kk[1], kk[2], kk[3], kk[4], kk[5], kk[6], kk[7], kk[8], kk[9],
+                      kk[10], kk[11], cm, sm, sg, lo, hi, bv, bx, g_last)
+        i, j, m = i0, j0, m0
+        for r in range(cnt):
+            best, tb = bv[r], bx[r]
+            # converged when the slope's root is bracketed to 1e-7 in t (the ends were
+            # evaluated, the value is smooth: what is left to gain is of order |v''| 1e-14), or
+            # when the slope at an end of the bracket is below 1e-8 MPa/rad (that end is the
+            # maximum to g^2/(2|v''|)); else Brent's method from the bracket
+            if hi[r] - lo[r] > 1e-7 and g_last[r] > 1e-8:
+                best, tb = _brent_max(lo[r], hi[r], best, tb, cm[r], sm[r], sg[r], kk, r)
+            inv = 1.0 / (1.0 + tb * tb)
+            cx, sx = (1.0 - tb * tb) * inv, sg[r] * 2.0 * tb * inv
+            c, s = cm[r] * cx - sm[r] * sx, sm[r] * cx + cm[r] * sx
+            p_res = kk[11, r]
+            if not comp[r]:
+                k = (kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r], kk[6, r],
+                     kk[7, r], kk[8, r], kk[9, r], kk[10, r],
+                     _passive(phi[i, j, m]), t0[i, j, m], p_res)
+                # offsets on the half circle are measured from the largest-u direction
+                x = math.atan2(sg[r] * (cu[r] * s - su[r] * c), cu[r] * c + su[r] * s)
+                best, x = _tensile_side(best, x, cu[r], su[r], sg[r], k)
+                c, s = math.cos(x), sg[r] * math.sin(x)
+                c, s = cu[r] * c - su[r] * s, su[r] * c + cu[r] * s
+            out_p[i, j, m] = p_res if best >= p_res else (-math.inf if best < 0.0 else best)
+            out_c[i, j, m] = c
+            out_s[i, j, m] = s
+            m += 1
+            if m == n2:
+                m = 0
+                j += 1
+                if j == n1:
+                    j = 0
+                    i += 1
