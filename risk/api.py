@@ -15,11 +15,12 @@ __all__ = ["RunResult", "run_scenario", "new_scenario", "render_memo"]
 
 @dataclass(frozen=True)
 class RunResult:
-    """What :func:`run_scenario` produced: the JSON summary and where it was written."""
+    """What :func:`run_scenario` produced: the JSON summary and where it was written. (The
+    per-sample arrays are released before the memo is drawn, which keeps the peak memory of
+    large runs down; :func:`risk.assessment.assess` returns them.)"""
 
     summary: dict[str, Any]
     out_dir: Path
-    assessment: Any
 
 
 def _whole(option: str, value: int | str | None, expected: str, low: int, high: int
@@ -61,27 +62,28 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     from risk.assessment import assess
     from risk.report.results import summarize
 
-    def produce(progress: Any = None, step: Any = None) -> tuple[Any, dict[str, Any],
+    def produce(progress: Any = None, step: Any = None) -> tuple[dict[str, Any],
                                                                  dict[str, str | bytes]]:
         assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=progress,
                             step=step)
         if step is not None:
             step("figures and memo")
         summary = summarize(assessment)
-        return assessment, summary, _output_files(summary, _run_info(path, summary))
+        del assessment  # the per-sample arrays are not needed for the memo
+        return summary, _output_files(summary, _run_info(path, summary))
 
     if show_progress:
         from rich.progress import Progress
 
         with Progress(transient=True) as bar:
             task = bar.add_task("evaluating samples", total=None)
-            assessment, summary, files = produce(
+            summary, files = produce(
                 lambda done, total: bar.update(task, completed=done, total=total),
                 lambda text: bar.update(task, description=text))
     else:
-        assessment, summary, files = produce()
+        summary, files = produce()
     publish(out_dir, files, force=force)
-    return RunResult(summary, out_dir, assessment)
+    return RunResult(summary, out_dir)
 
 
 def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:

@@ -140,8 +140,16 @@ def percentiles(dc: ArrayLike, qs: ArrayLike) -> FloatArray:
     if np.isnan(q).any() or (q < 0).any() or (q > 1).any():
         raise ValueError(f"qs must be probabilities in [0, 1], got {qs!r}")
     n = s.size
-    levels = np.arange(1, n + 1) / n  # curve value at each order statistic
-    idx = np.minimum(np.searchsorted(levels, q, side="left"), n - 1)
+    # the first order statistic k (1-based) whose curve value k/n reaches q, compared in the
+    # same floating-point arithmetic as failure_curve (no array of n levels: 80 MB at 10^7)
+    idx = np.empty(q.shape, dtype=np.intp)
+    for pos, qv in np.ndenumerate(q):
+        k = min(max(math.ceil(float(qv) * n), 1), n)
+        while k > 1 and (k - 1) / n >= qv:
+            k -= 1
+        while k < n and k / n < qv:
+            k += 1
+        idx[pos] = k - 1
     return np.asarray(s[idx])
 
 

@@ -72,7 +72,7 @@ _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
 # one signature for the kernel (read-only inputs of any layout, broadcast views included), so
 # no call ever waits for a second compilation
 _IN = types.Array(types.float64, 3, "A", readonly=True)
-_OUT = types.Array(types.float64, 3, "C")
+_OUT = types.Array(types.float64, 1, "C")
 _jit_parallel = njit(types.void(*([_IN] * 12), _OUT, _OUT, _OUT), cache=True,
                      error_model="numpy", nogil=True, parallel=True)
 
@@ -321,34 +321,48 @@ _NK = 12  # per-case constants of F_a
 
 
 @_jit
-def _setup(sum_xy: float, diff_xy: float, sxy: float, szz: float, sxz: float, syz: float,
-           p_r: float, big_a: float, nu: float, ucs: float, kk: np.ndarray, r: int
-           ) -> tuple[float, float, float, float, float, bool]:
-    """Per-case constants of F_a into column r of kk; returns the largest-u direction
-    (cu, su), the turning sign sg towards the largest-w direction, cos and sin of the angle d
-    in [0, pi] between the two, and whether the wall is compressive all round at p_r (a
-    sufficient test, see the module docstring)."""
-    k0 = sum_xy - big_a * p_r
-    z0 = szz - big_a * p_r
-    pp, qq = 2.0 * diff_xy, 4.0 * sxy
-    yy, xx = 2.0 * syz, 2.0 * sxz
-    w0, w1, w2 = 0.5 * (yy * yy + xx * xx), 0.5 * (yy * yy - xx * xx), -xx * yy
-    bt, bz = 2.0 - big_a, 1.0 - big_a
-    kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r] = k0, z0, pp, qq, w0, w1
-    kk[6, r], kk[7, r], kk[8, r], kk[9, r], kk[10, r], kk[11, r] = w2, bt, bz, nu, ucs, p_r
-    amp = math.sqrt(pp * pp + qq * qq)
-    cu, su = (-pp / amp, -qq / amp) if amp > 0.0 else (1.0, 0.0)
-    bw = math.sqrt(w1 * w1 + w2 * w2)
-    if bw > 1e-14 * (w0 + 1.0):
-        cw, sw = w1 / bw, w2 / bw
-    else:
-        cw, sw = cu, su
-    cross = cu * sw - su * cw
-    sg = 1.0 if cross >= 0.0 else -1.0
-    tmax = math.sqrt(2.0 * w0)
-    compressive = ((k0 - amp - bt * p_r - tmax >= 0.0)
-                   and (z0 - nu * amp - bz * p_r - tmax >= 0.0))
-    return cu, su, sg, cu * cw + su * sw, abs(cross), compressive
+def _setup_block(x: np.ndarray, kk: np.ndarray, geo: np.ndarray) -> None:
+    """Per-case constants for a block, from the gathered inputs x[0:10, r] (sum_xy, diff_xy,
+    sxy, szz, sxz, syz, p_r, A, nu, UCS): F_a's constants into kk[0:12, r]; into geo the
+    largest-u direction (cu, su), the turning sign sg towards the largest-w direction, the
+    mid-arc direction (cm, sm), T = tan(d/4) with d in [0, pi] the angle between the two
+    directions (0 where they coincide), and 1.0 where the wall is compressive all round at p_r
+    (a sufficient test, see the module docstring). Branch-free, so the loop vectorises."""
+    for r in range(x.shape[1]):
+        p_r, big_a, nu = x[6, r], x[7, r], x[8, r]
+        k0 = x[0, r] - big_a * p_r
+        z0 = x[3, r] - big_a * p_r
+        pp, qq = 2.0 * x[1, r], 4.0 * x[2, r]
+        yy, xx = 2.0 * x[5, r], 2.0 * x[4, r]
+        w0, w1, w2 = 0.5 * (yy * yy + xx * xx), 0.5 * (yy * yy - xx * xx), -xx * yy
+        bt, bz = 2.0 - big_a, 1.0 - big_a
+        kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r] = k0, z0, pp, qq, w0, w1
+        kk[6, r], kk[7, r], kk[8, r], kk[9, r] = w2, bt, bz, nu
+        kk[10, r], kk[11, r] = x[9, r], p_r
+        amp = math.sqrt(pp * pp + qq * qq)
+        inv_a = 1.0 / amp if amp > 0.0 else 0.0
+        cu = -pp * inv_a if amp > 0.0 else 1.0
+        su = -qq * inv_a
+        bw = math.sqrt(w1 * w1 + w2 * w2)
+        w_dir = bw > 1e-14 * (w0 + 1.0)
+        inv_w = 1.0 / bw if w_dir else 0.0
+        cw = w1 * inv_w if w_dir else cu
+        sw = w2 * inv_w if w_dir else su
+        cross = cu * sw - su * cw
+        sg = 1.0 if cross >= 0.0 else -1.0
+        cd = cu * cw + su * sw
+        ch = math.sqrt(max(0.5 * (1.0 + cd), 0.0))  # half-angle formulas for d/2
+        sh = math.sqrt(max(0.5 * (1.0 - cd), 0.0))
+        single = (cross == 0.0) & (cd > 0.0)  # the two directions coincide
+        sh = 0.0 if single else sh
+        ch = 1.0 if single else ch
+        tmax = math.sqrt(2.0 * w0)
+        comp = (k0 - amp - bt * p_r - tmax >= 0.0) & (z0 - nu * amp - bz * p_r - tmax >= 0.0)
+        geo[0, r], geo[1, r], geo[2, r] = cu, su, sg
+        geo[3, r] = cu * ch - su * sg * sh  # mid-arc direction
+        geo[4, r] = su * ch + cu * sg * sh
+        geo[5, r] = sh / (1.0 + ch)  # T = tan(d/4)
+        geo[6, r] = 1.0 if comp else 0.0
 
 
 @_jit
@@ -494,7 +508,7 @@ def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, 
             kept[r] = 1.0 if right else -1.0
     # the true slopes at the final ends (the retained one was scaled): the smaller in
     # magnitude tells whether an end already sits on the maximum
-    for r in range(cnt):
+    for r in range(cnt if rounds else 0):
         _, g1 = _fa_tan(lo[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
                         w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
         _, g2 = _fa_tan(hi[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
@@ -520,39 +534,29 @@ def _passive(phi: float) -> float:
 @_jit_parallel
 def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
                        out_p, out_c, out_s):
-    """Fill out_p [n0, n1, n2] with the critical wall pressure [MPa] (p_r: fails with no
-    drawdown, -inf: never) and (out_c, out_s) with (cos, sin) of psi = 2 theta at the worst
-    wall angle, from 3-D inputs that broadcast to that shape (strides may be zero: broadcast
-    views are read without copying). The angle itself is left to numpy's vectorised arctan2.
+    """Critical wall pressure [MPa] (p_r: fails with no drawdown, -inf: never) into out_p and
+    (cos, sin) of psi = 2 theta at the worst wall angle into (out_c, out_s) (nan where never),
+    for 3-D inputs that broadcast to shape (n0, n1, n2) (strides may be zero: broadcast views
+    are read without copying); the outputs are flat, in C order of that shape. The angle itself
+    is left to numpy's vectorised arctan2.
+
+    Each block of cases is gathered into contiguous arrays, then set up, searched and finished
+    by loops that vectorise; walls with a tensile sector take a scalar pass at the end.
     """
-    n0, n1, n2 = out_p.shape
+    n0, n1, n2 = sum_xy.shape
     total = n0 * n1 * n2
     nblocks = (total + _BLOCK - 1) // _BLOCK
     for blk in prange(nblocks):
         first = blk * _BLOCK
         cnt = min(_BLOCK, total - first)
-        i0, rem = first // (n1 * n2), first % (n1 * n2)
-        j0, m0 = rem // n2, rem % n2
-        kk = np.empty((_NK, cnt))
-        cm, sm, sg = np.empty(cnt), np.empty(cnt), np.empty(cnt)
-        cu, su = np.empty(cnt), np.empty(cnt)
-        lo, hi = np.empty(cnt), np.empty(cnt)
-        bv, bx, g_last = np.empty(cnt), np.empty(cnt), np.empty(cnt)
-        comp = np.zeros(cnt, dtype=np.bool_)
-        i, j, m = i0, j0, m0
+        i, rem = first // (n1 * n2), first % (n1 * n2)
+        j, m = rem // n2, rem % n2
+        x = np.empty((10, cnt))
         for r in range(cnt):
-            c_u, s_u, sgn, cd, sd_, comp[r] = _setup(
-                sum_xy[i, j, m], diff_xy[i, j, m], sxy[i, j, m], szz[i, j, m], sxz[i, j, m],
-                syz[i, j, m], p_r[i, j, m], big_a[i, j, m], nu[i, j, m], ucs[i, j, m], kk, r)
-            ch = math.sqrt(max(0.5 * (1.0 + cd), 0.0))  # half-angle formulas for d/2
-            sh = math.sqrt(max(0.5 * (1.0 - cd), 0.0))
-            if sd_ == 0.0 and cd > 0.0:
-                sh, ch = 0.0, 1.0  # the two directions coincide: a single point
-            cu[r], su[r], sg[r] = c_u, s_u, sgn
-            cm[r] = c_u * ch - s_u * sgn * sh  # mid-arc direction
-            sm[r] = s_u * ch + c_u * sgn * sh
-            hi[r] = sh / (1.0 + ch)  # T = tan(d/4)
-            lo[r] = -hi[r]
+            x[0, r], x[1, r], x[2, r] = sum_xy[i, j, m], diff_xy[i, j, m], sxy[i, j, m]
+            x[3, r], x[4, r], x[5, r] = szz[i, j, m], sxz[i, j, m], syz[i, j, m]
+            x[6, r], x[7, r], x[8, r], x[9, r] = p_r[i, j, m], big_a[i, j, m], nu[i, j, m], \
+                ucs[i, j, m]
             m += 1
             if m == n2:
                 m = 0
@@ -560,37 +564,52 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
                 if j == n1:
                     j = 0
                     i += 1
+        kk = np.empty((_NK, cnt))
+        geo = np.empty((7, cnt))
+        _setup_block(x, kk, geo)
+        lo = -geo[5]
+        hi = geo[5].copy()
+        bv, bx, g_last = np.empty(cnt), np.empty(cnt), np.empty(cnt)
         _search_block(kk[0], kk[1], kk[2], kk[3], kk[4], kk[5], kk[6], kk[7], kk[8], kk[9],
-                      kk[10], kk[11], cm, sm, sg, lo, hi, bv, bx, g_last)
-        i, j, m = i0, j0, m0
+                      kk[10], kk[11], geo[3], geo[4], geo[2], lo, hi, bv, bx, g_last)
+        op = out_p[first:first + cnt]
+        oc = out_c[first:first + cnt]
+        os_ = out_s[first:first + cnt]
         for r in range(cnt):
-            best, tb = bv[r], bx[r]
             # converged when the slope's root is bracketed to 1e-7 in t (the ends were
             # evaluated, the value is smooth: what is left to gain is of order |v''| 1e-14), or
             # when the slope at an end of the bracket is below 1e-8 MPa/rad (that end is the
-            # maximum to g^2/(2|v''|)); else Brent's method from the bracket
+            # maximum to g^2/(2|v''|)); else Brent's method from the bracket (rare)
             if hi[r] - lo[r] > 1e-7 and g_last[r] > 1e-8:
-                best, tb = _brent_max(lo[r], hi[r], best, tb, cm[r], sm[r], sg[r], kk, r)
+                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], geo[3, r], geo[4, r],
+                                          geo[2, r], kk, r)
+        for r in range(cnt):
+            tb = bx[r]
             inv = 1.0 / (1.0 + tb * tb)
-            cx, sx = (1.0 - tb * tb) * inv, sg[r] * 2.0 * tb * inv
-            c, s = cm[r] * cx - sm[r] * sx, sm[r] * cx + cm[r] * sx
-            p_res = kk[11, r]
-            if not comp[r]:
+            cx, sx = (1.0 - tb * tb) * inv, geo[2, r] * 2.0 * tb * inv
+            oc[r] = geo[3, r] * cx - geo[4, r] * sx
+            os_[r] = geo[4, r] * cx + geo[3, r] * sx
+            op[r] = bv[r]
+        # walls with a tensile sector: a scalar pass (inputs read again at their indices)
+        for r in range(cnt):
+            if geo[6, r] == 0.0:
+                flat = first + r
+                i, rem = flat // (n1 * n2), flat % (n1 * n2)
+                j, m = rem // n2, rem % n2
+                cu, su, sg = geo[0, r], geo[1, r], geo[2, r]
                 k = (kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r], kk[6, r],
                      kk[7, r], kk[8, r], kk[9, r], kk[10, r],
-                     _passive(phi[i, j, m]), t0[i, j, m], p_res)
+                     _passive(phi[i, j, m]), t0[i, j, m], kk[11, r])
+                c, s = oc[r], os_[r]
                 # offsets on the half circle are measured from the largest-u direction
-                x = math.atan2(sg[r] * (cu[r] * s - su[r] * c), cu[r] * c + su[r] * s)
-                best, x = _tensile_side(best, x, cu[r], su[r], sg[r], k)
-                c, s = math.cos(x), sg[r] * math.sin(x)
-                c, s = cu[r] * c - su[r] * s, su[r] * c + cu[r] * s
-            out_p[i, j, m] = p_res if best >= p_res else (-math.inf if best < 0.0 else best)
-            out_c[i, j, m] = c
-            out_s[i, j, m] = s
-            m += 1
-            if m == n2:
-                m = 0
-                j += 1
-                if j == n1:
-                    j = 0
-                    i += 1
+                xo = math.atan2(sg * (cu * s - su * c), cu * c + su * s)
+                best, xo = _tensile_side(op[r], xo, cu, su, sg, k)
+                c, s = math.cos(xo), sg * math.sin(xo)
+                oc[r], os_[r] = cu * c - su * s, su * c + cu * s
+                op[r] = best
+        # outcome conventions
+        for r in range(cnt):
+            p_res = kk[11, r]
+            never = op[r] < 0.0
+            op[r] = p_res if op[r] >= p_res else (-math.inf if never else op[r])
+            os_[r] = math.nan if never else os_[r]

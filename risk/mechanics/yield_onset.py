@@ -202,17 +202,15 @@ def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> Onset
         b = np.broadcast_to(a, shape)
         b = np.ascontiguousarray(b).reshape(full) if len(shape) > 3 else b.reshape(full)
         views.append(np.broadcast_to(np.transpose(b, order), out))  # read-only views
-    # outputs in the kernel's axis order (C-contiguous stores), returned in the caller's
-    p_k, cos2, sin2 = np.empty(out), np.empty(out), np.empty(out)
+    # flat outputs in the kernel's axis order, returned in the caller's
+    p_k, cos2, sin2 = (np.empty(int(np.prod(out))) for _ in range(3))
     mohr_coulomb_onset(*views, p_k, cos2, sin2)  # type: ignore[call-arg]  # 12 + 3 arrays
     inverse = tuple(int(i) for i in np.argsort(order))
-    p_wc = np.transpose(p_k, inverse).reshape(shape)
-    cos2 = np.transpose(cos2, inverse).reshape(shape)
-    sin2 = np.transpose(sin2, inverse).reshape(shape)
-    theta = np.arctan2(sin2, cos2, out=sin2)
+    p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
+    theta = np.arctan2(sin2, cos2, out=sin2)  # nan where never
     theta *= 0.5
-    theta += np.pi * (theta < 0.0)
-    theta[np.isneginf(p_wc)] = np.nan
+    np.add(theta, np.pi, out=theta, where=theta < 0.0)  # [0, pi)
+    theta = np.transpose(theta.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, theta)
 
 
