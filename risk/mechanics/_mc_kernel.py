@@ -39,11 +39,12 @@ Maximisation
     maximum is the root of the slope. The arc is parametrised by the half-angle tangent
     t = tan(x/2 - d/4) in [-T, T], which gives the direction without trigonometric calls.
     Blocks of cases take, all alike and branch-free so that the compiler vectorises the loops,
-    one bisection and then Anderson-Bjorck regula falsi steps (Anderson & Bjorck 1973, BIT 13,
-    253) kept 1 % of the bracket away from its ends (antipodal extreme directions make both
-    ends stationary). A case has converged when the bracket is below 1e-7 in t or the slope at
-    a moved end is below 1e-8 MPa/rad; the few others finish with Brent's method (Brent 1973,
-    ch. 4).
+    one step to the maximum of the cubic Hermite model of the value between the ends (a
+    bisection where it has none inside), then Anderson-Bjorck regula falsi steps (Anderson &
+    Bjorck 1973, BIT 13, 253) kept 1 % of the bracket away from its ends (antipodal extreme
+    directions make both ends stationary). A case has converged when the bracket is below 1e-7
+    in t or the slope at the best point is below 1e-6 MPa/rad; the few others finish with
+    Brent's method (Brent 1973, ch. 4).
 
 Walls with a tensile sector
     (rare in reservoirs; F_b and the cut-off matter only there) With no drawdown, F_b, the
@@ -316,29 +317,44 @@ def _tensile_side(best_a: float, x_a: float, cu: float, su: float, sg: float,
 
 
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
-_ROUNDS = 7  # Anderson-Bjorck steps for every case (then the check, then Brent where needed)
+_ROUNDS = 6  # Anderson-Bjorck steps for every case (then the check, then Brent where needed)
 _NK = 12  # per-case constants of F_a
 
 
 @_jit
-def _setup_block(x: np.ndarray, kk: np.ndarray, geo: np.ndarray) -> None:
+def _setup_block(x: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
     """Per-case constants for a block, from the gathered inputs x[0:10, r] (sum_xy, diff_xy,
-    sxy, szz, sxz, syz, p_r, A, nu, UCS): F_a's constants into kk[0:12, r]; into geo the
+    sxy, szz, sxz, syz, p_r, A, nu, UCS): F_a's constants kk[0:12][r]; and geo[0:7][r]: the
     largest-u direction (cu, su), the turning sign sg towards the largest-w direction, the
     mid-arc direction (cm, sm), T = tan(d/4) with d in [0, pi] the angle between the two
     directions (0 where they coincide), and 1.0 where the wall is compressive all round at p_r
-    (a sufficient test, see the module docstring). Branch-free, so the loop vectorises."""
-    for r in range(x.shape[1]):
-        p_r, big_a, nu = x[6, r], x[7, r], x[8, r]
-        k0 = x[0, r] - big_a * p_r
-        z0 = x[3, r] - big_a * p_r
-        pp, qq = 2.0 * x[1, r], 4.0 * x[2, r]
-        yy, xx = 2.0 * x[5, r], 2.0 * x[4, r]
+    (a sufficient test, see the module docstring). Branch-free, so the loop vectorises (the
+    outputs are allocated here: the compiler then knows they alias nothing)."""
+    cnt = x.shape[1]
+    x0, x1, x2, x3, x4, x5, x6, x7, x8, x9 = x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7], \
+        x[8], x[9]
+    # every output its own allocation: the compiler then knows no two alias (rows of one 2-D
+    # array would need run-time alias checks, too many for it to vectorise the loop)
+    o0, o1, o2, o3, o4, o5 = (np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt),
+                              np.empty(cnt), np.empty(cnt))
+    o6, o7, o8, o9, o10, o11 = (np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt),
+                                np.empty(cnt), np.empty(cnt))
+    g0, g1, g2, g3, g4, g5, g6 = (np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt),
+                                  np.empty(cnt), np.empty(cnt), np.empty(cnt))
+    for r in range(cnt):
+        p_r, big_a, nu = x6[r], x7[r], x8[r]
+        k0 = x0[r] - big_a * p_r
+        z0 = x3[r] - big_a * p_r
+        pp, qq = 2.0 * x1[r], 4.0 * x2[r]
+        yy, xx = 2.0 * x5[r], 2.0 * x4[r]
         w0, w1, w2 = 0.5 * (yy * yy + xx * xx), 0.5 * (yy * yy - xx * xx), -xx * yy
         bt, bz = 2.0 - big_a, 1.0 - big_a
-        kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r] = k0, z0, pp, qq, w0, w1
-        kk[6, r], kk[7, r], kk[8, r], kk[9, r] = w2, bt, bz, nu
-        kk[10, r], kk[11, r] = x[9, r], p_r
+        o0[r], o1[r], o2[r], o3[r], o4[r], o5[r] = k0, z0, pp, qq, w0, w1
+        o6[r], o7[r], o8[r], o9[r], o10[r], o11[r] = w2, bt, bz, nu, x9[r], p_r
+    for r in range(cnt):
+        k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r = (o0[r], o1[r], o2[r], o3[r], o4[r],
+                                                       o5[r], o6[r], o7[r], o8[r], o9[r],
+                                                       o11[r])
         amp = math.sqrt(pp * pp + qq * qq)
         inv_a = 1.0 / amp if amp > 0.0 else 0.0
         cu = -pp * inv_a if amp > 0.0 else 1.0
@@ -358,21 +374,22 @@ def _setup_block(x: np.ndarray, kk: np.ndarray, geo: np.ndarray) -> None:
         ch = 1.0 if single else ch
         tmax = math.sqrt(2.0 * w0)
         comp = (k0 - amp - bt * p_r - tmax >= 0.0) & (z0 - nu * amp - bz * p_r - tmax >= 0.0)
-        geo[0, r], geo[1, r], geo[2, r] = cu, su, sg
-        geo[3, r] = cu * ch - su * sg * sh  # mid-arc direction
-        geo[4, r] = su * ch + cu * sg * sh
-        geo[5, r] = sh / (1.0 + ch)  # T = tan(d/4)
-        geo[6, r] = 1.0 if comp else 0.0
+        g0[r], g1[r], g2[r] = cu, su, sg
+        g3[r] = cu * ch - su * sg * sh  # mid-arc direction
+        g4[r] = su * ch + cu * sg * sh
+        g5[r] = sh / (1.0 + ch)  # T = tan(d/4)
+        g6[r] = 1.0 if comp else 0.0
+    return (o0, o1, o2, o3, o4, o5, o6, o7, o8, o9, o10, o11), (g0, g1, g2, g3, g4, g5, g6)
 
 
 @_jit
 def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: float,
-               sg: float, kk: np.ndarray, r: int) -> tuple[float, float]:
+               sg: float, kk: tuple[np.ndarray, ...], r: int) -> tuple[float, float]:
     """Brent's zero finder (Brent 1973, ch. 4, 'zeroin') on F_a's slope in t over a bracket
     [a, b] of its root, keeping the largest value seen. The fallback of the vectorised
     steps."""
-    k0, z0, pp, qq, w0, w1 = kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r]
-    w2, bt, bz, nu, ucs, p_r = kk[6, r], kk[7, r], kk[8, r], kk[9, r], kk[10, r], kk[11, r]
+    k0, z0, pp, qq, w0, w1 = kk[0][r], kk[1][r], kk[2][r], kk[3][r], kk[4][r], kk[5][r]
+    w2, bt, bz, nu, ucs, p_r = kk[6][r], kk[7][r], kk[8][r], kk[9][r], kk[10][r], kk[11][r]
     va, fa = _fa_tan(a, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
     vb, fb = _fa_tan(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
     # the bracket keeps slope >= 0 at a and <= 0 at b; zeros (stationary ends, rounding) get
@@ -428,10 +445,10 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
 def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, lo_io, hi_io,
                   bv_out, bx_out, g_out):
     """F_a's maximum over the arc [lo, hi] in t for a block of cases (1-D arrays): both ends,
-    then Anderson-Bjorck steps on the slope, every case alike and branch-free so that the
-    loops vectorise. Leaves the best value and its t in bv_out, bx_out, the final bracket of
-    the slope's root in lo_io, hi_io, and in g_out the smaller slope magnitude at an end of
-    it that moved (inf if neither did). The state lives in arrays allocated here, which the
+    a Hermite step, then Anderson-Bjorck steps on the slope, every case alike and branch-free
+    so that the loops vectorise. Leaves the best value and its t in bv_out, bx_out, the final
+    bracket of the slope's root in lo_io, hi_io, and in g_out the slope's magnitude at the
+    best point (0 where no step was taken). The state lives in arrays allocated here, which the
     compiler knows alias nothing, and only float arrays are stored to inside the loops (both
     found necessary for the loops to vectorise)."""
     cnt = lo_io.size
@@ -439,6 +456,7 @@ def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, 
     fl, fh, bv, bx = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
     kept = np.zeros(cnt)
     g_last = np.zeros(cnt)
+    bv_lo, bv_hi = np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
         va, ga = _fa_tan(lo[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
                          w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
@@ -447,6 +465,8 @@ def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, 
         up = va >= vb
         bv[r] = va if up else vb
         bx[r] = lo[r] if up else hi[r]
+        bv_lo[r] = va
+        bv_hi[r] = vb
         # the slope is >= 0 at the start and <= 0 at the end (module docstring); where it
         # vanishes there (antipodal extreme directions make both ends stationary) the maximum
         # may still lie inside, so the search always runs on an arc of positive length, with
@@ -457,10 +477,27 @@ def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, 
     if not np.any(hi > lo):
         rounds = 0  # every arc is a single direction (principal-axis cavities)
     else:
-        # one bisection first: at antipodal extreme directions both end slopes vanish and
-        # regula falsi would creep from an end
+        # first step: the root of the quadratic slope that matches the slopes at both ends and
+        # the rise between them (a cubic Hermite model of the value), kept to the middle 90 %
+        # of the arc; a plain bisection where that model has no root inside (at antipodal
+        # extreme directions both end slopes vanish)
         for r in range(cnt):
-            tn = 0.5 * (lo[r] + hi[r])
+            a, b = lo[r], hi[r]
+            h = b - a
+            ma = fl[r] * 2.0 / (1.0 + a * a)  # dv/dt = dv/dpsi * dpsi/dt
+            mb = fh[r] * 2.0 / (1.0 + b * b)
+            rise = (bv_hi[r] - bv_lo[r]) / h if h > 0.0 else 0.0
+            c2 = 3.0 * (ma + mb) - 6.0 * rise
+            c1 = mb - ma - c2
+            disc = c1 * c1 - 4.0 * c2 * ma
+            sq = math.sqrt(max(disc, 0.0))
+            den = -c1 - sq if c1 > 0.0 else -c1 + sq  # q(s) = ma + c1 s + c2 s^2
+            s1 = 2.0 * ma / den if den != 0.0 else 0.5
+            s2 = den / (2.0 * c2) if c2 != 0.0 else 0.5
+            s_ = s1 if (s1 > 0.0) & (s1 < 1.0) else s2
+            good = (disc >= 0.0) & (s_ > 0.0) & (s_ < 1.0)
+            s_ = min(max(s_, 0.05), 0.95) if good else 0.5
+            tn = a + s_ * h
             v, g = _fa_tan(tn, cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
                            w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
             better = v > bv[r]
@@ -506,17 +543,12 @@ def _search_block(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r, cm, sm, sg, 
             fl[r] = nfl
             fh[r] = nfh
             kept[r] = 1.0 if right else -1.0
-    # the true slopes at the final ends (the retained one was scaled): the smaller in
-    # magnitude tells whether an end already sits on the maximum
+    # the slope at the best point (tracking it inside the loop above, or any other store
+    # there, stops the compiler from vectorising that loop)
     for r in range(cnt if rounds else 0):
-        _, g1 = _fa_tan(lo[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                        w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
-        _, g2 = _fa_tan(hi[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                        w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
-        # only ends that moved count (an original end may be stationary without being the
-        # maximum)
-        g_last[r] = min(abs(g1) if lo[r] > lo_io[r] else math.inf,
-                        abs(g2) if hi[r] < hi_io[r] else math.inf)
+        _, g = _fa_tan(bx[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                       w2[r], bt[r], bz[r], nu[r], ucs[r], p_r[r])
+        g_last[r] = abs(g)
     lo_io[:] = lo
     hi_io[:] = hi
     bv_out[:] = bv
@@ -564,9 +596,7 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
                 if j == n1:
                     j = 0
                     i += 1
-        kk = np.empty((_NK, cnt))
-        geo = np.empty((7, cnt))
-        _setup_block(x, kk, geo)
+        kk, geo = _setup_block(x)
         lo = -geo[5]
         hi = geo[5].copy()
         bv, bx, g_last = np.empty(cnt), np.empty(cnt), np.empty(cnt)
@@ -578,28 +608,29 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
         for r in range(cnt):
             # converged when the slope's root is bracketed to 1e-7 in t (the ends were
             # evaluated, the value is smooth: what is left to gain is of order |v''| 1e-14), or
-            # when the slope at an end of the bracket is below 1e-8 MPa/rad (that end is the
-            # maximum to g^2/(2|v''|)); else Brent's method from the bracket (rare)
-            if hi[r] - lo[r] > 1e-7 and g_last[r] > 1e-8:
-                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], geo[3, r], geo[4, r],
-                                          geo[2, r], kk, r)
+            # when the slope at the best point is below 1e-6 MPa/rad (that point is the
+            # maximum to g^2/(2|v''|), 5e-13 MPa for |v''| >= 1); else Brent's method from
+            # the bracket (rare)
+            if hi[r] - lo[r] > 1e-7 and g_last[r] > 1e-6:
+                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], geo[3][r], geo[4][r],
+                                          geo[2][r], kk, r)
         for r in range(cnt):
             tb = bx[r]
             inv = 1.0 / (1.0 + tb * tb)
-            cx, sx = (1.0 - tb * tb) * inv, geo[2, r] * 2.0 * tb * inv
-            oc[r] = geo[3, r] * cx - geo[4, r] * sx
-            os_[r] = geo[4, r] * cx + geo[3, r] * sx
+            cx, sx = (1.0 - tb * tb) * inv, geo[2][r] * 2.0 * tb * inv
+            oc[r] = geo[3][r] * cx - geo[4][r] * sx
+            os_[r] = geo[4][r] * cx + geo[3][r] * sx
             op[r] = bv[r]
         # walls with a tensile sector: a scalar pass (inputs read again at their indices)
         for r in range(cnt):
-            if geo[6, r] == 0.0:
+            if geo[6][r] == 0.0:
                 flat = first + r
                 i, rem = flat // (n1 * n2), flat % (n1 * n2)
                 j, m = rem // n2, rem % n2
-                cu, su, sg = geo[0, r], geo[1, r], geo[2, r]
-                k = (kk[0, r], kk[1, r], kk[2, r], kk[3, r], kk[4, r], kk[5, r], kk[6, r],
-                     kk[7, r], kk[8, r], kk[9, r], kk[10, r],
-                     _passive(phi[i, j, m]), t0[i, j, m], kk[11, r])
+                cu, su, sg = geo[0][r], geo[1][r], geo[2][r]
+                k = (kk[0][r], kk[1][r], kk[2][r], kk[3][r], kk[4][r], kk[5][r], kk[6][r],
+                     kk[7][r], kk[8][r], kk[9][r], kk[10][r],
+                     _passive(phi[i, j, m]), t0[i, j, m], kk[11][r])
                 c, s = oc[r], os_[r]
                 # offsets on the half circle are measured from the largest-u direction
                 xo = math.atan2(sg * (cu * s - su * c), cu * c + su * s)
@@ -609,7 +640,7 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
                 op[r] = best
         # outcome conventions
         for r in range(cnt):
-            p_res = kk[11, r]
+            p_res = kk[11][r]
             never = op[r] < 0.0
             op[r] = p_res if op[r] >= p_res else (-math.inf if never else op[r])
             os_[r] = math.nan if never else os_[r]
