@@ -97,21 +97,27 @@ def _fa(c: float, s: float, sg: float, k0: float, z0: float, pp: float, qq: floa
     qc = a1 * a2 - w
     dd = a1 * bz - a2 * bt
     sd = math.sqrt(dd * dd + 4.0 * qa * w)
-    # larger root of qa p^2 + qb p + qc = 0 without cancellation (discriminant a sum of squares)
+    # larger root of qa p^2 + qb p + qc = 0 without cancellation (discriminant a sum of
+    # squares): num/den
     neg = qb <= 0.0
-    root = (-qb + sd if neg else 2.0 * qc) / (2.0 * qa if neg else -qb - sd)
-    # implicit derivative of that root (dPhi/dp = sd there)
-    slope_root = -(ddev * (bz + nu * bt) * root + ddev * (a2 + nu * a1) - dw) / sd
+    num = -qb + sd if neg else 2.0 * qc
+    den = 2.0 * qa if neg else -qb - sd
     st = at - bt * p_r
     sz = az - bz * p_r
     hh = 0.5 * (st - sz)
     r = math.sqrt(hh * hh + w)
     excess = 0.5 * (st + sz) + r - ucs
-    slope_excess = (-0.5 * (1.0 + nu) * ddev
-                    + (-0.5 * (1.0 - nu) * ddev * hh + 0.5 * dw) / max(r, 1e-300))
-    over = not root < p_r  # also where the root is nan (degenerate quadratic)
-    v = p_r + max(excess, 0.0) if over else root
-    g = slope_excess if over else slope_root
+    # F_a(p_r) >= 0 exactly when the root is at or above p_r (F_a falls with p): then the
+    # value is p_r + F_a(p_r) and the slope that of the hoop-axial major stress at p_r; else
+    # the root and its implicit derivative (dPhi/dp = sd there). One division for each.
+    over = excess >= 0.0
+    v_num = p_r + excess if over else num
+    v_den = 1.0 if over else den
+    g_num = (-0.5 * (1.0 + nu) * ddev * r - 0.5 * (1.0 - nu) * ddev * hh + 0.5 * dw if over
+             else -(ddev * (bz + nu * bt) * num + (ddev * (a2 + nu * a1) - dw) * den))
+    g_den = max(r, 1e-300) if over else den * sd
+    v = v_num / v_den
+    g = g_num / g_den
     return v, g
 
 
