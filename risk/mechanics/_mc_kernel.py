@@ -48,10 +48,10 @@ Maximisation
 
 Walls with a tensile sector
     (rare in reservoirs; F_b and the cut-off matter only there) With no drawdown, F_b, the
-    full criterion's tensile-throughout branch -q lo - UCS and the cut-off -lo - T0 are each
-    maximised over the half circle as smooth functions (grid with the density of 24 angles over
-    [0, pi) in theta, then parabolic steps on shrinking brackets), skipped where a cheap bound
-    over all angles is negative. Below p_r, F_b's crossing above F_a's is found by the envelope
+    full criterion's tensile-throughout branch -q lo - UCS and the cut-off -lo - T0 (passed
+    where it is > 0) are each maximised over the half circle as smooth functions (a grid of 48
+    angles over [0, pi) in theta, then Brent's minimiser on each side of the grid's two largest
+    local maxima), skipped where a cheap bound over all angles is negative. Below p_r, F_b's crossing above F_a's is found by the envelope
     iteration of the general solver on F_b alone, with F_b's crossing at one angle in closed
     form.
 """
@@ -63,10 +63,10 @@ import math
 import numpy as np
 from numba import njit, prange, types
 
-_GRID = 12  # intervals on a half circle of psi = 24 angles over [0, pi) in theta
-_STEP = math.pi / _GRID
-_COS = np.cos(np.arange(_GRID + 1) * _STEP)
-_SIN = np.sin(np.arange(_GRID + 1) * _STEP)
+_FINE = 48  # intervals on the half circle for walls with a tensile sector (rare, so dense)
+_STEP_F = math.pi / _FINE
+_COS_F = np.cos(np.arange(_FINE + 1) * _STEP_F)
+_SIN_F = np.sin(np.arange(_FINE + 1) * _STEP_F)
 # compiled once per machine (cached beside the module); numpy's error model: x/0 gives inf
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -110,8 +110,10 @@ def _fa(c: float, s: float, sg: float, k0: float, z0: float, pp: float, qq: floa
     # F_a(p_r) >= 0 exactly when the root is at or above p_r (F_a falls with p): then the
     # value is p_r + F_a(p_r) and the slope that of the hoop-axial major stress at p_r; else
     # the root and its implicit derivative (dPhi/dp = sd there). One division for each.
-    over = excess >= 0.0
-    v_num = p_r + excess if over else num
+    # (also where the quadratic degenerates, den = 0: A = 1 with the axial stress at UCS,
+    # where F_a >= 0 at every p and rounding can leave the excess a hair below zero)
+    over = not ((excess < 0.0) & (den != 0.0))
+    v_num = p_r + max(excess, 0.0) if over else num
     v_den = 1.0 if over else den
     g_num = (-0.5 * (1.0 + nu) * ddev * r - 0.5 * (1.0 - nu) * ddev * hh + 0.5 * dw if over
              else -(ddev * (bz + nu * bt) * num + (ddev * (a2 + nu * a1) - dw) * den))
@@ -196,71 +198,101 @@ def _crossing_b(c: float, s: float, p_fail: float, p_safe: float, k: tuple
     return best
 
 
-@_jit_inline
-def _turn(x: float, c0: float, s0: float, sg: float) -> tuple[float, float]:
-    """(cos, sin) of the direction (c0, s0) turned by sg * x, |x| <= 0.3: Taylor series of
-    cos x and sin x to x^12 (truncation below 3e-17)."""
-    x2 = x * x
-    cx = 1.0 + x2 * (-1 / 2 + x2 * (1 / 24 + x2 * (-1 / 720 + x2 * (
-        1 / 40320 + x2 * (-1 / 3628800 + x2 / 479001600)))))
-    sx = sg * x * (1.0 + x2 * (-1 / 6 + x2 * (1 / 120 + x2 * (-1 / 5040 + x2 * (
-        1 / 362880 + x2 * (-1 / 39916800))))))
-    return c0 * cx - s0 * sx, s0 * cx + c0 * sx
+@_jit
+def _smooth_at(which: int, x: float, p: float, cu: float, su: float, sg: float,
+               k: tuple) -> float:
+    """:func:`_smooth` at offset x (psi) from the largest-u direction, turning by sg."""
+    cx, sx = math.cos(x), sg * math.sin(x)
+    return _smooth(which, cu * cx - su * sx, su * cx + cu * sx, p, k)
+
+
+@_jit
+def _local_max(which: int, a: float, b: float, p: float, cu: float, su: float, sg: float,
+               k: tuple) -> tuple[float, float]:
+    """A local maximum of :func:`_smooth` quantity ``which`` on [a, b] (offsets in psi) by
+    Brent's minimiser on its negative (golden section with parabolic steps; Brent 1973, ch. 5,
+    'localmin'), to 1e-10 rad. Returns the value and its offset."""
+    golden = 0.3819660112501051
+    x = w = v = a + golden * (b - a)
+    fx = fw = fv = -_smooth_at(which, x, p, cu, su, sg, k)
+    d = e = 0.0
+    for _ in range(100):
+        m = 0.5 * (a + b)
+        tol = 1e-10 + 1e-14 * abs(x)
+        if abs(x - m) <= 2.0 * tol - 0.5 * (b - a):
+            break
+        use_golden = True
+        if abs(e) > tol:
+            r = (x - w) * (fx - fv)
+            q = (x - v) * (fx - fw)
+            pp = (x - v) * q - (x - w) * r
+            q = 2.0 * (q - r)
+            if q > 0.0:
+                pp = -pp
+            q = abs(q)
+            if abs(pp) < abs(0.5 * q * e) and pp > q * (a - x) and pp < q * (b - x):
+                e, d = d, pp / q
+                u = x + d
+                if u - a < 2.0 * tol or b - u < 2.0 * tol:
+                    d = tol if x < m else -tol
+                use_golden = False
+        if use_golden:
+            e = (b - x) if x < m else (a - x)
+            d = golden * e
+        u = x + (d if abs(d) >= tol else (tol if d > 0.0 else -tol))
+        fu = -_smooth_at(which, u, p, cu, su, sg, k)
+        if fu <= fx:
+            if u < x:
+                b = x
+            else:
+                a = x
+            v, fv, w, fw, x, fx = w, fw, x, fx, u, fu
+        else:
+            if u < x:
+                a = u
+            else:
+                b = u
+            if fu <= fw or w == x:
+                v, fv, w, fw = w, fw, u, fu
+            elif fu <= fv or v == x or v == w:
+                v, fv = u, fu
+    return -fx, x
 
 
 @_jit
 def _half_circle_max(which: int, p: float, cu: float, su: float, sg: float,
                      k: tuple) -> tuple[float, float]:
     """Maximum of :func:`_smooth` quantity ``which`` at wall pressure p over the half circle
-    from the largest-u direction (cu, su) turning by sg: a grid with the density of 24 angles
-    over [0, pi) in theta, then parabolic steps on shrinking brackets from the grid maximum
-    that never lose the best value seen. Returns the value and its offset in psi."""
-    j, best, fm, fp, prev = 0, -math.inf, -math.inf, -math.inf, -math.inf
-    for i in range(_GRID + 1):
-        cx, sx = _COS[i], sg * _SIN[i]
-        v = _smooth(which, cu * cx - su * sx, su * cx + cu * sx, p, k)
-        if v > best:
-            j, best, fm, fp = i, v, prev, -math.inf
-        elif i == j + 1:
-            fp = v
-        prev = v
-    c0, s0 = _COS[j], sg * _SIN[j]
-    c0, s0 = cu * c0 - su * s0, su * c0 + cu * s0
-    h = _STEP
-    if j == 0:
-        c, s = _turn(-h, c0, s0, sg)
-        fm = _smooth(which, c, s, p, k)
-    if j == _GRID:
-        c, s = _turn(h, c0, s0, sg)
-        fp = _smooth(which, c, s, p, k)
-    x = 0.0
-    tol = 1e-13 * (1.0 + abs(best))
-    for _ in range(8):
-        curv = fp - 2.0 * best + fm
-        off = 0.0
-        if curv < 0.0:
-            off = min(max(0.5 * h * (fm - fp) / curv, -h), h)
-        xb, fb = x, best
-        if fm > fb:
-            xb, fb = x - h, fm
-        if fp > fb:
-            xb, fb = x + h, fp
-        if off != 0.0 and -(fm - fp) * (fm - fp) / (8.0 * curv) > tol:
-            c, s = _turn(x + off, c0, s0, sg)
-            fv = _smooth(which, c, s, p, k)
-            if fv > fb:
-                xb, fb = x + off, fv
-        elif fb == best:
-            break
-        x, best = xb, fb
-        h *= 0.02
-        if h < 1e-10:
-            break
-        c, s = _turn(x - h, c0, s0, sg)
-        fm = _smooth(which, c, s, p, k)
-        c, s = _turn(x + h, c0, s0, sg)
-        fp = _smooth(which, c, s, p, k)
-    return best, j * _STEP + x
+    from the largest-u direction (cu, su) turning by sg: a grid of 48 angles over [0, pi) in
+    theta, then Brent's minimiser on each side of the grid's two largest local maxima (a local
+    maximum of the grid can sit in the dip between two peaks, and a refinement reaching only
+    from the grid point can stop short of its peak: both were found in review). Returns the
+    value and its offset in psi."""
+    vals = np.empty(_FINE + 1)
+    for i in range(_FINE + 1):
+        cx, sx = _COS_F[i], sg * _SIN_F[i]
+        vals[i] = _smooth(which, cu * cx - su * sx, su * cx + cu * sx, p, k)
+    # the two largest grid local maxima
+    j1, j2 = -1, -1
+    for i in range(_FINE + 1):
+        left = vals[i - 1] if i > 0 else -math.inf
+        right = vals[i + 1] if i < _FINE else -math.inf
+        if vals[i] >= left and vals[i] >= right:
+            if j1 < 0 or vals[i] > vals[j1]:
+                j1, j2 = i, j1
+            elif j2 < 0 or vals[i] > vals[j2]:
+                j2 = i
+    best, x_best = vals[j1], j1 * _STEP_F
+    for j in (j1, j2):
+        if j < 0:
+            continue
+        xj = j * _STEP_F
+        for a, b in ((max(xj - _STEP_F, 0.0), xj), (xj, min(xj + _STEP_F, math.pi))):
+            if b > a:
+                v, x = _local_max(which, a, b, p, cu, su, sg, k)
+                if v > best:
+                    best, x_best = v, x
+    return best, x_best
 
 
 @_jit_inline
@@ -297,11 +329,11 @@ def _tensile_side(best_a: float, x_a: float, cu: float, su: float, sg: float,
         g_b, x_b = _half_circle_max(1, p_r, cu, su, sg, k)
         if g_b >= 0.0:
             return p_r + g_b, x_b
-    if q * lo_max - ucs >= 0.0 or lo_max - t0 >= 0.0:
+    if q * lo_max - ucs >= 0.0 or lo_max - t0 > 0.0:
         g_l, x_l = _half_circle_max(2, p_r, cu, su, sg, k)
         if q * g_l - ucs >= 0.0:
             return p_r + q * g_l - ucs, x_l
-        if g_l - t0 >= 0.0:
+        if g_l - t0 > 0.0:  # tension beyond T0 (T0 = 0: any tension, not zero stress)
             return p_r, x_l
     p = max(best_a, 0.0)
     if _bounds(p, k)[0] < 0.0:

@@ -209,7 +209,8 @@ def hoek_brown_rock_mass(
 
 
 def tensile_cutoff(s3: ArrayLike, tensile_strength: ArrayLike) -> Array:
-    """Tensile cut-off: F = -s3 - T0 [MPa] (fails when s3 <= -T0)."""
+    """Tensile cut-off: F = -s3 - T0 [MPa]; the cut-off is passed where F > 0 (tension beyond
+    T0; with T0 = 0 any tension, while the zero radial stress of a producing wall is not)."""
     return -np.asarray(s3, dtype=float) - np.asarray(tensile_strength, dtype=float)
 
 

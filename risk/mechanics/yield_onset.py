@@ -209,7 +209,9 @@ def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> Onset
     p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
     theta = np.arctan2(sin2, cos2, out=sin2)  # nan where never
     theta *= 0.5
-    np.add(theta, np.pi, out=theta, where=theta < 0.0)  # [0, pi)
+    np.add(theta, np.pi, out=theta, where=theta < 0.0)
+    np.copyto(theta, 0.0, where=theta >= np.pi)  # [0, pi): -tiny + pi can round to pi
+    theta += 0.0  # no -0.0
     theta = np.transpose(theta.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, theta)
 
@@ -233,8 +235,8 @@ def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: A
     if np.any(tens):
         idx = np.nonzero(tens)[0]
         g_t[idx], t_t[idx] = solver.max_over_theta(
-            solver.tension, p_r[idx], (*_take(case, idx), t0[idx]), decided_at=0.0)
-    zero = (g_r >= 0.0) | (g_t >= 0.0)
+            solver.tension, p_r[idx], (*_take(case, idx), t0[idx]), decided_at=1e-300)
+    zero = (g_r >= 0.0) | (g_t > 0.0)  # tension beyond T0 (T0 = 0: any tension)
     p_wc[zero] = p_r[zero]
     theta[zero] = np.where(g_r[zero] >= 0.0, t_r[zero], t_t[zero])
 

@@ -67,7 +67,7 @@ def _brute(local, *, p_r, A, nu, strength, t0, criterion):
     def f_t(theta, p):
         return tensile_cutoff(principal(theta, p)[2], t0)
 
-    if g(p_r, f_shear) >= 0 or g(p_r, f_t) >= 0:
+    if g(p_r, f_shear) >= 0 or g(p_r, f_t) > 0:  # tension beyond T0 (criteria.py)
         return p_r
     if g(0.0, f_shear) < 0:
         return -np.inf
@@ -380,3 +380,47 @@ def test_compiled_mohr_coulomb_against_brute_force_wide_ranges():
             assert got[i] == ref, i
         else:
             assert got[i] == pytest.approx(ref, abs=1e-7), (i, got[i], ref)
+
+
+# Three defects found in review of the compiled kernel (2026-12-02), each a derived case
+# checked against the brute force above.
+REVIEW_CASES = [
+    # a narrow peak of -lo that a refinement reaching only from the grid point missed: with
+    # T0 between the missed and the true maximum of -lo, the wall fails with no drawdown
+    ((84.9205, 48.4252, 41.7523, -0.8437, -20.1093, -2.1432), 28.4353, 0.7093, 0.0679,
+     172.92, 1.1096, 4.4935),
+    # A = 1 (Biot 1, Poisson 0) with the axial stress exactly at UCS: F_a >= 0 at every
+    # wall pressure, and rounding left the excess a hair below zero (0/0 gave nan)
+    ((10.0, 10.0, 60.0, 0.0, 0.0, 0.0), 1.1, 1.0, 0.0, 58.9, 0.5, np.inf),
+    # T0 = 0 on a wall compressive all round: the zero radial stress of a producing wall is
+    # not tension beyond T0 (the cut-off is passed only where -s3 - T0 > 0)
+    ((50.0, 40.0, 60.0, 0.0, 0.0, 0.0), 20.0, 0.5, 0.25, 80.0, 0.5, 0.0),
+]
+
+
+@pytest.mark.parametrize("case", REVIEW_CASES)
+def test_review_cases_against_brute_force(case):
+    comps, p_r, a, nu, ucs, phi, t0 = case
+    one = st.LocalStress(*comps)
+    s = StrengthParameters(ucs, phi)
+    got = _solve(one, p_r=p_r, A=a, nu=nu, strength=s, t0=t0, criterion="mohr-coulomb")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        ref = _brute(one, p_r=p_r, A=a, nu=nu, strength=s, t0=t0, criterion="mohr-coulomb")
+    assert np.isfinite(got) or np.isneginf(got)
+    if np.isinf(ref):
+        assert got == ref
+    else:
+        assert got == pytest.approx(ref, abs=1e-7)
+
+
+def test_worst_angle_in_half_open_range():
+    # theta in [0, pi): never pi (rounding of -tiny + pi) and never -0.0
+    rng = np.random.default_rng(4)
+    n = 20000
+    loc = _case(rng.uniform(50, 60, n), 45.0, 70.0, 0.0, 0.0, 0.0, rng.uniform(0, 2 * np.pi, n))
+    r = critical_wall_pressure(loc, reservoir_pressure=30.0, poro_coefficient=0.5,
+                               poisson_ratio=0.25, strength=StrengthParameters(60.0, 0.5),
+                               tensile_strength=2.0)
+    th = r.theta[np.isfinite(r.theta)]
+    assert th.size and np.all((th >= 0.0) & (th < np.pi)) and not np.any(np.signbit(th))
