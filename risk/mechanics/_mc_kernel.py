@@ -51,9 +51,9 @@ Walls with a tensile sector
     full criterion's tensile-throughout branch -q lo - UCS and the cut-off -lo - T0 (passed
     where it is > 0) are each maximised over the half circle as smooth functions (a grid of 48
     angles over [0, pi) in theta, then Brent's minimiser on each side of the grid's two largest
-    local maxima), skipped where a cheap bound over all angles is negative. Below p_r, F_b's crossing above F_a's is found by the envelope
-    iteration of the general solver on F_b alone, with F_b's crossing at one angle in closed
-    form.
+    local maxima), skipped where a cheap bound over all angles is negative. Below p_r, F_b's
+    crossing above F_a's is found by the envelope iteration of the general solver on F_b
+    alone, with F_b's crossing at one angle in closed form.
 """
 
 from __future__ import annotations
