@@ -141,11 +141,16 @@ def far_field_tensor(
     return out
 
 
+_PAIRWISE = ["einsum_path", (0, 1), (0, 1)]
+
+
 def rotate_to_frame(tensor: ArrayLike, frame: ArrayLike) -> Array:
     """S' = R S R^T: components of a NED tensor in the frame whose rows are R [MPa]."""
     r = np.asarray(frame, dtype=float)
     s = np.asarray(tensor, dtype=float)
-    return np.einsum("...ij,...jk,...lk->...il", r, s, r)
+    # two pairwise contractions, in a fixed order, instead of one three-operand loop (several
+    # times faster on stacks of tensors; rounding-level differences from the one loop)
+    return np.einsum("...ij,...jk,...lk->...il", r, s, r, optimize=_PAIRWISE)
 
 
 def local_stress(tensor: ArrayLike, frame: ArrayLike) -> LocalStress:
