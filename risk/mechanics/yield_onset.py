@@ -328,10 +328,16 @@ class _Solver:
         return self.excess(s1, s2, s3, StrengthParameters(*case[9:]))
 
     def tension(self, theta: Array, p: Array, *case: Array) -> Array:
+        """Tensile cut-off with the hoop-axial block's smaller eigenvalue lo in place of
+        s3 = min(lo, 0): the same decision (-lo - T0 > 0 needs lo < 0 as T0 >= 0), but smooth
+        in the angle, so a tension sector narrower than the grid still has a peak to climb
+        (with s3 the grid sees a plateau of -T0; found in review)."""
         a_t, a_z, tau = _coefficients(theta, case[:8])
         ba = case[8]
-        _, _, s3 = _principal(a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p, tau)
-        return tensile_cutoff(s3, case[-1])
+        st, sz = a_t - (2.0 - ba) * p, a_z - (1.0 - ba) * p
+        half = 0.5 * (st - sz)
+        lo = 0.5 * (st + sz) - np.sqrt(half * half + tau * tau)
+        return tensile_cutoff(lo, case[-1])
 
     def max_over_theta(self, f: Callable[..., Array], p: Array, case: tuple[Array, ...],
                        decided_at: float | None = None) -> tuple[Array, Array]:
@@ -345,13 +351,30 @@ class _Solver:
             return np.zeros(0), np.zeros(0)
         col = tuple(a[:, None] if np.ndim(a) else a for a in case)
         vals = f(self.grid[None, :], p[:, None], *col)
+        rows = np.arange(n)
         k = np.argmax(vals, axis=1)
-        best = vals[np.arange(n), k]
+        best = vals[rows, k]
         t = self.grid[k].copy()
         todo = np.arange(n) if decided_at is None else np.nonzero(best < decided_at)[0]
         if todo.size:
             sub = tuple(a[todo] if np.ndim(a) else a for a in case)
             b, tt = _refine_max(f, t[todo], best[todo], self.step, p[todo], sub)
+            # also the second-largest local maximum of the grid (period pi): a narrow peak
+            # between grid angles can rise above the grid's largest (found in review)
+            v = vals[todo]
+            peak = (v >= np.roll(v, 1, axis=1)) & (v >= np.roll(v, -1, axis=1))
+            masked = np.where(peak, v, -np.inf)
+            masked[np.arange(todo.size), k[todo]] = -np.inf
+            k2 = np.argmax(masked, axis=1)
+            second = masked[np.arange(todo.size), k2]
+            has = np.nonzero(np.isfinite(second))[0]
+            if has.size:
+                sub2 = tuple(a[has] if np.ndim(a) else a for a in sub)
+                b2, tt2 = _refine_max(f, self.grid[k2[has]], second[has], self.step,
+                                      p[todo][has], sub2)
+                up = b2 > b[has]
+                b[has[up]] = b2[up]
+                tt[has[up]] = tt2[up]
             best[todo] = b
             t[todo] = tt
         return best, t
