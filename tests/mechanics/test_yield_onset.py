@@ -336,6 +336,28 @@ def test_compiled_mohr_coulomb_equals_general_solver(tensile):
         assert comp.mean() > 0.3
 
 
+def _wide_cases(rng, n, *, exact_edges):
+    """Wide, partly unphysical ranges (derived test design): stresses 5-100 MPa, half the
+    wells vertical and half the horizontal stresses equal, any orientation and shot, friction
+    angles to 75 degrees, tension cut-offs from 0 to 20 MPa or none; ``exact_edges`` puts
+    Biot = 1 and Poisson = 0 (A = 1) in a tenth of the cases each."""
+    sh_min = rng.uniform(5, 60, n)
+    sh_max = sh_min + rng.uniform(0, 30, n) * rng.integers(0, 2, n)
+    sv = rng.uniform(5, 90, n)
+    inc = rng.uniform(0, 1.6, n) * rng.integers(0, 2, n)
+    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), inc, rng.uniform(0, 6, n),
+                rng.uniform(0, 6.3, n))
+    edge = exact_edges
+    biot = np.where(edge & (rng.random(n) < 0.1), 1.0, rng.uniform(0.5, 1, n))
+    nu = np.where(edge & (rng.random(n) < 0.1), 0.0, rng.uniform(0, 0.49, n))
+    a = biot * (1 - 2 * nu) / (1 - nu)
+    p_r = rng.uniform(0.5, 50, n)
+    ucs = rng.uniform(1, 200, n)
+    phi = rng.uniform(0.05, 1.3, n)
+    t0 = np.where(rng.random(n) < 0.2, np.inf, rng.uniform(0, 20, n))
+    return loc, inc, a, nu, p_r, ucs, phi, t0
+
+
 def test_compiled_mohr_coulomb_against_brute_force_wide_ranges():
     # The compiled kernel against the independent brute force (eigvalsh, dense scan, brentq)
     # over wide, partly unphysical ranges that reach its special cases: vertical wells with
@@ -343,21 +365,8 @@ def test_compiled_mohr_coulomb_against_brute_force_wide_ranges():
     # (Biot 1, Poisson 0), friction angles to 75 degrees (narrow tensile sectors), walls
     # tensile throughout and tension cut-offs near zero. Each kind found a defect while the
     # kernel was written (derived cases, not from a publication).
-    rng = np.random.default_rng(2026)
-    n = 8000
-    sh_min = rng.uniform(5, 60, n)
-    sh_max = sh_min + rng.uniform(0, 30, n) * rng.integers(0, 2, n)
-    sv = rng.uniform(5, 90, n)
-    inc = rng.uniform(0, 1.6, n) * rng.integers(0, 2, n)
-    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), inc, rng.uniform(0, 6, n),
-                rng.uniform(0, 6.3, n))
-    biot = np.where(rng.random(n) < 0.1, 1.0, rng.uniform(0.5, 1, n))
-    nu = np.where(rng.random(n) < 0.1, 0.0, rng.uniform(0, 0.49, n))
-    a = biot * (1 - 2 * nu) / (1 - nu)
-    p_r = rng.uniform(0.5, 50, n)
-    ucs = rng.uniform(1, 200, n)
-    phi = rng.uniform(0.05, 1.3, n)
-    t0 = np.where(rng.random(n) < 0.2, np.inf, rng.uniform(0, 20, n))
+    loc, inc, a, nu, p_r, ucs, phi, t0 = _wide_cases(np.random.default_rng(2026), 8000,
+                                                      exact_edges=True)
     got = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
                                  poisson_ratio=nu, strength=StrengthParameters(ucs, phi),
                                  tensile_strength=t0).wall_pressure
@@ -431,21 +440,8 @@ def test_general_iteration_matches_compiled_kernel_over_wide_ranges():
     # Mohr-Coulomb, over the wide ranges of the brute-force test above: two independent
     # algorithms. Before review fixes (refinement reaching its peak, the second grid maximum,
     # a smooth tension function) about 1 case in 2 x 10^4 differed, by up to 10 MPa.
-    rng = np.random.default_rng(77)
-    n = 40000
-    sh_min = rng.uniform(5, 60, n)
-    sh_max = sh_min + rng.uniform(0, 30, n) * rng.integers(0, 2, n)
-    sv = rng.uniform(5, 90, n)
-    inc = rng.uniform(0, 1.6, n) * rng.integers(0, 2, n)
-    loc = _case(sh_max, sh_min, sv, rng.uniform(0, 3, n), inc, rng.uniform(0, 6, n),
-                rng.uniform(0, 6.3, n))
-    biot = rng.uniform(0.5, 1, n)
-    nu = rng.uniform(0, 0.49, n)
-    a = biot * (1 - 2 * nu) / (1 - nu)
-    p_r = rng.uniform(0.5, 50, n)
-    ucs = rng.uniform(1, 200, n)
-    phi = rng.uniform(0.05, 1.3, n)
-    t0 = np.where(rng.random(n) < 0.2, np.inf, rng.uniform(0, 20, n))
+    loc, _, a, nu, p_r, ucs, phi, t0 = _wide_cases(np.random.default_rng(77), 40000,
+                                                    exact_edges=False)
     fast, slow, _ = _compiled_and_general(loc, p_r, a, nu, ucs, phi, t0)
     np.testing.assert_array_equal(np.isfinite(fast.wall_pressure), np.isfinite(slow))
     finite = np.isfinite(slow)
