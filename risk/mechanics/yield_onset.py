@@ -149,6 +149,8 @@ def critical_wall_pressure(
 
     Notes
     -----
+    (The envelope iteration, for criteria other than Mohr-Coulomb; Mohr-Coulomb takes the
+    compiled kernel of :mod:`risk.mechanics._mc_kernel`.)
     With G(p) = max over the wall angle of F(t, p), the answer is the largest root of G in
     [0, p_r]. G is convex in p (a maximum of functions convex along the path), so the iteration
     p_{k+1} = root of F(t_k, .), t_{k+1} = argmax_t F(t, p_{k+1}) rises monotonically to it:
@@ -158,8 +160,10 @@ def critical_wall_pressure(
 
     References
     ----------
-    Wall stresses: Fjaer et al. (2008) sec. 4.4; Zoback (2007) ch. 8. Root and minimum:
-    Chandrupatla, T.R. (1997) Adv. Eng. Softw. 28, 145; (1998) CMAME 152, 211.
+    Wall stresses: Fjaer et al. (2008) sec. 4.4; Zoback (2007) ch. 8. Bracketed root:
+    Chandrupatla, T.R. (1997) Adv. Eng. Softw. 28, 145. Mohr-Coulomb kernel: Anderson, N. &
+    Bjorck, A. (1973) BIT 13, 253; Brent, R.P. (1973) Algorithms for Minimization without
+    Derivatives, chs. 4-5.
     """
     if criterion not in CRITERIA:
         raise ValueError(f"unknown criterion {criterion!r}; expected one of {sorted(CRITERIA)}")
