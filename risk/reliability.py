@@ -239,6 +239,11 @@ def _rotation(alpha: FloatArray) -> FloatArray:
     return np.vstack([q[:, 1:].T, q[:, 0]])
 
 
+# Breitung's factors 1 + beta kappa at or below this count as zero: the curvature from central
+# differences carries a rounding error of about eps |g| / step^2 ~ 1e-11 (derived), far below.
+_SORM_FACTOR_TOL = 1e-6
+
+
 def sorm_breitung(g: LimitState, form_result: FormResult, *, step: float = 1e-2) -> SormResult:
     """Second-order correction of FORM by Breitung's asymptotic formula.
 
@@ -247,7 +252,7 @@ def sorm_breitung(g: LimitState, form_result: FormResult, *, step: float = 1e-2)
     ``(R H R^T)_{d-1} / |grad g|``, ``H`` the Hessian of ``g`` at ``u*`` by central finite
     differences in the rotated frame (last axis along ``alpha``), evaluated in one vectorised
     call of ``2 (d-1)^2 + 1`` rows. Asymptotically exact as ``beta -> inf`` with fixed
-    curvatures; NaN when some ``1 + beta kappa_i <= 0`` (the surface wraps around the origin,
+    curvatures; NaN when some ``1 + beta kappa_i <= 1e-6`` (the surface wraps around the origin,
     e.g. a sphere centred on it: the design point is not unique and the formula breaks down).
 
     Parameters
@@ -296,10 +301,14 @@ def sorm_breitung(g: LimitState, form_result: FormResult, *, step: float = 1e-2)
     gnorm = float(np.linalg.norm(form_result.gradient))
     kappa = np.linalg.eigvalsh(hess / gnorm)
     factors = 1.0 + beta * kappa
-    if (factors <= 0).any() or not np.isfinite(factors).all():
+    # A factor at zero within the finite-difference error (a sphere about the origin gives
+    # 2e-12 instead of 0) is a breakdown too, and a "probability" above 1 is never returned.
+    if (factors <= _SORM_FACTOR_TOL).any() or not np.isfinite(factors).all():
         pf = math.nan
     else:
         pf = float(sc.ndtr(-beta) * np.prod(factors ** -0.5))
+        if not pf <= 1.0:
+            pf = math.nan
     return SormResult(pf, np.asarray(kappa), gc.evals)
 
 

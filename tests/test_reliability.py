@@ -192,3 +192,27 @@ def test_form_not_converged_reported() -> None:
     assert not res.converged and "no convergence" in res.message
     nan_res = form(lambda u: np.full(u.shape[0], np.nan), 2)
     assert not nan_res.converged and "not finite" in nan_res.message
+
+
+def test_sorm_never_returns_a_probability_above_one() -> None:
+    # A parabolic limit state g = beta - u2 + (c/2) u1^2 has its design point at (0, beta), a
+    # unit gradient there and the curvature c = g''/|grad g| that sorm_breitung computes
+    # (derived). With c just above -1/beta, Breitung's factor 1 + beta c is 1e-5 and
+    # Phi(-beta) (1e-5)^(-1/2) = 50 for beta = 1: the asymptotic formula has broken down, and
+    # the result must say so (NaN), never a "probability" above 1.
+    beta = 1.0
+
+    def parabola(c: float):  # noqa: ANN202 - a limit state
+        return lambda u: beta - u[:, 1] + 0.5 * c * u[:, 0] ** 2
+
+    c = -1.0 / beta + 1e-5
+    res = form(parabola(c), 2, u0=np.array([0.0, 0.5]))
+    assert res.converged and res.beta == pytest.approx(beta, abs=1e-6)
+    sorm = sorm_breitung(parabola(c), res)
+    assert sorm.curvatures[0] == pytest.approx(c, abs=1e-6)
+    assert math.isnan(sorm.pf)
+    # the same surface gently curved: Breitung (1984, eq. 21) holds and stays a probability
+    c = -0.2
+    res = form(parabola(c), 2, u0=np.array([0.0, 0.5]))
+    expected = stats.norm.cdf(-beta) / math.sqrt(1.0 + beta * c)
+    assert sorm_breitung(parabola(c), res).pf == pytest.approx(expected, rel=1e-6)
