@@ -15,12 +15,14 @@ __all__ = ["RunResult", "run_scenario", "new_scenario", "render_memo"]
 
 @dataclass(frozen=True)
 class RunResult:
-    """What :func:`run_scenario` produced: the JSON summary and where it was written. (The
-    per-sample arrays are released before the memo is drawn, which keeps the peak memory of
-    large runs down; :func:`risk.assessment.assess` returns them.)"""
+    """What :func:`run_scenario` produced: the JSON summary, where it was written, and the files
+    of that folder the tool did not write (kept untouched). (The per-sample arrays are released
+    before the memo is drawn, which keeps the peak memory of large runs down;
+    :func:`risk.assessment.assess` returns them.)"""
 
     summary: dict[str, Any]
     out_dir: Path
+    kept_foreign: tuple[str, ...] = ()
 
 
 def _whole(option: str, value: int | str | None, expected: str, low: int, high: int
@@ -56,9 +58,17 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     """
     n_samples, n_seed = _check_overrides(samples, seed)
     scenario = load_scenario(path)
-    from risk.report.writer import check_output_dir, publish
+    from risk.report.writer import OutputFolder
 
-    out_dir = check_output_dir(out, force=force)
+    # the folder is checked, created and locked before any work; held until the end
+    with OutputFolder(out, force=force, inputs=[path]) as folder:
+        summary, files = _compute(scenario, path, n_samples, n_seed, show_progress)
+        kept = folder.publish(files)
+    return RunResult(summary, folder.path, tuple(kept))
+
+
+def _compute(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int | None,
+             show_progress: bool) -> tuple[dict[str, Any], dict[str, str | bytes]]:
     from risk.assessment import assess
     from risk.report.results import summarize
 
@@ -82,8 +92,7 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
                 lambda text: bar.update(task, description=text))
     else:
         summary, files = produce()
-    publish(out_dir, files, force=force)
-    return RunResult(summary, out_dir)
+    return summary, files
 
 
 def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:
@@ -115,47 +124,76 @@ def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, 
     return files
 
 
-def render_memo(out: str | Path) -> Path:
+def render_memo(out: str | Path, *, force: bool = False) -> Path:
     """Re-render the memo of a finished run from its results.json, without recomputing.
+
+    The folder is locked while the memo is drawn, so the memo never mixes two runs; an
+    interrupted swap of an earlier process is completed first.
 
     Raises
     ------
     ScenarioError
-        When the folder holds no readable results.json of this tool.
+        When the folder holds no readable results.json of this tool, when results.json was
+        changed since the run wrote it, or when the memo files were edited (unless ``force``).
     """
     import json
 
-    from risk.report.writer import replace_files
+    from risk.report.writer import OutputFolder
 
     folder = Path(out)
     res = folder / "results.json"
-    if not res.is_file():
+    if not folder.is_symlink() and not res.is_file():
         raise ScenarioError.single("DIR", str(out), "a folder written by `risk run` "
                                    "(with results.json)",
                                    found_text=f"no results.json in {str(out)!r}")
-    try:
-        summary = json.loads(res.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
-        raise ScenarioError.single("results.json", str(res), "the JSON written by `risk run`",
-                                   found_text=f"an unreadable file ({exc})") from None
-    if not isinstance(summary, dict) or summary.get("tool") != "risk":
-        raise ScenarioError.single("results.json", str(res), "the JSON written by `risk run`",
-                                   found_text="another kind of JSON")
-    run_info: dict[str, Any] = {}
-    info = folder / "run.json"
-    if info.is_file():
+    _check_results_digest(folder)  # before the lock: the clearest message for a hand edit
+    with OutputFolder(folder, force=force, create=False, key="DIR") as held:
         try:
-            run_info = json.loads(info.read_text(encoding="utf-8"))
-        except (OSError, UnicodeDecodeError, json.JSONDecodeError):
-            run_info = {}
-    try:
-        files = _memo_files(summary, run_info)
-    except (KeyError, TypeError, ValueError) as exc:
-        raise ScenarioError.single("results.json", str(res),
-                                   "results.json of this version of risk",
-                                   found_text=f"a file the memo cannot read ({exc!r})") from None
-    replace_files(folder, files)
+            raw = res.read_bytes()
+            summary = json.loads(raw.decode("utf-8"))
+        except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+            raise ScenarioError.single("results.json", str(res),
+                                       "the JSON written by `risk run`",
+                                       found_text=f"an unreadable file ({exc})") from None
+        if not isinstance(summary, dict) or summary.get("tool") != "risk":
+            raise ScenarioError.single("results.json", str(res),
+                                       "the JSON written by `risk run`",
+                                       found_text="another kind of JSON")
+        _check_results_digest(folder)
+        run_info: dict[str, Any] = {}
+        info = folder / "run.json"
+        if info.is_file():
+            try:
+                run_info = json.loads(info.read_text(encoding="utf-8"))
+            except (OSError, UnicodeDecodeError, json.JSONDecodeError):
+                run_info = {}
+        try:
+            files = _memo_files(summary, run_info)
+        except (KeyError, TypeError, ValueError) as exc:
+            raise ScenarioError.single("results.json", str(res),
+                                       "results.json of this version of risk",
+                                       found_text=f"a file the memo cannot read ({exc!r})"
+                                       ) from None
+        held.publish(files, keep=("results.json", "run.json"))
     return folder / "memo.html"
+
+
+def _check_results_digest(folder: Path) -> None:
+    """Refuse a results.json that differs from the one the run recorded in its manifest."""
+    from risk.report.writer import read_manifest, sha256_of
+
+    recorded = (read_manifest(folder) or {}).get("results.json")
+    res = folder / "results.json"
+    try:
+        actual = sha256_of(res.read_bytes())
+    except OSError:
+        return  # reported when it is read
+    if recorded is not None and recorded != actual:
+        raise ScenarioError.single(
+            "results.json", str(res), "results.json as `risk run` wrote it (rerun the "
+            "scenario to change a result; a memo is never drawn from edited numbers)",
+            found_text=f"a file changed since the run (sha256 {actual[:12]}..., recorded "
+                       f"{recorded[:12]}...)")
 
 
 def new_scenario(path: str | Path, *, units: str = "field", force: bool = False) -> Path:
@@ -174,9 +212,17 @@ def new_scenario(path: str | Path, *, units: str = "field", force: bool = False)
     p = Path(path)
     if p.is_dir():
         raise ScenarioError.single("FILE", str(path), "a file name, not a folder")
-    if p.exists() and not force:
-        raise ScenarioError.single("FILE", str(path), "a new file name, or --force to overwrite",
-                                   found_text=f"the existing file {str(path)!r}")
+    if p.exists() or p.is_symlink():
+        # a file the tool did not write is never overwritten: --force replaces only an
+        # unedited template (byte for byte one of the two that `risk new` writes)
+        unedited = p.is_file() and not p.is_symlink() and p.read_bytes() in {
+            scenario_template(u).encode("utf-8") for u in ("field", "si")}
+        if not (force and unedited):
+            raise ScenarioError.single(
+                "FILE", str(path), "a new file name (--force replaces only an unedited "
+                "template of risk new)" if not force else "a new file name, or an unedited "
+                "template of risk new", found_text=f"the existing file {str(path)!r}"
+                + (" (edited, or not written by risk new)" if force else ""))
     try:
         replace_files(p.parent if str(p.parent) else Path("."),
                       {p.name: scenario_template(units)})

@@ -31,11 +31,29 @@ def _fail(message: str, code: int) -> None:
     raise typer.Exit(code)
 
 
+def _on_sigterm(signum: int, frame: Any) -> None:
+    raise KeyboardInterrupt  # the same clean ending as Ctrl-C (temporary files removed)
+
+
+def _interrupted_message() -> str:
+    from risk.report.writer import committed_folders
+
+    if committed_folders:
+        return (f"interrupted; the new outputs in {_escape(repr(str(committed_folders[-1])))} "
+                "were already complete")
+    return "interrupted; no output was changed"
+
+
 def _guard(fn: Any, *args: Any, **kwargs: Any) -> Any:
+    import signal
     import warnings
 
     from risk.errors import ScenarioError
 
+    try:
+        signal.signal(signal.SIGTERM, _on_sigterm)
+    except ValueError:  # not the main thread (an embedding program): leave its handlers
+        pass
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # numerical warnings are for developers, not users
@@ -45,23 +63,30 @@ def _guard(fn: Any, *args: Any, **kwargs: Any) -> Any:
     except typer.Exit:
         raise
     except KeyboardInterrupt:
-        _fail("interrupted; no output was changed", 130)
+        _fail(_interrupted_message(), 130)
     except Exception as exc:  # noqa: BLE001 - last line of defence: no traceback for users
         _fail(f"internal error ({type(exc).__name__}: {_escape(str(exc))}). This is a bug in "
               "risk; please report it with the scenario file.", EXIT_INTERNAL)
 
 
 def _escape(text: str) -> str:
+    """User text made safe for the console: markup printed literally, control characters
+    (other than line breaks) shown as escapes instead of reaching the terminal."""
+    import re
+
     from rich.markup import escape
 
-    return escape(text)
+    visible = re.sub(r"[\x00-\x09\x0b-\x1f\x7f-\x9f]",
+                     lambda m: repr(m.group())[1:-1], text)
+    return escape(visible)
 
 
 @app.command()
 def new(
     file: Annotated[Path, typer.Argument(help="Scenario file to create (TOML).")],
     units: Annotated[str, typer.Option(help='"field" (psi, ft) or "si" (MPa, m).')] = "field",
-    force: Annotated[bool, typer.Option("--force", help="Overwrite an existing file.")] = False,
+    force: Annotated[bool, typer.Option(
+        "--force", help="Overwrite a template risk wrote that was not edited since.")] = False,
 ) -> None:
     """Write a commented scenario template to edit."""
     from risk.api import new_scenario
@@ -84,8 +109,9 @@ def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -
 @app.command()
 def run(
     file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")],
-    out: Annotated[Path, typer.Option("--out", "-o", help="Output folder (replaced whole).")
-                   ] = Path("reports/run"),
+    out: Annotated[Path, typer.Option(
+        "--out", "-o", help="Output folder: new, empty, or written by risk before (only its "
+        "own files are replaced; other files are never touched).")] = Path("reports/run"),
     samples: Annotated[str | None, typer.Option(
         help="Override [analysis] samples (a whole number).")] = None,
     seed: Annotated[str | None, typer.Option(
@@ -93,13 +119,21 @@ def run(
     quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
     as_json: Annotated[bool, typer.Option("--json", help="Print results.json.")] = False,
     force: Annotated[bool, typer.Option(
-        "--force", help="Replace an output folder that risk did not write.")] = False,
+        "--force", help="Replace outputs of an earlier run even if they were edited since "
+        "(files risk did not write are never replaced).")] = False,
 ) -> None:
     """Run every analysis of a scenario and write results.json into the output folder."""
     from risk.api import run_scenario
+    from risk.kernel_cache import first_use_note
+
+    note = first_use_note()
+    if note and not quiet:
+        typer.echo(f"note: {note}", err=True)
 
     result = _guard(run_scenario, file, out=out, samples=samples, seed=seed, force=force,
                     show_progress=not quiet and not as_json and sys.stderr.isatty())
+    if result.kept_foreign and not quiet:
+        _warn_kept(result.out_dir, result.kept_foreign)
     if as_json:
         from risk.report.writer import dumps
 
@@ -110,13 +144,26 @@ def run(
         _guard(print_summary, result.summary, result.out_dir)
 
 
+def _warn_kept(out_dir: Path, kept: tuple[str, ...]) -> None:
+    from rich.console import Console
+
+    shown = ", ".join(_escape(repr(k)) for k in kept[:5])
+    more = f" and {len(kept) - 5} more" if len(kept) > 5 else ""
+    Console(stderr=True, highlight=False, soft_wrap=True).print(
+        f"[yellow]warning:[/] kept {len(kept)} file(s) in {_escape(repr(str(out_dir)))} that "
+        f"risk did not write: {shown}{more}", markup=True)
+
+
 @app.command()
-def memo(out: Annotated[Path, typer.Argument(help="Output folder of a finished `risk run`.")]
-         ) -> None:
+def memo(
+    out: Annotated[Path, typer.Argument(help="Output folder of a finished `risk run`.")],
+    force: Annotated[bool, typer.Option(
+        "--force", help="Replace memo files even if they were edited since.")] = False,
+) -> None:
     """Re-render memo.html, memo.pdf and the figures from a run's results.json."""
     from risk.api import render_memo
 
-    path = _guard(render_memo, out)
+    path = _guard(render_memo, out, force=force)
     typer.echo(f"memo: {path}")
 
 

@@ -12,29 +12,32 @@ from pathlib import Path
 import pytest
 
 from risk.errors import ScenarioError
-from risk.report.writer import MARKER, check_output_dir, publish
+from risk.report.writer import MANIFEST, STATE_DIR, check_output_dir, publish
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
 
 
-def test_publish_replaces_whole_folder(tmp_path):
+def test_publish_replaces_its_own_outputs(tmp_path):
     out = tmp_path / "run"
     publish(out, {"a.txt": "1", "sub/b.txt": b"2"})
-    assert (out / MARKER).exists() and (out / "sub" / "b.txt").read_bytes() == b"2"
+    assert (out / STATE_DIR / MANIFEST).exists() and (out / "sub" / "b.txt").read_bytes() == b"2"
     publish(out, {"c.txt": "3"})
-    assert sorted(p.name for p in out.iterdir()) == sorted([MARKER, "c.txt"])
-    assert not list(tmp_path.glob(".run.*"))  # no temporary folders left behind
+    assert sorted(p.name for p in out.iterdir()) == sorted([STATE_DIR, "c.txt"])
+    assert sorted(p.name for p in (out / STATE_DIR).iterdir()) == ["lock", MANIFEST]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["run"]  # nothing beside it
 
 
-def test_foreign_folder_refused_unless_forced(tmp_path):
+def test_foreign_folder_refused_even_when_forced(tmp_path):
     out = tmp_path / "mine"
     out.mkdir()
     (out / "notes.txt").write_text("keep me")
-    with pytest.raises(ScenarioError, match="did not write"):
-        check_output_dir(out)
+    for force in (False, True):
+        with pytest.raises(ScenarioError, match="did not write"):
+            check_output_dir(out, force=force)
+        with pytest.raises(ScenarioError, match="did not write"):
+            publish(out, {"x": "y"}, force=force)
+    assert sorted(p.name for p in out.iterdir()) == ["notes.txt"]
     assert (out / "notes.txt").read_text() == "keep me"
-    publish(out, {"x": "y"}, force=True)
-    assert not (out / "notes.txt").exists()
 
 
 def test_output_path_is_a_file(tmp_path):
