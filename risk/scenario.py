@@ -9,6 +9,18 @@ table such as ``{ dist = "normal", mean = 9000, sd = 900, source = "core plugs" 
 (:func:`risk.uncertainty.parse_input`). Stresses and the initial pore pressure are given either
 as an absolute value (``sv = ...``) or as a gradient from surface (``sv_gradient = ...``), exactly
 one of the two.
+
+Limits (far above any real scenario; they keep a mistyped or hostile file from flooding the
+terminal or the run): a file of at most :data:`MAX_FILE_BYTES`, a title of at most
+:data:`MAX_TITLE_CHARS` characters and a source of at most
+:data:`~risk.uncertainty.MAX_SOURCE_CHARS`, both one line without control characters,
+:data:`MAX_SHOTS` shot directions, :data:`MAX_STAGES` depletion stages,
+:data:`MAX_OPERATING_POINTS` operating points, and at most one correlation per pair of uncertain
+inputs.
+
+Inputs that are given but unused by the chosen options, and stages that look mistyped, are
+accepted with a warning (:attr:`Scenario.warnings`), which the console, results.json and the
+memo repeat.
 """
 
 from __future__ import annotations
@@ -16,7 +28,6 @@ from __future__ import annotations
 import difflib
 import hashlib
 import math
-import re
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -24,7 +35,7 @@ from pathlib import Path
 from typing import Any, Final
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, UNIT_SYSTEMS
-from risk.errors import Problem, ScenarioError
+from risk.errors import Problem, ScenarioError, toml_key, visible
 from risk.mechanics.criteria import CRITERIA
 from risk.uncertainty import (
     MAGNITUDE_TEXT,
@@ -33,6 +44,7 @@ from risk.uncertainty import (
     is_plain_number,
     is_real,
     parse_input,
+    text_problem,
 )
 
 __all__ = [
@@ -43,10 +55,28 @@ __all__ = [
     "load_scenario",
     "parse_scenario",
     "MAX_SAMPLES",
+    "MAX_FILE_BYTES",
+    "MAX_TITLE_CHARS",
+    "MAX_SHOTS",
+    "MAX_STAGES",
+    "MAX_OPERATING_POINTS",
+    "PAIR_TAIL",
     "SAMPLING_RULES",
 ]
 
 MAX_SAMPLES: Final = 10_000_000
+#: Largest scenario file [bytes] (1 MiB; a scenario is a few kB). Checked before parsing.
+MAX_FILE_BYTES: Final = 1_048_576
+#: Longest title [characters].
+MAX_TITLE_CHARS: Final = 200
+#: Most shot directions, depletion stages and operating points of one scenario.
+MAX_SHOTS: Final = 36
+MAX_STAGES: Final = 50
+MAX_OPERATING_POINTS: Final = 1_000
+#: Per-sample probability below which two uncertain inputs are taken never to break a rule
+#: between them (dilation angle <= friction angle): with MAX_SAMPLES samples the chance that
+#: any sample breaks it is then at most 1e7 x 1e-13 = 1e-6 (derived, union bound).
+PAIR_TAIL: Final = 1e-13
 SAMPLING_RULES: Final = ("sobol", "lhs", "random")
 COMPLETIONS: Final = ("perforated", "openhole")
 STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
@@ -120,7 +150,9 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
     InputSpec("dilation_angle", "rock", "angle",
               Bounds(0.0, math.pi / 2, upper_inclusive=False, text="in [0, 90) degrees"), False,
               "dilation angle (default 0: no plastic volume change)"),
-    InputSpec("critical_plastic_strain", "rock", "dimensionless", _POS, False,
+    InputSpec("critical_plastic_strain", "rock", "dimensionless",
+              Bounds(0.0, 1.0, lower_inclusive=False,
+                     text="in (0, 1] (a strain, not a percentage)"), False,
               "wall plastic hoop strain at tunnel collapse (calibrated)"),
     InputSpec("pore_collapse_pressure", "rock", "pressure", _POS, False,
               "pore-collapse pressure P* (mean effective stress, hydrostatic test)"),
@@ -166,7 +198,8 @@ class Scenario:
 
     ``inputs`` maps each given numeric input name (see :data:`INPUTS`) to its distribution;
     ``stress_given`` says for each of sv, shmax, shmin, pp whether the file gave the absolute
-    value ("absolute") or the gradient ("gradient").
+    value ("absolute") or the gradient ("gradient"). ``warnings`` holds one text per input that
+    is accepted but looks unintended (each starts with its key), in a fixed order.
     """
 
     title: str
@@ -186,6 +219,7 @@ class Scenario:
     operating_points: tuple[tuple[float, float], ...] = ()
     source_name: str = ""
     sha256: str = ""
+    warnings: tuple[str, ...] = ()
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -215,10 +249,7 @@ _is_number = is_plain_number
 _num_ok = is_real
 
 
-def _key_text(key: object) -> str:
-    """A key as TOML would need it written: bare when possible, else quoted."""
-    text = str(key)
-    return text if re.fullmatch(r"[A-Za-z0-9_-]+", text) else '"' + text.replace('"', '\\"') + '"'
+_key_text = toml_key
 
 
 class _Collector:
@@ -281,8 +312,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     c = _Collector()
     _check_keys(c, doc, "")
     title = doc.get("title", "")
-    if not isinstance(title, str):
-        c.add("title", title, "a text")
+    bad_title = text_problem("title", title, max_chars=MAX_TITLE_CHARS, what="a title")
+    if bad_title:
+        c.problems.append(bad_title)
         title = ""
     units = doc.get("units")
     if not isinstance(units, str) or units not in UNIT_SYSTEMS:
@@ -334,9 +366,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                   "a non-empty list of shot angles in degrees from the high side, "
                   "e.g. [0, 60, 120, 180, 240, 300]",
                   found_text="nothing (the key is missing)" if raw_shots is None else None)
-        elif len(raw_shots) > 36:
-            c.add("well.shot_angles", raw_shots, "at most 36 shot directions",
-                  found_text=f"{len(raw_shots)} directions")
+        elif len(raw_shots) > MAX_SHOTS:
+            c.add("well.shot_angles", raw_shots, f"at most {MAX_SHOTS} shot directions",
+                  found_text=f"{len(raw_shots):,} directions")
         else:
             reduced = [float(a) % 360.0 for a in raw_shots]
             if len(set(reduced)) != len(reduced):
@@ -396,9 +428,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                   f"a list of reservoir pressures > 0 [{disp['pressure']}], one per depletion "
                   "stage", found_text="nothing (the key is missing)" if stages_raw is None
                   else None)
-    elif len(stages_raw) > 50:
-        c.add("production.reservoir_pressure", stages_raw, "at most 50 depletion stages",
-              found_text=f"{len(stages_raw)} stages")
+    elif len(stages_raw) > MAX_STAGES:
+        c.add("production.reservoir_pressure", stages_raw,
+              f"at most {MAX_STAGES} depletion stages", found_text=f"{len(stages_raw):,} stages")
     else:
         stages = tuple(float(s) * conv["pressure"] for s in stages_raw)
     max_dd = c.number(pr, "production", "max_drawdown", required="production" in doc,
@@ -413,6 +445,10 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     if not isinstance(raw_ops, list):
         c.add("production.operating_points", raw_ops,
               f"a list of [reservoir pressure, flowing wall pressure] pairs [{disp['pressure']}]")
+    elif len(raw_ops) > MAX_OPERATING_POINTS:
+        c.add("production.operating_points", raw_ops,
+              f"at most {MAX_OPERATING_POINTS:,} operating points",
+              found_text=f"{len(raw_ops):,} operating points")
     else:
         for i, op in enumerate(raw_ops):
             if (isinstance(op, list) and len(op) == 2
@@ -456,8 +492,17 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     # ---- correlation ---------------------------------------------------------------------------
     corr: list[tuple[str, str, float]] = []
     pairs = sections["correlation"].get("pairs", [])
+    n_uncertain = _uncertain_count(sections)
+    most_pairs = n_uncertain * (n_uncertain - 1) // 2
     if not isinstance(pairs, list):
         c.add("correlation.pairs", pairs, 'a list like [["ucs", "friction_angle", 0.5]]')
+    elif len(pairs) > max(most_pairs, 1):
+        c.add("correlation.pairs", pairs,
+              f"at most {most_pairs:,} pair{'s' if most_pairs > 1 else ''}: each pair of the "
+              f"{n_uncertain} uncertain inputs at most once" if n_uncertain > 1 else
+              f"no pairs: the scenario has {n_uncertain} uncertain input"
+              f"{'' if n_uncertain == 1 else 's'}, and only uncertain inputs can be correlated",
+              found_text=f"{len(pairs):,} pairs")
     else:
         for i, pair in enumerate(pairs):
             if (not isinstance(pair, list) or len(pair) != 3 or not isinstance(pair[0], str)
@@ -470,7 +515,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
 
     # ---- cross checks on the physics (central values) -------------------------------------
     if not c.problems and depth is not None:
-        _physics_checks(c, inputs, stress_given, depth * conv["length"], stages, disp, units)
+        _physics_checks(c, inputs, stress_given, depth * conv["length"], stages, disp, units,
+                        tuple(ops))
+        _strength_checks(c, inputs, disp, units)
     if c.problems:
         raise ScenarioError(c.problems, source_name)
 
@@ -482,7 +529,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         hole_diameter=None if hole_d is None else hole_d * conv["small_length"],
     )
     scenario = Scenario(
-        title=title or Path(source_name).stem, units=units, well=well, inputs=inputs,
+        title=title or visible(Path(source_name).stem), units=units, well=well, inputs=inputs,
         stress_given=stress_given, reservoir_pressure=stages,
         max_drawdown=max_dd * conv["pressure"], accepted_risk=risk_,
         criterion=str(criterion), effective_strength_cavity=str(cavity),
@@ -490,6 +537,8 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         seed=int(seed) if seed is not None else 1, sampling=str(sampling),
         correlation=tuple(corr), operating_points=tuple(ops), source_name=source_name,
         sha256=sha256, raw=dict(doc),
+        warnings=_input_warnings(sections, inputs, stress_given, depth * conv["length"],
+                                 stages, max_dd * conv["pressure"], str(criterion), units),
     )
     _cavity_checks(scenario)
     if corr:
@@ -570,22 +619,30 @@ def mechanisms_of(scenario: Scenario) -> tuple[str, ...]:
     return tuple(out)
 
 
+def _central(name: str, inputs: Mapping[str, Marginal], given: Mapping[str, str],
+             depth: float, disp: Mapping[str, str], units: str
+             ) -> tuple[str, float, str] | None:
+    """(key, central stress at depth [MPa], the value as written with its unit) of one of
+    sv, shmax, shmin, pp: its median (its value when fixed), or None when it is not given."""
+    conv = TO_INTERNAL[units]
+    key = name if given.get(name) == "absolute" else f"{name}_gradient"
+    m = inputs.get(key)
+    if m is None:
+        return None
+    v = m.median if not m.is_fixed else m.value
+    dim = "pressure" if key == name else "gradient"
+    written = (f"{v / conv[dim]:.6g} {disp[dim]}" + ("" if m.is_fixed else " (median)"))
+    return key, (v if key == name else v * depth), written
+
+
 def _physics_checks(c: _Collector, inputs: Mapping[str, Marginal], given: Mapping[str, str],
                     depth: float, stages: tuple[float, ...], disp: Mapping[str, str],
-                    units: str) -> None:
+                    units: str, ops: tuple[tuple[float, float], ...] = ()) -> None:
     """Checks that need several inputs together, on their medians (fixed values)."""
     conv = TO_INTERNAL[units]
 
     def central(name: str) -> tuple[str, float, str] | None:
-        """(key, central stress at depth [MPa], the value as written with its unit)."""
-        key = name if given.get(name) == "absolute" else f"{name}_gradient"
-        m = inputs.get(key)
-        if m is None:
-            return None
-        v = m.median if not m.is_fixed else m.value
-        dim = "pressure" if key == name else "gradient"
-        written = (f"{v / conv[dim]:.6g} {disp[dim]}" + ("" if m.is_fixed else " (median)"))
-        return key, (v if key == name else v * depth), written
+        return _central(name, inputs, given, depth, disp, units)
 
     sv, pp = central("sv"), central("pp")
     sh, sH = central("shmin"), central("shmax")
@@ -616,6 +673,127 @@ def _physics_checks(c: _Collector, inputs: Mapping[str, Marginal], given: Mappin
                 c.add(f"production.reservoir_pressure[{i}]", show(st_),
                       f"a reservoir pressure below the overburden stress ({found(sv)})",
                       found_text=show(st_))
+        for i, (op_r, op_w) in enumerate(ops):
+            if op_r >= sv[1]:
+                c.add(f"production.operating_points[{i}]", show(op_r),
+                      "[reservoir pressure, flowing wall pressure] with the reservoir pressure "
+                      f"below the overburden stress ({found(sv)})",
+                      found_text=f"[{show(op_r)}, {show(op_w)}]")
+
+
+def _strength_checks(c: _Collector, inputs: Mapping[str, Marginal], disp: Mapping[str, str],
+                     units: str) -> None:
+    """Rock constants that must keep an order between them.
+
+    Rules (derived; a geomechanical reading of each is in the message):
+
+    - tensile strength <= UCS, on the central values (median, or the value when fixed): the
+      models evaluate any sample, so a wide overlap of the two ranges is accepted; a central
+      tensile strength above the UCS is a unit or typing error.
+    - dilation angle <= friction angle, on the central values always (associated flow, psi =
+      phi, is the upper limit of plastic dilatancy); with tunnel collapse on, also in every
+      sample, because the cavity model cannot evaluate a sample with psi > phi (the run would
+      stop). The Gaussian copula of the run puts positive probability on every region where
+      both ranges overlap whatever the correlation (|rho| < 1), so the rule is on the ranges:
+      the 1 - PAIR_TAIL/2 quantile of psi must not exceed the PAIR_TAIL/2 quantile of phi,
+      which bounds P(psi > phi) per sample by PAIR_TAIL (union bound). Bounded distributions
+      (uniform, triangular, pert, truncnormal with low/high) whose ranges do not overlap always
+      pass; a normal friction angle a dozen standard deviations above a fixed dilation angle
+      passes too. Nothing is clipped.
+    """
+    conv = TO_INTERNAL[units]
+    deg = disp["angle"]
+
+    def central(m: Marginal) -> float:
+        return m.value if m.is_fixed else m.median
+
+    def written(m: Marginal, dim: str) -> str:
+        v = f"{central(m) / conv[dim]:.6g} {disp[dim]}"
+        return v if m.is_fixed else f"{v} (median)"
+
+    ucs, t0 = inputs.get("ucs"), inputs.get("tensile_strength")
+    if ucs is not None and t0 is not None and central(t0) > central(ucs):
+        c.add("rock.tensile_strength", written(t0, "pressure"),
+              f"a tensile strength at most the UCS ({written(ucs, 'pressure')}); one above it "
+              "is usually a unit or typing error",
+              found_text=written(t0, "pressure"))
+    psi, phi = inputs.get("dilation_angle"), inputs.get("friction_angle")
+    if psi is None or phi is None:
+        return
+    if central(psi) > central(phi):
+        c.add("rock.dilation_angle", written(psi, "angle"),
+              f"a dilation angle at most the friction angle ({written(phi, 'angle')}); "
+              "associated flow (dilation = friction) is the upper limit",
+              found_text=written(psi, "angle"))
+    elif "critical_plastic_strain" in inputs:
+        top = psi.value if psi.is_fixed else psi.quantile(1.0 - 0.5 * PAIR_TAIL)
+        bottom = phi.value if phi.is_fixed else phi.quantile(0.5 * PAIR_TAIL)
+        if top > bottom:
+            where = f"its {0.5 * PAIR_TAIL:g} quantile"
+            c.add("rock.dilation_angle", psi.describe(conv["angle"], deg),
+                  "a dilation angle at most the friction angle in every sample, as tunnel "
+                  "collapse needs: ranges that do not overlap (e.g. a truncnormal, uniform or "
+                  "pert friction angle whose low end is above the largest dilation angle)",
+                  found_text=f"dilation angle up to {top / conv['angle']:.4g} {deg}"
+                  + ("" if psi.is_fixed else f" (its 1 - {0.5 * PAIR_TAIL:g} quantile)")
+                  + f" and friction angle down to {bottom / conv['angle']:.4g} {deg}"
+                  + ("" if phi.is_fixed else f" ({where})"))
+
+
+def _uncertain_count(sections: Mapping[str, Mapping[str, Any]]) -> int:
+    """How many inputs the file gives as a distribution other than fixed (before parsing)."""
+    n = 0
+    for spec in INPUTS:
+        raw = sections.get(spec.section, {}).get(spec.name)
+        if isinstance(raw, Mapping) and raw.get("dist") != "fixed":
+            n += 1
+    return n
+
+
+def _input_warnings(sections: Mapping[str, Mapping[str, Any]], inputs: Mapping[str, Marginal],
+                    given: Mapping[str, str], depth: float, stages: tuple[float, ...],
+                    max_drawdown: float, criterion: str, units: str) -> tuple[str, ...]:
+    """Inputs that are accepted but look unintended: one text each, starting with the key."""
+    disp, conv = DISPLAY_UNITS[units], TO_INTERNAL[units]
+    out: list[str] = []
+
+    def show(v: float) -> str:
+        return f"{v / conv['pressure']:.6g} {disp['pressure']}"
+
+    if criterion != "hoek-brown":
+        for name in ("hb_mi", "gsi"):
+            if name in inputs:
+                out.append(f"rock.{name}: given, but criterion = {criterion!r} does not use it "
+                           "(only \"hoek-brown\" does); it is ignored")
+    if "critical_plastic_strain" not in inputs:
+        for name in ("young_modulus", "dilation_angle", "drainage_radius"):
+            if name in inputs:
+                out.append(f"{_SPEC[name].section}.{name}: given, but only tunnel collapse uses "
+                           "it and tunnel collapse is off (no rock.critical_plastic_strain); it "
+                           "is ignored")
+    if ("effective_strength_cavity" in sections.get("analysis", {})
+            and "twc" not in inputs and "twc_ratio" not in inputs):
+        out.append("analysis.effective_strength_cavity: given, but only the effective-strength "
+                   "onset uses it and that mechanism is off (no rock.twc or rock.twc_ratio); "
+                   "it is ignored")
+    pp = _central("pp", inputs, given, depth, disp, units)
+    if pp is not None:
+        for i, p_r in enumerate(stages):
+            if p_r > pp[1] * (1 + 1e-12):
+                out.append(f"production.reservoir_pressure[{i}]: {show(p_r)} is above the "
+                           f"initial pore pressure ({show(pp[1])}); the stage is computed as a "
+                           "pressure rise (the depletion path followed backwards)")
+    seen: dict[float, int] = {}
+    for i, p_r in enumerate(stages):
+        if p_r in seen:
+            out.append(f"production.reservoir_pressure[{i}]: {show(p_r)} repeats stage "
+                       f"[{seen[p_r]}]; it is computed and reported twice")
+        seen.setdefault(p_r, i)
+    if stages and max_drawdown > max(stages):
+        out.append(f"production.max_drawdown: {show(max_drawdown)} is above the reservoir "
+                   f"pressure of every stage (largest {show(max(stages))}); a drawdown cannot "
+                   "exceed the reservoir pressure, so the failure curves are flat beyond it")
+    return tuple(out)
 
 
 def load_scenario(path: str | Path) -> Scenario:
@@ -636,10 +814,18 @@ def load_scenario(path: str | Path) -> Scenario:
         raise ScenarioError.single("scenario", name, "a scenario file, not a folder",
                                    found_text=f"the folder {name!r}")
     try:
-        data = p.read_bytes()
+        with p.open("rb") as f:  # at most one byte more than allowed, whatever the file is
+            data = f.read(MAX_FILE_BYTES + 1)
     except OSError as exc:
         raise ScenarioError.single("scenario", name, "a readable file",
                                    found_text=f"{name!r} ({exc.strerror})") from None
+    if len(data) > MAX_FILE_BYTES:
+        size = p.stat().st_size if p.is_file() else 0
+        raise ScenarioError.single(
+            "scenario", name, f"a scenario file of at most {MAX_FILE_BYTES:,} bytes (1 MiB; a "
+            "scenario is a few kB)", found_text=f"{name!r}, a file of "
+            + (f"{size:,} bytes" if size > MAX_FILE_BYTES else
+               f"more than {MAX_FILE_BYTES:,} bytes"))
     if not data.strip():
         raise ScenarioError.single("scenario", name, "a TOML scenario (see `risk new`)",
                                    found_text="an empty file")

@@ -57,10 +57,11 @@ from numpy.typing import ArrayLike, NDArray
 from scipy import stats
 from scipy.stats import qmc
 
-from risk.errors import Problem, ScenarioError
+from risk.errors import CONTROL_CHARACTERS, Problem, ScenarioError, toml_key
 
 __all__ = [
     "KINDS",
+    "MAX_SOURCE_CHARS",
     "OUTSIDE_TOLERANCE",
     "PERT_LAMBDA",
     "RULES",
@@ -77,6 +78,7 @@ __all__ = [
     "normals_to_inputs",
     "parse_input",
     "rank_to_normal_corr",
+    "text_problem",
     "to_inputs",
 ]
 
@@ -114,6 +116,37 @@ _DIMENSIONLESS: Final = frozenset({"cov"})
 RULES: Final = ("sobol", "lhs", "random")
 
 _SCENARIO_EXTRA_KEYS: Final = ("dist", "source")
+
+#: Longest ``source`` text of an input [characters]: a reference, not a report.
+MAX_SOURCE_CHARS: Final = 500
+
+
+def text_problem(key: str, value: object, *, max_chars: int, what: str) -> Problem | None:
+    """The problem of a one-line free text of the scenario (a title, a source), or None.
+
+    A text must be a string of at most ``max_chars`` characters without control characters
+    (:data:`risk.errors.CONTROL_CHARACTERS`: no tab, no line break, no terminal escape, no
+    bidirectional override). ``what`` names the text in the message ("a title").
+    """
+    expected = (f"{what}: a text on one line, at most {max_chars:,} characters, without "
+                "control characters")
+    if not isinstance(value, str):
+        return Problem(key, value, expected)
+    if len(value) > max_chars:
+        return Problem(key, value, expected,
+                       found_text=f"a text of {len(value):,} characters ({_show_start(value)})")
+    bad = CONTROL_CHARACTERS.search(value)
+    if bad:
+        return Problem(key, value, expected,
+                       found_text=f"{_show_start(value)}, with the control character "
+                       f"{bad.group()!r} at position {bad.start() + 1}")
+    return None
+
+
+def _show_start(text: str) -> str:
+    """The start of a text as a Python literal (control characters escaped), at most ~60 chars."""
+    shown = repr(text[:60])
+    return shown + "..." if len(text) > 60 else shown
 
 
 def _fmt(value: float) -> str:
@@ -597,8 +630,11 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
         raise ScenarioError.single(f"{key}.dist", dist, f"one of {', '.join(KINDS)}{hint}")
 
     source = table.get("source")
-    if source is not None and not isinstance(source, str):
-        problems.append(Problem(f"{key}.source", source, "a text"))
+    if source is not None:
+        bad_source = text_problem(f"{key}.source", source, max_chars=MAX_SOURCE_CHARS,
+                                  what="where the value comes from")
+        if bad_source:
+            problems.append(bad_source)
 
     allowed = _PARAMS[dist]
     given: dict[str, float] = {}
@@ -607,7 +643,7 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
             continue
         if name not in allowed:
             hint = _did_you_mean(str(name), allowed)
-            problems.append(Problem(f"{key}.{name}", value,
+            problems.append(Problem(f"{key}.{toml_key(name)}", value,
                                     f"only parameters {', '.join(allowed)} for {dist}{hint}",
                                     found_text=f"unknown parameter {name!r} = {value!r}"))
         elif not _is_number(value):

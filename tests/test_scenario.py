@@ -122,3 +122,95 @@ def test_openhole_needs_no_shots(write, field_doc):
     assert "well.tunnel_diameter" in str(_problems(write(doc)))
     doc = doc.replace("tunnel_diameter = 0.5\n", "hole_diameter = 8.5\n")
     assert load_scenario(write(doc)).well.shot_angles == ()
+
+
+# --------------------------------------------------------------------------------------------
+# Cross checks of rock constants and operating points (issue 11, part 5)
+# --------------------------------------------------------------------------------------------
+
+_COLLAPSE = ("biot = 0.9\nyoung_modulus = 1.0e6\ncritical_plastic_strain = 0.02\n",
+             "accepted_risk = 0.10\ndrainage_radius = 1.0\n")
+
+
+def _rock(field_doc: str, *, friction: str = "30", dilation: str | None = None,
+          collapse: bool = True, extra: str = "") -> str:
+    doc = field_doc.replace("friction_angle = 30", f"friction_angle = {friction}")
+    rock = "biot = 0.9\n" + (f"dilation_angle = {dilation}\n" if dilation else "") + extra
+    if collapse:
+        rock += _COLLAPSE[0].removeprefix("biot = 0.9\n")
+        doc = doc.replace("accepted_risk = 0.10\n", _COLLAPSE[1])
+    return doc.replace("biot = 0.9\n", rock)
+
+
+def _keys(write, text: str) -> list[str]:
+    try:
+        load_scenario(write(text))
+    except ScenarioError as err:
+        return [p.key for p in err.problems]
+    return []
+
+
+def test_dilation_rule_on_a_normal_friction_angle(write, field_doc):
+    # the dilation angle may reach the friction angle's 5e-14 quantile and no further
+    # (PAIR_TAIL = 1e-13 split between the two tails); reference: scipy's normal quantile
+    from scipy.stats import norm
+
+    edge = 30 + 2 * norm.ppf(5e-14)  # about 15.1 deg
+    friction = '{ dist = "normal", mean = 30, sd = 2 }'
+    assert _keys(write, _rock(field_doc, friction=friction, dilation=f"{edge - 0.01}")) == []
+    assert _keys(write, _rock(field_doc, friction=friction, dilation=f"{edge + 0.01}")) == [
+        "rock.dilation_angle"]
+    # without tunnel collapse the angle is unused: the central values alone are checked
+    sc = load_scenario(write(_rock(field_doc, friction=friction, dilation=f"{edge + 0.01}",
+                                   collapse=False)))
+    assert sc.warnings and sc.warnings[0].startswith("rock.dilation_angle: given, but")
+
+
+@pytest.mark.parametrize("friction,dilation,keys", [
+    ("30", "30", []),  # associated flow: dilation = friction is allowed (derived)
+    ("30", "30.001", ["rock.dilation_angle"]),
+    # ranges that touch at 20 deg never give dilation > friction (derived)
+    ('{ dist = "uniform", low = 20, high = 40 }', '{ dist = "uniform", low = 0, high = 20 }',
+     []),
+    ('{ dist = "uniform", low = 20, high = 40 }', '{ dist = "uniform", low = 0, high = 21 }',
+     ["rock.dilation_angle"]),
+    ('{ dist = "truncnormal", mean = 30, sd = 3, low = 22, high = 40 }',
+     '{ dist = "pert", low = 0, mode = 5, high = 22 }', []),
+])
+def test_dilation_rule_on_ranges(write, field_doc, friction, dilation, keys):
+    assert _keys(write, _rock(field_doc, friction=friction, dilation=dilation)) == keys
+
+
+def test_dilation_median_above_friction_refused_without_tunnel_collapse(write, field_doc):
+    assert _keys(write, _rock(field_doc, dilation="31", collapse=False)) == [
+        "rock.dilation_angle"]
+
+
+def test_tensile_strength_rule_is_on_central_values(write, field_doc):
+    # UCS 9000 psi: equal passes, above is refused; a tensile range reaching above the UCS
+    # passes when its median is below (the models evaluate any such sample)
+    base = field_doc.replace("tensile_strength = 800", "tensile_strength = {}")
+    assert _keys(write, base.format("9000")) == []
+    assert _keys(write, base.format("9001")) == ["rock.tensile_strength"]
+    assert _keys(write, base.format('{ dist = "uniform", low = 100, high = 9500 }')) == []
+    assert _keys(write, base.format('{ dist = "uniform", low = 8000, high = 12000 }')) == [
+        "rock.tensile_strength"]
+
+
+def test_critical_plastic_strain_at_most_one(write, field_doc):
+    base = _rock(field_doc).replace("critical_plastic_strain = 0.02",
+                                    "critical_plastic_strain = {}")
+    assert _keys(write, base.format("1")) == []
+    assert _keys(write, base.format("1.01")) == ["rock.critical_plastic_strain"]
+    assert _keys(write, base.format('{ dist = "uniform", low = 0.5, high = 1.5 }')) == [
+        "rock.critical_plastic_strain"]
+
+
+def test_operating_point_below_overburden(write, field_doc):
+    # derived: sv = 1.0 psi/ft x 9200 ft = 9200 psi; like the stages, equal is refused
+    def ops(p_r: int) -> str:
+        return field_doc.replace("accepted_risk = 0.10",
+                                 f"accepted_risk = 0.10\noperating_points = [[{p_r}, 3000]]")
+
+    assert _keys(write, ops(9199)) == []
+    assert _keys(write, ops(9200)) == ["production.operating_points[0]"]
