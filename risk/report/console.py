@@ -1,4 +1,9 @@
-"""Terminal output of the CLI (rich tables). Reads a scenario or a summary; writes no files."""
+"""Terminal output of the CLI (rich tables). Reads a scenario or a summary; writes no files.
+
+Every text that comes from the user (title, sources, file and folder names, input names and
+texts read back from a results file, warnings) goes through :func:`risk.report.text.safe`:
+printed as it is, with control characters visible and no markup interpreted.
+"""
 
 from __future__ import annotations
 
@@ -8,8 +13,10 @@ from typing import Any
 
 from rich.console import Console
 from rich.table import Table
+from rich.text import Text
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
+from risk.report.text import safe
 from risk.scenario import _SPEC, Scenario
 
 __all__ = ["print_scenario", "print_summary"]
@@ -26,7 +33,8 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
     con = console or Console()
     disp = DISPLAY_UNITS[sc.units]
     w = sc.well
-    con.print(f"[bold]{sc.title}[/]  ({sc.source_name}, units = {sc.units!r})")
+    con.print(Text.assemble(safe(sc.title, "bold"), "  (", safe(sc.source_name),
+                            f", units = {sc.units!r})"))
     t = Table("well", "value", title=None, show_edge=False)
     t.add_row("true vertical depth", f"{w.depth / TO_INTERNAL[sc.units]['length']:,.6g} "
               f"{disp['length']}")
@@ -45,8 +53,8 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
         spec = _SPEC[name]
         scale = TO_INTERNAL[sc.units][spec.dimension]
         unit = disp[spec.dimension]
-        t.add_row(f"{spec.section}.{name}", m.describe(scale, unit), spec.description,
-                  m.source or "")
+        t.add_row(safe(f"{spec.section}.{name}"), safe(m.describe(scale, unit)),
+                  safe(spec.description), safe(m.source or ""))
     con.print(t)
     p = disp["pressure"]
     stages = ", ".join(f"{sc.to_display(s, 'pressure'):,.6g}" for s in sc.reservoir_pressure)
@@ -54,14 +62,23 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
               f"{sc.to_display(sc.max_drawdown, 'pressure'):,.6g} {p}; accepted risk "
               f"{sc.accepted_risk:g}")
     con.print(f"criterion {sc.criterion}; {sc.samples:,} samples ({sc.sampling}), seed {sc.seed}")
+    _print_warnings(con, sc.warnings)
     con.print("[green]scenario is valid[/]")
+
+
+def _print_warnings(con: Console, warnings: Any) -> None:
+    """One ``warning: ...`` line per input warning (texts as they are, escaped)."""
+    for w in warnings or ():
+        con.print(Text.assemble(("warning", "yellow"), ": ", safe(w)))
 
 
 def _print_pore_collapse(con: Console, mech: dict[str, Any], u: str) -> None:
     far, wall = mech["critical_reservoir_pressure"], mech["wall_critical_reservoir_pressure"]
-    con.print(f"[bold]{mech['name']}[/] (pore_collapse): critical reservoir pressure far field "
-              f"p10/p50/p90 {_fmt(far['p10'])} / {_fmt(far['p50'])} / {_fmt(far['p90'])} {u}; "
-              f"at the wall {_fmt(wall['p10'])} / {_fmt(wall['p50'])} / {_fmt(wall['p90'])} {u}")
+    con.print(Text.assemble(
+        safe(mech["name"], "bold"),
+        safe(f" (pore_collapse): critical reservoir pressure far field p10/p50/p90 "
+             f"{_fmt(far['p10'])} / {_fmt(far['p50'])} / {_fmt(far['p90'])} {u}; at the wall "
+             f"{_fmt(wall['p10'])} / {_fmt(wall['p50'])} / {_fmt(wall['p90'])} {u}")))
     t = Table(show_edge=False)
     for col in (f"p_r [{u}]", "P(collapse) far field", "95% band", "P(collapse) at the wall"):
         t.add_column(col, justify="right")
@@ -76,15 +93,17 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
     """A compact table per mechanism: limits and critical values per depletion stage."""
     con = console or Console()
     u = summary["units"]["pressure"]
-    con.print(f"[bold]{summary['title']}[/] - {summary['samples']:,} samples "
-              f"({summary['sampling']}), seed {summary['seed']}, criterion "
-              f"{summary['criterion']}")
+    con.print(Text.assemble(
+        safe(summary["title"], "bold"),
+        safe(f" - {summary['samples']:,} samples ({summary['sampling']}), seed "
+             f"{summary['seed']}, criterion {summary['criterion']}")))
+    _print_warnings(con, summary.get("warnings"))
     for key, mech in summary["mechanisms"].items():
         if key == "pore_collapse":
             _print_pore_collapse(con, mech, u)
             continue
         perforated = "shots" in mech["stages"][0]
-        t = Table(title=f"{mech['name']} ({key}) - pressures in {u}", show_edge=False,
+        t = Table(title=safe(f"{mech['name']} ({key}) - pressures in {u}"), show_edge=False,
                   title_justify="left")
         for col in ("p_r", f"limit@{summary['accepted_risk']:g}", "low95", "Dc P10",
                     "Dc P50", "Dc P90", "never", "best/worst" if perforated else "wall"):
@@ -105,16 +124,18 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
         con.print(t)
         for s in mech["stages"]:
             if s.get("convergence_warning"):
-                con.print(f"[yellow]warning[/] (p_r {_fmt(s['reservoir_pressure'])} {u}): "
-                          f"{s['convergence_warning']}")
+                con.print(Text.assemble(
+                    ("warning", "yellow"),
+                    safe(f" (p_r {_fmt(s['reservoir_pressure'])} {u}): "
+                         f"{s['convergence_warning']}")))
     for key, rows in summary.get("sensitivity", {}).items():
         ranked = [r for r in rows if r.get("rank_value") is not None]
         if not ranked:
-            con.print(f"sensitivity ({key}): no spread in the output (almost every sample has "
-                      "the same outcome)")
+            con.print(safe(f"sensitivity ({key}): no spread in the output (almost every sample "
+                           "has the same outcome)"))
             continue
         name = summary["mechanisms"].get(key, {}).get("name", key)
-        t = Table(title=f"What drives it: {name}, first stage", show_edge=False,
+        t = Table(title=safe(f"What drives it: {name}, first stage"), show_edge=False,
                   title_justify="left")
         for col in ("input", "total", "first", "Shapley"):
             t.add_column(col, justify="right" if col != "input" else "left")
@@ -123,8 +144,8 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
             return "-" if v is None else f"{v:.2f}"
 
         for r in ranked[:8]:
-            t.add_row(r["input"], num(r["total"]), num(r["first"]), num(r["shapley"]))
+            t.add_row(safe(r["input"]), num(r["total"]), num(r["first"]), num(r["shapley"]))
         con.print(t)
-    con.print(f"results: {out_dir / 'results.json'}")
+    con.print(Text.assemble("results: ", safe(out_dir / "results.json")))
     if (out_dir / "memo.html").exists():
-        con.print(f"memo: {out_dir / 'memo.html'} (and memo.pdf)")
+        con.print(Text.assemble("memo: ", safe(out_dir / "memo.html"), " (and memo.pdf)"))
