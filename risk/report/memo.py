@@ -9,7 +9,9 @@ URIs and its CSS inline: it loads nothing from anywhere. Nothing here reads or w
 the results carry a ``run_date``, so the same results give the same memo.
 
 Templates are Jinja2 with autoescaping on; every text that reaches them from the results
-(titles, sources, warnings) is escaped.
+(titles, sources, warnings) is escaped, and control characters in it (a results file written by
+hand, a scenario file name) are printed as visible escapes such as ``\\x1b``
+(:func:`risk.errors.visible`; tab and line breaks stay, they are only white space in HTML).
 """
 
 from __future__ import annotations
@@ -27,6 +29,7 @@ import numpy as np
 from jinja2 import Environment, FileSystemLoader, StrictUndefined
 from markupsafe import Markup, escape
 
+from risk.errors import visible
 from risk.report.figures import DPI, format_value, input_label, output_name, render_all
 
 __all__ = ["Memo", "build_memo", "memo_context", "render_html", "render_pdf", "SECTIONS"]
@@ -741,6 +744,7 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
                             .get("profile")),
         "sensitivity": _sensitivity(results),
         "assumptions": assumptions,
+        "input_warnings": [str(w) for w in results.get("warnings") or ()],
         "cautions": CAUTIONS,
         "reproducibility": _reproducibility(results),
         "figures": numbered,
@@ -751,9 +755,19 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
     }
 
 
+def _shown(value: Any) -> Any:
+    """Every expression a template prints: texts with their control characters made visible
+    (markup built here keeps its type; the replacement holds no HTML special character)."""
+    if isinstance(value, str):
+        text = visible(value, keep="\t\n\r")
+        return Markup(text) if isinstance(value, Markup) else text
+    return value
+
+
 def _environment() -> Environment:
     return Environment(loader=FileSystemLoader(str(TEMPLATES)), autoescape=True,
-                       undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True)
+                       undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+                       finalize=_shown)
 
 
 def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> str:

@@ -360,7 +360,11 @@ def _rank_correlation(a: Assessment) -> dict[str, Any] | None:
 
 
 def summarize(a: Assessment) -> dict[str, Any]:
-    """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``)."""
+    """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``).
+
+    ``warnings`` repeats the scenario's input warnings (:attr:`risk.scenario.Scenario.warnings`,
+    an empty list when there are none), in the loader's fixed order.
+    """
     sc = a.scenario
     units = {"pressure": sc.display_unit("pressure"), "angle": "deg",
              "length": sc.display_unit("length"), "probability": "-", "strain": "-",
@@ -382,6 +386,7 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "title": sc.title,
         "scenario_file": sc.source_name,
         "scenario_sha256": sc.sha256,
+        "warnings": list(sc.warnings),
         "units": units,
         "unit_system": sc.units,
         "samples": a.samples,

@@ -126,6 +126,45 @@ def test_text_from_results_is_escaped(perforated, perforated_memo):
         assert escaped in html
 
 
+# the C0 and C1 controls, DEL and the bidirectional overrides (U+202A-U+202E), as bytes a
+# terminal or a page would act on (derived from the Unicode tables); tab, CR and LF are only
+# white space in HTML
+_CONTROL = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e"
+                      "\u2066-\u2069]")
+
+
+def test_control_characters_from_results_are_shown_visibly(perforated):
+    # a results file written by hand, or a scenario file name holding an ESC byte
+    hostile = copy.deepcopy(perforated)
+    hostile["title"] = "Well \x1b[2J A"
+    hostile["scenario_file"] = "/tmp/x\x1b]0;title\x07.toml"
+    hostile["inputs"][0]["source"] = "core \x9b31m plugs \u202eksir on"
+    hostile["warnings"] = ["rock.gsi: given \x1b[5m"]
+    html = memo.render_html(hostile, {})
+    assert not _CONTROL.findall(html)
+    for shown in ("Well \\x1b[2J A", "x\\x1b]0;title\\x07.toml", "core \\x9b31m plugs",
+                  "\\u202eksir on", "rock.gsi: given \\x1b[5m"):
+        assert shown in html, shown
+
+
+def test_input_warnings_listed_under_assumptions(perforated):
+    assert perforated["warnings"] == []  # control: the fixture's scenario has none
+    assert "Input warnings" not in memo.render_html(perforated, {})
+    warned = copy.deepcopy(perforated)
+    warned["warnings"] = ["rock.hb_mi: given, but unused <b>", "production.max_drawdown: high"]
+    html = memo.render_html(warned, {})
+    section = html[html.index('<section id="assumptions">'):html.index('<section id="cautions">')]
+    assert "Input warnings" in section
+    assert "<li>rock.hb_mi: given, but unused &lt;b&gt;</li>" in section
+    assert "<li>production.max_drawdown: high</li>" in section
+
+
+def test_results_without_warnings_key_still_render(legacy):
+    older = {k: v for k, v in legacy.items() if k != "warnings"}  # runs before the key existed
+    html = memo.render_html(older, {})
+    assert '<section id="assumptions">' in html and "Input warnings" not in html
+
+
 def test_convergence_warnings_shown_prominently(perforated, perforated_memo):
     n_warn = sum(1 for m in perforated["mechanisms"].values() for s in m.get("stages") or []
                  if s.get("convergence_warning"))
