@@ -61,6 +61,7 @@ __all__ = [
     "MAX_STAGES",
     "MAX_OPERATING_POINTS",
     "PAIR_TAIL",
+    "STAGE_ABOVE_PP",
     "SAMPLING_RULES",
 ]
 
@@ -77,6 +78,8 @@ MAX_OPERATING_POINTS: Final = 1_000
 #: between them (dilation angle <= friction angle): with MAX_SAMPLES samples the chance that
 #: any sample breaks it is then at most 1e7 x 1e-13 = 1e-6 (derived, union bound).
 PAIR_TAIL: Final = 1e-13
+#: A stage more than this fraction above the initial pore pressure gets a warning [-].
+STAGE_ABOVE_PP: Final = 0.01
 SAMPLING_RULES: Final = ("sobol", "lhs", "random")
 COMPLETIONS: Final = ("perforated", "openhole")
 STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
@@ -779,10 +782,13 @@ def _input_warnings(sections: Mapping[str, Mapping[str, Any]], inputs: Mapping[s
     pp = _central("pp", inputs, given, depth, disp, units)
     if pp is not None:
         for i, p_r in enumerate(stages):
-            if p_r > pp[1] * (1 + 1e-12):
-                out.append(f"production.reservoir_pressure[{i}]: {show(p_r)} is above the "
-                           f"initial pore pressure ({show(pp[1])}); the stage is computed as a "
-                           "pressure rise (the depletion path followed backwards)")
+            # 1% leaves room for a first stage written as the rounded initial pore pressure
+            # (3 significant digits round by up to 0.5%)
+            if p_r > pp[1] * (1 + STAGE_ABOVE_PP):
+                out.append(f"production.reservoir_pressure[{i}]: {show(p_r)} is more than "
+                           f"{STAGE_ABOVE_PP:.0%} above the initial pore pressure "
+                           f"({show(pp[1])}); the stage is computed as a pressure rise (the "
+                           "depletion path followed backwards)")
     seen: dict[float, int] = {}
     for i, p_r in enumerate(stages):
         if p_r in seen:

@@ -59,9 +59,11 @@ CASES = [
      "no rock.twc or rock.twc_ratio"),
     ({"analysis__effective_strength_cavity": "tunnel"}, "analysis.effective_strength_cavity",
      "it is ignored"),
-    # derived: pp = 0.45 psi/ft x 9200 ft = 4140 psi
+    # derived: pp = 0.45 psi/ft x 9200 ft = 4140 psi, and 1% above it is 4181.4 psi
     ({"production__reservoir_pressure": [4500, 3800, 3400]}, "production.reservoir_pressure[0]",
-     "4500 psi is above the initial pore pressure (4140 psi)"),
+     "4500 psi is more than 1% above the initial pore pressure (4140 psi)"),
+    ({"production__reservoir_pressure": [4182, 3800, 3400]}, "production.reservoir_pressure[0]",
+     "4182 psi is more than 1% above"),
     ({"production__reservoir_pressure": [4140, 3800, 3800]}, "production.reservoir_pressure[2]",
      "3800 psi repeats stage [1]"),
     ({"production__max_drawdown": 5000}, "production.max_drawdown",
@@ -84,8 +86,10 @@ def test_each_warning(changes, key, says):
     {"rock__dilation_angle": 5, **COLLAPSE},
     {"rock__twc": 4000, "analysis__effective_strength_cavity": "tip"},
     {"rock__twc_ratio": 1.5, "analysis__effective_strength_cavity": "tip"},
-    # the boundaries: a stage at the initial pore pressure, a drawdown equal to it (derived)
+    # the boundaries (derived): a stage at the initial pore pressure, a drawdown equal to it;
+    # a stage 1% above it (4181.4 psi, a rounded initial pressure) is not warned about
     {"production__reservoir_pressure": [4140], "production__max_drawdown": 4140},
+    {"production__reservoir_pressure": [4181, 3800]},
 ])
 def test_no_warning_where_the_input_is_used(changes):
     assert _warnings(**changes) == ()
