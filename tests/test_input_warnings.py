@@ -11,6 +11,7 @@ from __future__ import annotations
 import io
 import json
 import tomllib
+from pathlib import Path
 from typing import Any
 
 import pytest
@@ -19,7 +20,8 @@ from typer.testing import CliRunner
 
 from risk.cli import app
 from risk.report.console import print_scenario
-from risk.scenario import parse_scenario
+from risk.scenario import load_scenario, parse_scenario
+from risk.template import scenario_template
 from tests.conftest import FIELD_DOC
 
 RUNNER = CliRunner()
@@ -151,3 +153,17 @@ def test_results_carry_an_empty_warning_list(tmp_path):
     assert r.exit_code == 0, r.output
     assert json.loads((out / "results.json").read_text())["warnings"] == []
     assert "Input warnings" not in (out / "memo.html").read_text(encoding="utf-8")
+
+
+EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.toml"))
+
+
+@pytest.mark.parametrize("path", EXAMPLES, ids=[p.name for p in EXAMPLES])
+def test_shipped_examples_have_no_warning(path):
+    # the examples and templates are what engineers copy: they must not teach ignored inputs
+    assert load_scenario(path).warnings == ()
+
+
+@pytest.mark.parametrize("units", ["field", "si"])
+def test_templates_have_no_warning(units):
+    assert parse_scenario(tomllib.loads(scenario_template(units))).warnings == ()
