@@ -15,9 +15,29 @@ import typer
 
 app = typer.Typer(
     add_completion=False, no_args_is_help=True, pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # plain help like any Unix tool: no type tags on flags
+    context_settings={"help_option_names": ["-h", "--help"]},
     help="Sand-production and perforation-tunnel failure risk: drawdown limits over depletion "
          "from uncertain rock strength, stresses and pressures.",
 )
+
+
+def _show_version(value: bool) -> None:
+    if value:
+        from risk import __version__
+
+        typer.echo(f"risk {__version__}")
+        raise typer.Exit()
+
+
+@app.callback()
+def _main(
+    version: Annotated[bool, typer.Option(
+        "--version", help="Print the version and exit.", is_eager=True, metavar="",
+        callback=_show_version)] = False,
+) -> None:
+    """Sand-production and perforation-tunnel failure risk: drawdown limits over depletion
+    from uncertain rock strength, stresses and pressures."""
 
 EXIT_BAD_INPUT = 2
 EXIT_INTERNAL = 1
@@ -83,10 +103,13 @@ def _escape(text: str) -> str:
 
 @app.command()
 def new(
-    file: Annotated[Path, typer.Argument(help="Scenario file to create (TOML).")],
-    units: Annotated[str, typer.Option(help='"field" (psi, ft) or "si" (MPa, m).')] = "field",
+    file: Annotated[Path, typer.Argument(help="Scenario file to create (TOML).",
+                                         metavar="FILE")],
+    units: Annotated[str, typer.Option(help='"field" (psi, ft) or "si" (MPa, m).',
+                                       metavar="UNITS")] = "field",
     force: Annotated[bool, typer.Option(
-        "--force", help="Overwrite a template risk wrote that was not edited since.")] = False,
+        "--force", help="Overwrite a template risk wrote that was not edited since.",
+        metavar="")] = False,
 ) -> None:
     """Write a commented scenario template to edit."""
     from risk.api import new_scenario
@@ -96,7 +119,8 @@ def new(
 
 
 @app.command()
-def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -> None:
+def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).", metavar="FILE")]
+          ) -> None:
     """Validate a scenario and print its inputs in its own units."""
     from risk.scenario import load_scenario
 
@@ -108,21 +132,24 @@ def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")]) -
 
 @app.command()
 def run(
-    file: Annotated[Path, typer.Argument(help="Scenario file (TOML).")],
+    file: Annotated[Path, typer.Argument(help="Scenario file (TOML).", metavar="FILE")],
     out: Annotated[Path, typer.Option(
         "--out", "-o", help="Output folder: new, empty, or written by risk before (only its "
-        "own files are replaced; other files are never touched).")] = Path("reports/run"),
+        "own files are replaced; other files are never touched).", metavar="DIR"
+    )] = Path("reports/run"),
     samples: Annotated[str | None, typer.Option(
-        help="Override [analysis] samples (a whole number).")] = None,
+        help="Override analysis.samples (a whole number).", metavar="N")] = None,
     seed: Annotated[str | None, typer.Option(
-        help="Override [analysis] seed (a whole number).")] = None,
-    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.")] = False,
-    as_json: Annotated[bool, typer.Option("--json", help="Print results.json.")] = False,
+        help="Override analysis.seed (a whole number).", metavar="N")] = None,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.", metavar="")
+                     ] = False,
+    as_json: Annotated[bool, typer.Option("--json", help="Print results.json.", metavar="")
+                       ] = False,
     force: Annotated[bool, typer.Option(
         "--force", help="Replace outputs of an earlier run even if they were edited since "
-        "(files risk did not write are never replaced).")] = False,
+        "(files risk did not write are never replaced).", metavar="")] = False,
 ) -> None:
-    """Run every analysis of a scenario and write results.json into the output folder."""
+    """Run a scenario: results.json, figures and the memo in the output folder."""
     from risk.api import run_scenario
     from risk.kernel_cache import first_use_note
 
@@ -156,11 +183,13 @@ def _warn_kept(out_dir: Path, kept: tuple[str, ...]) -> None:
 
 @app.command()
 def memo(
-    out: Annotated[Path, typer.Argument(help="Output folder of a finished `risk run`.")],
+    out: Annotated[Path, typer.Argument(help="Output folder of a finished `risk run`.",
+                                        metavar="DIR")],
     force: Annotated[bool, typer.Option(
-        "--force", help="Replace memo files even if they were edited since.")] = False,
+        "--force", help="Replace memo files even if they were edited since.", metavar="")
+    ] = False,
 ) -> None:
-    """Re-render memo.html, memo.pdf and the figures from a run's results.json."""
+    """Re-draw the memo and figures of a run from its results.json."""
     from risk.api import render_memo
 
     path = _guard(render_memo, out, force=force)

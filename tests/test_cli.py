@@ -149,3 +149,17 @@ def test_progress_display_path_gives_the_same_results(tmp_path):
     assert (tmp_path / "a" / "results.json").read_bytes() == (
         tmp_path / "b" / "results.json").read_bytes()
     assert a.summary["samples"] == b.summary["samples"] == 64
+
+
+def test_version_and_short_help():
+    from risk import __version__
+
+    r = RUNNER.invoke(app, ["--version"])
+    assert r.exit_code == 0 and r.output.strip() == f"risk {__version__}"
+    for args in (["-h"], ["run", "-h"], ["memo", "-h"], ["new", "-h"], ["check", "-h"]):
+        r = RUNNER.invoke(app, args)
+        assert r.exit_code == 0 and "Usage:" in r.output
+        # flags carry no type tag, numbers are not shown as text, markup is not eaten
+        assert "<bool>" not in r.output and "<str>" not in r.output
+    r = RUNNER.invoke(app, ["run", "-h"])
+    assert "--samples N" in r.output and "analysis.samples" in r.output

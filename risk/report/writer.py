@@ -392,28 +392,41 @@ class OutputFolder:
         if state.is_symlink():
             raise _refuse(self.where, "an output folder whose .risk is risk's own folder",
                           f"{_show(state)}, a symbolic link")
-        if not state.exists():
+        try:
             state.mkdir()
             self._created.append(state)
-        try:
-            fd = os.open(state / LOCK, os.O_RDWR | os.O_CREAT | os.O_NOFOLLOW, 0o666)
-        except OSError as exc:
-            raise _refuse(self.where, "an output folder whose lock file risk can open",
-                          f"{_show(state / LOCK)} ({exc.strerror})") from None
-        try:
-            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-        except OSError as exc:
-            if exc.errno not in (errno.EWOULDBLOCK, errno.EAGAIN, errno.EACCES):
+        except FileExistsError:
+            pass  # made before, or by a process racing this one: the lock decides
+        for _ in range(100):  # a lock file unlinked by a process that gave up: take the new one
+            try:
+                fd = os.open(state / LOCK, os.O_RDWR | os.O_CREAT | os.O_NOFOLLOW, 0o666)
+            except OSError as exc:
+                raise _refuse(self.where, "an output folder whose lock file risk can open",
+                              f"{_show(state / LOCK)} ({exc.strerror})") from None
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            except OSError as exc:
+                if exc.errno not in (errno.EWOULDBLOCK, errno.EAGAIN, errno.EACCES):
+                    os.close(fd)
+                    raise
+                holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip() or "unknown"
                 os.close(fd)
-                raise
-            holder = os.pread(fd, 64, 0).decode("ascii", "replace").strip() or "unknown"
+                raise _refuse(self.where, "a folder no other risk process is writing (wait "
+                              "for it to finish, or choose another --out)",
+                              f"{_show(self.given)}, in use by risk process {holder}") from None
+            try:
+                same = os.path.samestat(os.fstat(fd), os.stat(state / LOCK,
+                                                              follow_symlinks=False))
+            except FileNotFoundError:
+                same = False
+            if same:
+                os.ftruncate(fd, 0)
+                os.pwrite(fd, f"{os.getpid()}\n".encode(), 0)
+                self._fd = fd
+                return
             os.close(fd)
-            raise _refuse(self.where, "a folder no other risk process is writing (wait for "
-                          "it to finish, or choose another --out)",
-                          f"{_show(self.given)}, in use by risk process {holder}") from None
-        os.ftruncate(fd, 0)
-        os.pwrite(fd, f"{os.getpid()}\n".encode(), 0)
-        self._fd = fd
+        raise _refuse(self.where, "a folder whose lock can be taken",
+                      f"{_show(self.given)} (its lock file keeps changing)")
 
     def _release(self) -> None:
         if self._fd is not None:
