@@ -92,13 +92,18 @@ def _guard(fn: Any, *args: Any, **kwargs: Any) -> Any:
 def _escape(text: str) -> str:
     """User text made safe for the console: markup printed literally, control characters
     (other than line breaks) shown as escapes instead of reaching the terminal."""
-    import re
-
     from rich.markup import escape
 
-    visible = re.sub(r"[\x00-\x09\x0b-\x1f\x7f-\x9f]",
-                     lambda m: repr(m.group())[1:-1], text)
-    return escape(visible)
+    from risk.errors import visible
+
+    return escape(visible(text, keep="\n"))
+
+
+def _plain(value: object) -> str:
+    """A path or name for plain output (no markup there): control characters made visible."""
+    from risk.errors import visible
+
+    return visible(str(value))
 
 
 @app.command()
@@ -115,7 +120,7 @@ def new(
     from risk.api import new_scenario
 
     _guard(new_scenario, file, units=units, force=force)
-    typer.echo(f"wrote {file}; edit it, then: risk check {file}")
+    typer.echo(f"wrote {_plain(file)}; edit it, then: risk check {_plain(file)}")
 
 
 @app.command()
@@ -155,7 +160,7 @@ def run(
 
     note = first_use_note()
     if note and not quiet:
-        typer.echo(f"note: {note}", err=True)
+        typer.echo(f"note: {_plain(note)}", err=True)
 
     result = _guard(run_scenario, file, out=out, samples=samples, seed=seed, force=force,
                     show_progress=not quiet and not as_json and sys.stderr.isatty())
@@ -193,7 +198,7 @@ def memo(
     from risk.api import render_memo
 
     path = _guard(render_memo, out, force=force)
-    typer.echo(f"memo: {path}")
+    typer.echo(f"memo: {_plain(path)}")
 
 
 def main() -> None:  # pragma: no cover - console entry point

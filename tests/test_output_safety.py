@@ -358,3 +358,19 @@ def test_memo_refuses_an_edited_results_json(tmp_path: Path, scenario: Path) -> 
     code, text = run("memo", str(out))
     assert code == 2 and "results.json" in text and "changed since the run" in text
     assert (out / "memo.html").read_bytes() == memo_before
+
+
+def test_control_characters_in_paths_never_reach_the_terminal(tmp_path: Path,
+                                                             scenario: Path) -> None:
+    # an ESC in a folder name (legal on Linux) is shown as \x1b, in every message
+    out = tmp_path / "run\x1b[31mred"
+    code, text = run("run", str(scenario), "--out", str(out), "--samples", "16", "-q")
+    assert code == 0, text
+    code, text = run("memo", str(out))
+    assert code == 0 and "\x1b" not in text and "\\x1b" in text
+    (out / "memo.html").write_text("edited")
+    code, text = run("run", str(scenario), "--out", str(out), "--samples", "16")
+    assert code == 2 and "\x1b" not in text and "\\x1b" in text
+    f = tmp_path / "new\x07.toml"
+    code, text = run("new", str(f))
+    assert code == 0 and "\x07" not in text and "\\x07" in text
