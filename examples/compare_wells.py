@@ -1,4 +1,4 @@
-"""Run the three Ravenmoor examples through the public API and compare their limits.
+"""Run the three Ravenmoor examples through the public API and compare their sand-free limits.
 
 Usage: python examples/compare_wells.py [--samples N] [--out reports/examples]
 Invented data (a fictional field), for demonstration only.
@@ -16,13 +16,6 @@ WELLS = ("ravenmoor_r7_openhole.toml", "ravenmoor_r12_deviated_perforated.toml",
          "ravenmoor_g3_depleting_gas.toml")
 
 
-def governing(stage_rows: dict[str, dict]) -> tuple[str, float | None]:
-    """The mechanism with the smallest drawdown limit at one stage, and that limit."""
-    best = min(stage_rows.items(),
-               key=lambda kv: (kv[1]["drawdown_limit"] is None, kv[1]["drawdown_limit"] or 0))
-    return best[0], best[1]["drawdown_limit"]
-
-
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--samples", type=int, default=2048)
@@ -35,12 +28,22 @@ def main() -> None:
         unit = s["units"]["pressure"]
         print(f"\n{s['title']} ({s['samples']} samples, seed {s['seed']}, "
               f"accepted risk {s['accepted_risk']})")
-        drawdown_mechs = {k: m for k, m in s["mechanisms"].items() if k != "pore_collapse"}
-        for i, stage in enumerate(next(iter(drawdown_mechs.values()))["stages"]):
-            rows = {k: m["stages"][i] for k, m in drawdown_mechs.items()}
-            mech, limit = governing(rows)
-            print(f"  p_r {stage['reservoir_pressure']:>8} {unit}: limit {limit} {unit} "
-                  f"({s['mechanisms'][mech]['name']})")
+        sand = s["sand_free"]
+        if sand is None:  # no sand-production mechanism in this scenario
+            print(f"  no sand-free limit: {s['sand_free_note']}")
+        else:
+            for stage in sand["stages"]:
+                print(f"  p_r {stage['reservoir_pressure']:>8} {unit}: sand-free limit "
+                      f"{stage['drawdown_limit']} {unit} ({stage['governing_name']}; "
+                      f"P(sand with no drawdown) {stage['p_no_drawdown']:.1%})")
+            zero = sand["zero_limit"]
+            if zero["kind"] == "between":
+                print(f"  the limit reaches zero below about {zero['estimate']} {unit}")
+        choice = s.get("completion_choice")
+        if choice:
+            chosen = choice["chosen"]
+            print(f"  gun for the life of the well: {chosen['phasing']} deg phasing, shots at "
+                  f"{chosen['shot_angles']} deg: {chosen['drawdown_limits']} {unit}")
         print(f"  memo: {result.out_dir / 'memo.html'}")
 
 

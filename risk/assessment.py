@@ -21,7 +21,7 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy.optimize import elementwise
 
-from risk import __version__, probability
+from risk import __version__, decision, probability
 from risk.mechanics import cavity, compaction, sanding
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
@@ -85,6 +85,16 @@ class CompactionResult:
 
 
 @dataclass(frozen=True)
+class OptionResult:
+    """One completion option of the scenario (``[[option]]``), on the run's own samples."""
+
+    name: str
+    well: Any  # risk.scenario.Well
+    sand_free: decision.SandFree | None
+    phasing: decision.PhasingChoice | None
+
+
+@dataclass(frozen=True)
 class Assessment:
     """Everything one run produced (internal units)."""
 
@@ -115,6 +125,12 @@ class Assessment:
     #: wall_plastic_strain (m, g); plane_strain_flag: share of collapsing samples whose axial
     #: effective stress exceeds the hoop one at the yielded wall
     collapse_profile: tuple[Mapping[str, Any], ...] = ()
+    #: the headline: sand-free drawdown limit per stage (None: no sand-production mechanism)
+    sand_free: decision.SandFree | None = None
+    #: perforated wells: the gun phasing for the life of the well
+    phasing: decision.PhasingChoice | None = None
+    #: completion options of the scenario, evaluated on the same samples
+    options: tuple[OptionResult, ...] = ()
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -238,6 +254,20 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
                                                  np.full(dc_tc.shape, np.nan))
     return out
+
+
+def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
+               ) -> tuple[decision.SandFree | None, decision.PhasingChoice | None]:
+    """The sand-free limit and (perforated wells) the life-of-well phasing of one completion."""
+    sand = decision.sand_free(by_direction, scenario.reservoir_pressure, scenario.accepted_risk,
+                              scenario.operating_points)
+    phasing = None
+    if well.completion == "perforated" and sand is not None:
+        phasing = decision.choose_phasing(
+            by_direction, [math.degrees(x) for x in well.shot_angles],
+            scenario.reservoir_pressure, scenario.accepted_risk, scenario.operating_points,
+            phasings=tuple(getattr(scenario, "phasings", decision.COMMON_PHASINGS)))
+    return sand, phasing
 
 
 def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
@@ -549,6 +579,9 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     p0_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
+    options = tuple(getattr(scenario, "options", ()))
+    option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
+    option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
     done = 0
     while done < n:
         m = min(CHUNK, n - done)
@@ -569,6 +602,12 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             dc_all[key][rows] = res.by_direction
             if h:
                 theta_head[key][done:done + h] = res.theta[:h]
+        for i, osc in enumerate(option_scenarios):
+            o_dir = len(osc.well.shot_angles) if osc.well.completion == "perforated" else 1
+            for key, res in evaluate(cols, osc, only=set(decision.SAND_PRODUCTION)).items():
+                if key not in option_dc[i]:
+                    option_dc[i][key] = np.empty((n, o_dir, n_stage), dtype=dtype)
+                option_dc[i][key][rows] = res.by_direction
         if with_compaction:
             comp = evaluate_compaction(cols, scenario)
             far_all[rows] = comp.far_field
@@ -610,6 +649,11 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
+    sand, phasing = _decisions(scenario, scenario.well,
+                               {k: m.by_direction for k, m in mechanisms.items()})
+    option_results = tuple(
+        OptionResult(o.name, o.well, *_decisions(scenario, o.well, dc))
+        for o, dc in zip(options, option_dc, strict=True))
     import scipy
 
     return Assessment(
@@ -619,7 +663,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         inputs=col_head, uncertain=tuple(joint.names), xi=xi_head, mechanisms=mechanisms,
         compaction=comp_all,
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
-        collapse_profile=profile,
+        collapse_profile=profile, sand_free=sand, phasing=phasing, options=option_results,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

@@ -30,6 +30,7 @@ from scipy import special as sc
 from scipy import stats
 
 __all__ = [
+    "fraction_at_or_below",
     "convergence_warning",
     "drawdown_limit",
     "failure_curve",
@@ -207,6 +208,17 @@ def drawdown_limit(dc: ArrayLike, accepted_risk: float,
         k -= 1
     lower = float(s[k - 1]) if k >= 1 else -math.inf
     return limit, lower
+
+
+def fraction_at_or_below(dc: ArrayLike, drawdown: float, rtol: float = 1e-9) -> float:
+    """Share of samples failing at or below ``drawdown`` [-], counting values within a relative
+    ``rtol`` of it as equal, so that results equal up to floating-point rounding (opposite shot
+    directions of a symmetric well, 1e-14 MPa apart) are never ranked by that rounding."""
+    a = np.asarray(dc, dtype=float)
+    if a.size == 0:
+        raise ValueError("dc is empty")
+    tol = rtol * max(1.0, abs(drawdown)) if math.isfinite(drawdown) else 0.0
+    return float(np.mean(a <= drawdown + tol))
 
 
 def samples_needed(p: float, rel_error: float = 0.1) -> int:

@@ -19,7 +19,7 @@ from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
 from risk.report.text import safe
 from risk.scenario import _SPEC, Scenario
 
-__all__ = ["print_scenario", "print_summary"]
+__all__ = ["print_scenario", "print_summary", "print_answer"]
 
 
 def _fmt(v: float | None, digits: int = 4, none: str = "never") -> str:
@@ -72,6 +72,82 @@ def _print_warnings(con: Console, warnings: Any) -> None:
         con.print(Text.assemble(("warning", "yellow"), ": ", safe(w)))
 
 
+_SHORT = {"effective_strength_onset": "TWC onset", "tunnel_collapse": "tunnel collapse"}
+
+
+def _shots(c: dict[str, Any]) -> str:
+    ph = c.get("phasing")
+    what = ("planned set" if ph is None else "0 deg phasing" if float(ph) == 0.0
+            else f"{float(ph):g} deg phasing")
+    return f"{what} ({', '.join(f'{float(a):g}' for a in c.get('shot_angles') or [])} deg)"
+
+
+def print_answer(summary: dict[str, Any], console: Console | None = None) -> None:
+    """The answer first: the sand-free drawdown limit now and per stage, where it reaches zero,
+    P(sanding) at the planned points, and the gun for the life of the well."""
+    con = console or Console()
+    u = summary["units"]["pressure"]
+    sf = summary.get("sand_free")
+    if sf is None:
+        con.print(Text.assemble(("No sand-free limit: ", "bold"),
+                                safe(summary.get("sand_free_note") or "")))
+        return
+    stages = sf["stages"]
+    names = {k: m.get("name", k) for k, m in summary["mechanisms"].items()}
+    first = stages[0]
+    con.print(Text.assemble(
+        ("Sand-free drawdown limit now: ", "bold"),
+        (f"{_fmt(first['drawdown_limit'])} {u}", "bold"),
+        safe(f" at p_r {_fmt(first['reservoir_pressure'])} {u}"
+             + (" with the planned shots" if summary.get("completion") == "perforated" else "")
+             + f", governed by {names.get(first['governing'], first['governing'])}; accepted "
+             f"risk {summary['accepted_risk']:g}")))
+    t = Table(show_edge=False, title=f"sand-free limit per stage, pressures in {u}",
+              title_justify="left")
+    for col in ("p_r", "limit", "low95", "governed by", "P(sand at 0) 95%", "yield ref"):
+        t.add_column(col, justify="left" if col == "governed by" else "right")
+    fy = {st["reservoir_pressure"]: st["drawdown_limit"]
+          for st in (summary.get("first_yield") or {}).get("stages") or []}
+    for st in stages:
+        t.add_row(_fmt(st["reservoir_pressure"]), _fmt(st["drawdown_limit"]),
+                  "n/a" if st["drawdown_limit_lower"] is None
+                  else _fmt(st["drawdown_limit_lower"]),
+                  _SHORT.get(st["governing"], st["governing"]),
+                  f"{100 * st['p_no_drawdown']:.1f}% ({100 * st['p_no_drawdown_low']:.1f}-"
+                  f"{100 * st['p_no_drawdown_high']:.1f})",
+                  _fmt(fy.get(st["reservoir_pressure"])))
+    con.print(t)
+    z = sf["zero_limit"]
+    if z["kind"] == "between":
+        con.print(f"The limit reaches zero below about {_fmt(z['estimate'])} {u} (between the "
+                  f"stages at {_fmt(z['above'])} and {_fmt(z['below'])} {u}).")
+    elif z["kind"] == "first-stage":
+        con.print("The limit is zero from the first stage: sand is expected with no drawdown.")
+    else:
+        con.print(f"The limit stays above zero down to the last stage ({_fmt(z['above'])} {u}).")
+    if any(st["drawdown_limit"] == 0 for st in stages):
+        con.print("[yellow]screening[/]: where the limit is zero the completion needs sand "
+                  "control, a changed completion or a rate restriction - the engineer's "
+                  "decision, under local practice.")
+    for pt in sf.get("operating_points") or []:
+        p = ("not a depletion stage" if pt["probability"] is None else
+             f"P(sanding) {pt['probability']:.1%} ({pt['low']:.1%}-{pt['high']:.1%})"
+             + (", beyond the limit" if pt["beyond_limit"] else ""))
+        con.print(f"planned point p_r {_fmt(pt['reservoir_pressure'])} {u}, drawdown "
+                  f"{_fmt(pt['drawdown'])} {u}: {p}")
+    ch = summary.get("completion_choice")
+    if ch:
+        lims = ", ".join(_fmt(v) for v in ch["chosen"]["drawdown_limits"])
+        con.print(Text.assemble(("Gun for the life of the well: ", "bold"),
+                                safe(f"{_shots(ch['chosen'])}; sand-free limit per stage "
+                                     f"{lims} {u}")))
+    for o in summary.get("completion_options") or []:
+        osf = o.get("sand_free") or {}
+        lims = ", ".join(_fmt(st["drawdown_limit"]) for st in osf.get("stages") or [])
+        con.print(Text.assemble("option ", safe(o["name"], "bold"),
+                                f": sand-free limit per stage {lims or '-'} {u}"))
+
+
 def _print_pore_collapse(con: Console, mech: dict[str, Any], u: str) -> None:
     far, wall = mech["critical_reservoir_pressure"], mech["wall_critical_reservoir_pressure"]
     con.print(Text.assemble(
@@ -98,6 +174,9 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
         safe(f" - {summary['samples']:,} samples ({summary['sampling']}), seed "
              f"{summary['seed']}, criterion {summary['criterion']}")))
     _print_warnings(con, summary.get("warnings"))
+    print_answer(summary, con)
+    con.print("[bold]Per mechanism[/] (first yield is a conservative reference, not sand "
+              "production):")
     for key, mech in summary["mechanisms"].items():
         if key == "pore_collapse":
             _print_pore_collapse(con, mech, u)

@@ -277,6 +277,134 @@ def _interp_probability(stage: Mapping[str, Any], drawdown: float) -> float | No
 
 # --------------------------------------------------------------------------- sections
 
+def _angles(c: Mapping[str, Any]) -> str:
+    """A shot set as text: "180° phasing, shots at 0° and 180°"."""
+    shots = [f"{float(a):g}\u00b0" for a in c.get("shot_angles") or []]
+    ph = c.get("phasing")
+    what = ("the planned shot set" if ph is None else
+            "0\u00b0 phasing (every shot in one direction)" if float(ph) == 0.0
+            else f"{float(ph):g}\u00b0 phasing")
+    where = ", ".join(shots[:-1]) + (" and " if len(shots) > 1 else "") + shots[-1] if shots \
+        else "–"
+    return f"{what}, shots at {where}"
+
+
+def _tied(stage: Mapping[str, Any], key: str) -> str:
+    """An angle, or every angle tied with it ("0° / 180°": equal directions tie, always)."""
+    group = stage.get(key + "s")
+    if group and len(group) > 1:
+        return " / ".join(format_value(v, "deg") for v in group)
+    return format_value(stage.get(key), "deg", none="–")
+
+
+def _answer(results: Mapping[str, Any]) -> dict[str, Any]:
+    """The memo's opening: the sand-free limit now and over depletion, what it means at the
+    planned points, and the completion for the life of the well (results.json alone)."""
+    sf = results.get("sand_free")
+    out: dict[str, Any] = {"available": sf is not None, "sentences": [], "rows": [],
+                           "screening": None, "note": results.get("sand_free_note"),
+                           "choice": None, "options": [], "points": []}
+    fy = {st["reservoir_pressure"]: st["drawdown_limit"]
+          for st in ((results.get("first_yield") or {}).get("stages") or [])}
+    if sf is None:
+        return out
+    stages = sf.get("stages") or []
+    names = {k: str(m.get("name", k)) for k, m in (results.get("mechanisms") or {}).items()}
+    for st in stages:
+        out["rows"].append({
+            "p_r": _p(results, st["reservoir_pressure"]),
+            "limit": _p(results, st["drawdown_limit"]),
+            "limit_raw": _raw(st["drawdown_limit"]),
+            "lower": _p(results, st.get("drawdown_limit_lower"), none="not resolved"),
+            "governing": names.get(st["governing"], st["governing"]),
+            "p0": f"{_pct(st['p_no_drawdown'])} ({_pct(st['p_no_drawdown_low'])}–"
+                  f"{_pct(st['p_no_drawdown_high'])})",
+            "first_yield": _p(results, fy.get(st["reservoir_pressure"]))})
+    if not stages:
+        return out
+    first, sents = stages[0], out["sentences"]
+    gov = _lower(names.get(first["governing"], first["governing"]))
+    sents.append(
+        f"Sand-free drawdown limit now: {_p(results, first['drawdown_limit'])} at p_r = "
+        f"{_p(results, first['reservoir_pressure'])}"
+        + (" with the planned shot set" if results.get("completion") == "perforated" else "")
+        + f", governed by {gov} (95% lower bound "
+        f"{_p(results, first.get('drawdown_limit_lower'), none='not resolved')}), at an "
+        f"accepted risk of {results.get('accepted_risk')}.")
+    if len(stages) > 1:
+        sents.append("Over the depletion plan: " + "; ".join(
+            f"{_p(results, st['drawdown_limit'])} at p_r = {_p(results, st['reservoir_pressure'])}"
+            for st in stages[1:]) + ".")
+    z = sf.get("zero_limit") or {}
+    if z.get("kind") == "between":
+        sents.append(
+            f"The sand-free limit reaches zero when the reservoir is depleted below about "
+            f"{_p(results, z.get('estimate'))} (between the stages at "
+            f"{_p(results, z.get('above'))} and {_p(results, z.get('below'))}, where P(sand "
+            f"with no drawdown) reaches the accepted risk; linear interpolation).")
+    elif z.get("kind") == "first-stage":
+        sents.append("The sand-free limit is zero from the first stage on: the accepted risk "
+                     "is exceeded with no drawdown at all.")
+    else:
+        sents.append(f"The sand-free limit stays above zero down to the last stage "
+                     f"({_p(results, z.get('above'))}).")
+    zero_rows = [st for st in stages if st["drawdown_limit"] == 0]
+    if zero_rows:
+        st = zero_rows[0]
+        out["screening"] = (
+            f"Where the limit is zero, the well is expected to sand with no drawdown at all: "
+            f"P(sanding with no drawdown) = {_pct(st['p_no_drawdown'])} (95% band "
+            f"{_pct(st['p_no_drawdown_low'])}–{_pct(st['p_no_drawdown_high'])}) at p_r = "
+            f"{_p(results, st['reservoir_pressure'])}, above the accepted risk. As screening, "
+            "the completion then needs sand control, a changed completion or a rate "
+            "restriction; which one is the engineer's decision, under local practice and "
+            "regulations.")
+    out["points"] = [{
+        "p_r": _p(results, pt["reservoir_pressure"]), "p_w": _p(results, pt["wall_pressure"]),
+        "d": _p(results, pt["drawdown"]),
+        "p": ("not a depletion stage" if pt.get("probability") is None else
+              f"{_pct(pt['probability'])} ({_pct(pt['low'])}–{_pct(pt['high'])})"),
+        "vs": ("–" if pt.get("beyond_limit") is None else
+               "beyond the limit" if pt["beyond_limit"] else "within the limit")}
+        for pt in sf.get("operating_points") or []]
+    ch = results.get("completion_choice")
+    if ch:
+        if all(float(v or 0.0) == 0.0 for v in ch["chosen"].get("drawdown_limits") or []):
+            out["sentences"].append(
+                "No shot set gives a positive sand-free limit at any stage, so the gun below is "
+                "chosen by the tie rules only: phasing does not avoid sanding here.")
+        out["choice"] = {
+            "chosen": _angles(ch["chosen"]),
+            "rule": ch.get("rule"),
+            "rows": [{"p_r": _p(results, st["reservoir_pressure"]),
+                      "chosen": _p(results, lim),
+                      "best": _p(results, st["drawdown_limit"]),
+                      "best_set": _angles(st)}
+                     for st, lim in zip(ch.get("per_stage_best") or [],
+                                        ch["chosen"].get("drawdown_limits") or [],
+                                        strict=False)],
+            "by_phasing": [{"set": _angles(c), "limits": [_p(results, v)
+                                                          for v in c["drawdown_limits"]]}
+                           for c in ch.get("by_phasing") or []],
+            "tied": [_angles(c) for c in ch.get("tied") or []],
+        }
+    for o in results.get("completion_options") or []:
+        osf = o.get("sand_free") or {}
+        out["options"].append({
+            "name": o["name"],
+            "what": (o["completion"] if o["completion"] == "openhole"
+                     else "perforated, shots at " + ", ".join(
+                         f"{float(a):g}\u00b0" for a in o.get("shot_angles") or [])),
+            "limits": [_p(results, st["drawdown_limit"]) for st in osf.get("stages") or []]})
+    if out["options"]:
+        out["option_stages"] = [r["p_r"] for r in out["rows"]]
+        out["planned_limits"] = [r["limit"] for r in out["rows"]]
+    out["sentences"] = [_rich(t) for t in out["sentences"]]
+    if out["screening"]:
+        out["screening"] = _rich(out["screening"])
+    return out
+
+
 def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
     mechs = _drawdown_mechanisms(results)
     risk = results.get("accepted_risk")
@@ -324,31 +452,6 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
     sentences = []
     if governing:
         names = {k_: str(m.get("name", k_)) for k_, m in mechs}
-
-        def who(keys: tuple[str, ...]) -> str:
-            if len(keys) > 1 and len(keys) == len(mechs):
-                return "every mechanism"
-            return " and ".join(names[g] for g in keys)
-
-        common = set(governing[0][1]).intersection(*(set(g[1]) for g in governing[1:]))
-        if len({g[1] for g in governing}) > 1 and common:
-            # one mechanism governs throughout; others only tie with it at some stages
-            governing = [(g[0], tuple(k for k in g[1] if k in common), g[2])
-                         for g in governing]
-        if len({g[1] for g in governing}) == 1:
-            subject = who(governing[0][1])
-            verb = "governs" if len(governing[0][1]) == 1 else "govern"
-            if subject == "every mechanism":
-                subject, verb = "All mechanisms", "give the same smallest limit, and so govern"
-            sentences.append(
-                f"{subject} {verb} the drawdown limit at every depletion stage: "
-                f"the smallest limit is {governing[0][2]} at p_r = {governing[0][0]}"
-                + (f" and {governing[-1][2]} at p_r = {governing[-1][0]}."
-                   if len(governing) > 1 else "."))
-        else:
-            parts = [f"at p_r = {g[0]}, {_lower(who(g[1]))} ({g[2]})" for g in governing]
-            sentences.append("The mechanism with the smallest limit changes with depletion: "
-                             + "; ".join(parts) + ".")
         zero = [(str(mech.get("name", key)), _p(results, st.get("reservoir_pressure")),
                  st.get("zero_drawdown_fraction"))
                 for key, mech in mechs for st in mech["stages"]
@@ -361,7 +464,8 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 f"stage results (for example {_lower(first[0])} at p_r = {first[1]}: "
                 f"{_pct(first[2])} of the samples fail at zero drawdown), so the limit there "
                 f"is 0 {_punit(results)}.")
-        top_key = governing[0][1][0]
+        sand = results.get("sand_free") or {}
+        top_key = ((sand.get("stages") or [{}])[0].get("governing") or governing[0][1][0])
         top = _top_sensitivity(results, top_key)
         if top is None:
             for key, _m in mechs:
@@ -374,24 +478,6 @@ def _summary(results: Mapping[str, Any]) -> dict[str, Any]:
                 f"For {_lower(names.get(top_key, top_key))}, the input whose uncertainty "
                 f"matters most is {input_label(str(top['input']))} (largest "
                 f"{_rank_basis(top)}, {_rank_value(top):.2f}, at the first stage).")
-    for key, mech in _drawdown_mechanisms(results):
-        st0 = (mech.get("stages") or [{}])[0]
-        ph = st0.get("best_phasing")
-        if not ph or ph.get("drawdown_limit") is None or st0.get("drawdown_limit") is None:
-            continue
-        if float(ph["drawdown_limit"]) > float(st0["drawdown_limit"]):
-            a1, a2 = ph["angles"]
-            sentences.append(
-                f"Oriented perforating ({_lower(str(mech.get('name', key)))}, p_r = "
-                f"{_p(results, st0.get('reservoir_pressure'))}): shooting only at {a1:g}\u00b0 "
-                f"and {a2:g}\u00b0 from the high side raises the drawdown limit from "
-                f"{_p(results, st0['drawdown_limit'])} with every planned direction to "
-                f"{_p(results, ph['drawdown_limit'])}"
-                + (" (the whole reservoir pressure: fewer than the accepted share fail even at "
-                   "zero flowing pressure)"
-                   if float(ph["drawdown_limit"]) >= float(st0.get("reservoir_pressure") or
-                                                           math.inf) else "")
-                + " at this stage; check the other stages in the tables below.")
     pore = (results.get("mechanisms") or {}).get("pore_collapse")
     if pore and pore.get("stages"):
         last = pore["stages"][-1]
@@ -510,8 +596,8 @@ def _mechanism_sections(results: Mapping[str, Any]) -> list[dict[str, Any]]:
                 "cw10": _p(results, cw.get("p10"), none="below 0"),
                 "cw50": _p(results, cw.get("p50"), none="below 0"),
                 "cw90": _p(results, cw.get("p90"), none="below 0"),
-                "worst": format_value(s.get(angle), "deg", none="–"),
-                "best": format_value(s.get("best_shot_angle"), "deg", none="–"),
+                "worst": _tied(s, angle),
+                "best": _tied(s, "best_shot_angle"),
             })
         shots = None
         if all(s.get("shots") for s in stages):
@@ -736,6 +822,7 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
         "unit": _punit(results),
         "sections": SECTIONS,
         "summary": _summary(results),
+        "answer": _answer(results),
         "scenario": scenario,
         "mechanisms": _mechanism_sections(results),
         "pore": _pore_section(results),

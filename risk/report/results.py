@@ -14,7 +14,7 @@ from typing import Any
 
 import numpy as np
 
-from risk import probability
+from risk import decision, probability
 from risk.assessment import MECHANISMS, Assessment
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
 from risk.scenario import _SPEC
@@ -134,7 +134,8 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
                 for j in range(by_dir.shape[1])]
         limits = [min(probability.drawdown_limit(by_dir[:, j], sc.accepted_risk)[0], p_r)
                   for j in range(by_dir.shape[1])]
-        p_at = [float(np.mean(by_dir[:, j] <= lim)) for j in range(by_dir.shape[1])]
+        p_at = [probability.fraction_at_or_below(by_dir[:, j], lim)
+                for j in range(by_dir.shape[1])]
         # mean of the critical drawdown capped at p_r: the last tie-breaker (larger is safer)
         means = [float(np.mean(np.minimum(by_dir[:, j], p_r))) for j in range(by_dir.shape[1])]
         shots = [{"angle": _angle(a, ang), "critical_drawdown_p50": _pressure(a, v),
@@ -150,8 +151,17 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
         order = sorted(range(len(keys)), key=lambda j: keys[j])
         worst, best = order[0], order[-1]
         distinct = keys[best] != keys[worst]
+        # equal directions tie, always: every direction with the worst (best) key is named,
+        # and the single angle reported is the first of them in the scenario's order
+        worst_all = [j for j in range(len(keys)) if keys[j] == keys[worst]]
+        best_all = [j for j in range(len(keys)) if keys[j] == keys[best]]
+        worst, best = worst_all[0], best_all[0]
         out["worst_shot_angle"] = _angle(a, a.directions[worst]) if distinct else None
         out["best_shot_angle"] = _angle(a, a.directions[best]) if distinct else None
+        out["worst_shot_angles"] = ([_angle(a, a.directions[j]) for j in worst_all]
+                                    if distinct else None)
+        out["best_shot_angles"] = ([_angle(a, a.directions[j]) for j in best_all]
+                                   if distinct else None)
         if not distinct:
             out["shot_note"] = "every shot direction gives the same result: no preference"
         out["shots"] = shots
@@ -349,6 +359,107 @@ def _inputs(a: Assessment) -> list[dict[str, Any]]:
     return rows
 
 
+_ENABLE = ("effective-strength sanding onset: give rock.twc or rock.twc_ratio (TWC tests); "
+           "tunnel collapse: give rock.critical_plastic_strain with rock.young_modulus and "
+           "production.drainage_radius")
+
+
+def _stage_limit(a: Assessment, row: decision.StageLimit) -> dict[str, Any]:
+    return {
+        "reservoir_pressure": _pressure(a, row.reservoir_pressure),
+        "drawdown_limit": _pressure(a, row.limit),
+        "drawdown_limit_lower": (None if row.lower is None else _pressure(a, row.lower)),
+        "governing": row.governing, "governing_name": MECHANISMS[row.governing],
+        "by_mechanism": {k: _pressure(a, v) for k, v in row.by_mechanism.items()},
+        "p_no_drawdown": rounded(row.p_no_drawdown),
+        "p_no_drawdown_low": rounded(row.p_no_drawdown_band[0]),
+        "p_no_drawdown_high": rounded(row.p_no_drawdown_band[1]),
+    }
+
+
+def _sand_free(a: Assessment, sf: decision.SandFree | None) -> dict[str, Any] | None:
+    """The headline block: the sand-free drawdown limit (risk.decision)."""
+    if sf is None:
+        return None
+    z = sf.zero
+    zero = {"kind": z.kind, "above": None if z.above is None else _pressure(a, z.above),
+            "below": None if z.below is None else _pressure(a, z.below),
+            "estimate": None if z.estimate is None else _pressure(a, z.estimate)}
+    points = [{"reservoir_pressure": _pressure(a, pt.reservoir_pressure),
+               "wall_pressure": _pressure(a, pt.wall_pressure),
+               "drawdown": _pressure(a, pt.reservoir_pressure - pt.wall_pressure),
+               "probability": None if pt.probability is None else rounded(pt.probability),
+               "low": None if pt.band is None else rounded(pt.band[0]),
+               "high": None if pt.band is None else rounded(pt.band[1]),
+               "beyond_limit": pt.beyond_limit,
+               "note": None if pt.stage is not None else "not a depletion stage"}
+              for pt in sf.points]
+    return {"mechanisms": list(sf.mechanisms),
+            "definition": "largest drawdown at which the probability that any enabled "
+                          "sand-production mechanism predicts sand stays at or below the "
+                          "accepted risk, capped at the reservoir pressure",
+            "stages": [_stage_limit(a, row) for row in sf.stages],
+            "zero_limit": zero, "operating_points": points}
+
+
+def _candidate(a: Assessment, c: decision.Candidate, well_angles: tuple[float, ...]
+               ) -> dict[str, Any]:
+    return {"phasing": c.phasing, "orientation": rounded(c.orientation),
+            "shot_angles": [_angle(a, well_angles[j]) for j in c.directions]}
+
+
+def _phasing(a: Assessment, ch: decision.PhasingChoice | None, well_angles: tuple[float, ...]
+             ) -> dict[str, Any] | None:
+    if ch is None:
+        return None
+    return {
+        "rule": ch.rule,
+        "chosen": {**_candidate(a, ch.chosen, well_angles),
+                   "drawdown_limits": [_pressure(a, v) for v in ch.limits]},
+        "tied": [_candidate(a, c, well_angles) for c in ch.tied],
+        "per_stage_best": [{"reservoir_pressure": _pressure(a, p_r),
+                            **_candidate(a, c, well_angles), "drawdown_limit": _pressure(a, v)}
+                           for p_r, (c, v) in zip(a.stages, ch.per_stage_best, strict=True)],
+        "by_phasing": [{**_candidate(a, c, well_angles),
+                        "drawdown_limits": [_pressure(a, v) for v in lims]}
+                       for c, lims in ch.by_phasing],
+    }
+
+
+def _options(a: Assessment) -> list[dict[str, Any]]:
+    sc = a.scenario
+    out = []
+    for o in a.options:
+        w = o.well
+        entry: dict[str, Any] = {
+            "name": o.name, "completion": w.completion,
+            "shot_angles": ([_angle(a, x) for x in w.shot_angles]
+                            if w.completion == "perforated" else None),
+            "tunnel_diameter": (None if w.tunnel_diameter is None
+                                else rounded(sc.to_display(w.tunnel_diameter, "small_length"))),
+            "hole_diameter": (None if w.hole_diameter is None
+                              else rounded(sc.to_display(w.hole_diameter, "small_length"))),
+            "sand_free": _sand_free(a, o.sand_free),
+            "completion_choice": _phasing(a, o.phasing, w.shot_angles),
+        }
+        out.append(entry)
+    return out
+
+
+def _first_yield(a: Assessment) -> dict[str, Any] | None:
+    mech = a.mechanisms.get("yield_onset")
+    if mech is None:
+        return None
+    well = mech.well
+    stages = []
+    for k, p_r in enumerate(a.stages):
+        lim, _ = probability.drawdown_limit(well[:, k], a.scenario.accepted_risk)
+        stages.append({"reservoir_pressure": _pressure(a, p_r),
+                       "drawdown_limit": _pressure(a, min(lim, p_r))})
+    return {"note": "conservative first-yield reference: the rock at the wall starts to yield; "
+                    "yielding is not sand production", "stages": stages}
+
+
 def _rank_correlation(a: Assessment) -> dict[str, Any] | None:
     names = list(a.uncertain)
     if len(names) < 2 or a.samples < 3:
@@ -387,6 +498,15 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "scenario_file": sc.source_name,
         "scenario_sha256": sc.sha256,
         "warnings": list(sc.warnings),
+        "sand_free": _sand_free(a, a.sand_free),
+        "sand_free_note": (None if a.sand_free is not None else
+                           "no sand-production mechanism is enabled, so this run gives no "
+                           "sand-free limit (first yield is not sand production); to enable "
+                           "one: " + _ENABLE),
+        "first_yield": _first_yield(a),
+        "completion_choice": (_phasing(a, a.phasing, sc.well.shot_angles)
+                              if sc.well.completion == "perforated" else None),
+        "completion_options": _options(a),
         "units": units,
         "unit_system": sc.units,
         "samples": a.samples,

@@ -266,8 +266,11 @@ def test_pdf_header_and_page_count(perforated_memo, pages):
 
 def test_pdf_text_contains_the_limits(perforated, pages):
     unit = perforated["units"]["pressure"]
-    first = pages[0]
-    assert "1 Summary" in first
+    assert "1 Summary" in pages[0]
+    # page 1 opens with the sand-free limit (issue 12); the per-mechanism table follows it
+    for st in perforated["sand_free"]["stages"]:
+        assert figures.format_value(st["drawdown_limit"], unit) in pages[0]
+    first = pages[0] + pages[1]
     for key, mech in perforated["mechanisms"].items():
         if "failure_probability" not in (mech.get("stages") or [{}])[0]:
             continue
