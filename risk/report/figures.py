@@ -523,14 +523,16 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                     ax.plot([np.radians(best)], [rmax], marker="o", ms=5, color=PALETTE[2],
                             mec="black", mew=0.5, clip_on=False, zorder=5)
                 ax.set_ylim(0.0, rmax)
-                # rings labelled inside the dial (an outer-ring label would meet the angle
+                # a ring labelled inside the dial (an outer-ring label would meet the angle
                 # labels; the title gives the outer ring), in the middle of the widest gap
                 # between bars, on a white ground; none where a note fills the centre
                 ax.set_rticks(list(ring))
                 ax.set_yticklabels([])
                 widest = int(np.argmax(gaps))
                 mid = float(order[widest] + gaps[widest] / 2)
-                for r in ring[:-1] if differ else []:
+                # one inner ring labelled (two side by side collide on small dials)
+                inner = ring[:-1][np.argmin(np.abs(ring[:-1] - rmax / 2))]
+                for r in [inner] if differ else []:
                     ax.text(mid, float(r), format_value(r, unit), fontsize=6, ha="center",
                             va="center", zorder=6, gid="ring-label",
                             bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8,
