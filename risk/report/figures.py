@@ -30,12 +30,14 @@ import seaborn as sns
 from cycler import cycler
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
+from matplotlib.layout_engine import ConstrainedLayoutEngine
 from matplotlib.lines import Line2D
 from matplotlib.patches import Patch
 
 __all__ = [
     "DPI",
     "FIGURES",
+    "MAX_HEIGHT",
     "format_value",
     "input_label",
     "mechanism_color",
@@ -55,6 +57,12 @@ __all__ = [
 
 DPI: Final = 150
 PAGE_WIDTH: Final = 7.0  # [in] printable width of an A4 page with 2 cm margins, rounded
+#: [in] tallest figure: the memo prints figures at most 6.53 in wide (0.93 of the design size)
+#: on a 10.1 in tall printable A4 area that also holds the caption (derived from memo.css).
+MAX_HEIGHT: Final = 9.0
+#: Probability axes run a little past [0, 1] so that a curve at 0 or 1 is not hidden under
+#: the frame.
+_P_LIMITS: Final = (-0.02, 1.02)
 
 PALETTE: Final[list[tuple[float, float, float]]] = [
     (float(c[0]), float(c[1]), float(c[2])) for c in sns.color_palette("colorblind", 10)
@@ -79,9 +87,6 @@ INPUT_LABELS: Final[dict[str, str]] = {
 
 #: Decimals shown for a pressure in each unit (finer than any input is known).
 _PRESSURE_DECIMALS: Final[dict[str, int]] = {"psi": 0, "kPa": 0, "bar": 1, "MPa": 2}
-
-#: Radial scales of the shot-direction dials [-] (the smallest that holds every bar is used).
-_RADIAL_STEPS: Final = (0.02, 0.05, 0.1, 0.2, 0.25, 0.5, 1.0)
 
 _QUANTILE_KEYS: Final = ("p01", "p05", "p10", "p25", "p50", "p75", "p90")
 PR: Final = r"$p_r$"  # reservoir pressure, in mathtext
@@ -251,12 +256,15 @@ def plot_failure_probability(results: Mapping[str, Any], *, fig: Figure | None =
                 if lim is not None and math.isfinite(risk) and (
                         not math.isfinite(d_max) or lim <= d_max):
                     xerr = [[max(0.0, lim - low)], [0.0]] if low is not None else None
-                    ax.errorbar([lim], [risk], xerr=xerr, fmt="o", ms=4.5, color=c,
-                                mec="white", mew=0.7, capsize=2.5, elinewidth=1.4, zorder=5)
+                    bars = ax.errorbar([lim], [risk], xerr=xerr, fmt="o", ms=4.5, color=c,
+                                       mec="white", mew=0.7, capsize=2.5, elinewidth=1.4,
+                                       zorder=5)
+                    for artist in bars.get_children():  # a limit of 0 sits on the frame
+                        artist.set_clip_on(False)
             if math.isfinite(risk):
                 ax.axhline(risk, color="0.15", ls="--", lw=0.9, zorder=1)
             ax.set_title(f"{PR} = {format_value(p_r, unit)}")
-            ax.set_ylim(0.0, 1.0)
+            ax.set_ylim(*_P_LIMITS)
             if math.isfinite(d_max):
                 ax.set_xlim(0.0, d_max)
             _thousands(ax.xaxis)
@@ -291,6 +299,8 @@ def plot_envelope(results: Mapping[str, Any], *, fig: Figure | None = None) -> F
     mechanism. Lines at P10/P50/P90, shaded bands between consecutive quantiles (p01, p05, p10,
     p25, p50, p75, p90 where present) labelled by the fraction of samples that fail, the line
     p_wf = p_r (zero drawdown), the largest allowed drawdown and the planned operating points.
+    The contour at the accepted risk (``p_r`` minus each stage's drawdown limit) is always drawn
+    and labelled, whether or not the accepted risk is one of the quantiles.
 
     A wall pressure of ``null`` (fewer than that fraction fail even at p_wf = 0) is drawn at 0,
     the edge of the domain."""
@@ -301,6 +311,7 @@ def plot_envelope(results: Mapping[str, Any], *, fig: Figure | None = None) -> F
     with _styled():
         unit = _unit(results)
         d_max = _f(results.get("max_drawdown"))
+        risk = _f(results.get("accepted_risk"))
         n = len(mechs)
         ncols = 1 if n == 1 else 2
         nrows = math.ceil(n / ncols)
@@ -339,6 +350,20 @@ def plot_envelope(results: Mapping[str, Any], *, fig: Figure | None = None) -> F
                 if q in ys:
                     line_handles[q] = ax.plot(x, ys[q], color="0.05", ls=ls, lw=lw,
                                               label=f"{q.upper()} critical wall pressure")[0]
+            if math.isfinite(risk):  # the accepted-risk contour: p_wf = p_r - drawdown limit
+                lims = _arr([s.get("drawdown_limit") for s in stages])
+                pr = _arr([s["reservoir_pressure"] for s in stages])
+                y_risk = np.maximum(np.nan_to_num(pr - lims, nan=0.0), 0.0)
+                text = f"accepted risk {format_value(risk, '-')}"
+                line_handles["risk"] = ax.plot(
+                    x, y_risk, color=PALETTE[4], lw=1.8, ls=(0, (5, 1.5)), zorder=4,
+                    label=f"{text} ({format_value(100 * risk, '-')}% of samples fail; "
+                          f"{PR} − drawdown limit)")[0]
+                ax.annotate(text, (float(x[-1]), float(y_risk[-1])), xytext=(-3, 3),
+                            textcoords="offset points", ha="right", va="bottom", fontsize=6.5,
+                            color=PALETTE[4], zorder=7,
+                            bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8,
+                                  "pad": 0.8})
             xx = np.array([x.min(), x.max()])
             line_handles["zero"] = ax.plot(xx, xx, color=PALETTE[0], lw=1.6,
                                            label=f"{PWF} = {PR} (no drawdown)")[0]
@@ -401,34 +426,68 @@ def _best_shot(stage: Mapping[str, Any]) -> float | None:
     return float(min(shots, key=key)["angle"])
 
 
+def _nice_rings(top: float) -> np.ndarray:
+    """Ring radii for a dial: 1-2-2.5-5 steps, 2 to 4 rings, the outer one at or above ``top``."""
+    top = top if math.isfinite(top) and top > 0 else 1.0
+    mag = 10.0 ** math.floor(math.log10(top))
+    for step in (0.1, 0.2, 0.25, 0.5, 1.0, 2.0, 2.5, 5.0, 10.0):
+        k = math.ceil(top / (step * mag) - 1e-9)
+        if k <= 4:
+            return step * mag * np.arange(1, max(k, 2) + 1)
+    return np.array([top / 2, top])  # pragma: no cover - the loop always returns
+
+
+def _shot_layout(n_st: int, n_mech: int) -> tuple[int, float, float]:
+    """Columns, dial size [in] and figure height [in] of the shot-direction figure: at most
+    four stages a row while the figure fits :data:`MAX_HEIGHT`, more columns (and then smaller
+    dials) when it would not."""
+    ncols = min(n_st, 4)
+    while True:
+        size = PAGE_WIDTH / max(ncols, 3)  # one or two stages: keep the dials small
+        nrows = math.ceil(n_st / ncols) * n_mech
+        height = (size + 0.85) * nrows + 0.7
+        if height <= MAX_HEIGHT or ncols >= min(n_st, 6):
+            break
+        ncols += 1
+    if height > MAX_HEIGHT:
+        size = max((MAX_HEIGHT - 0.7) / nrows - 0.85, 0.6)
+        height = (size + 0.85) * nrows + 0.7
+    return ncols, size, height
+
+
 def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = None
                          ) -> Figure | None:
     """Risk per perforation direction: polar bars of the drawdown limit of a tunnel shot in each
     direction (at the accepted risk; longer is better), one row per mechanism and one column per
-    depletion stage; the best direction highlighted. Angles from the high side, clockwise
-    (vertical well: from the ``azimuth`` reference, seen from above). ``None`` for open hole."""
+    depletion stage; the best direction highlighted where the limits differ between directions
+    (where every direction has the same limit no direction is marked). Angles from the high
+    side, clockwise (vertical well: from the ``azimuth`` reference, seen from above). Rings at
+    round values, labelled inside the dial in the widest gap between bars. ``None`` for open
+    hole."""
     mechs = _shot_mechanisms(results)
     if not mechs or results.get("completion") != "perforated":
         return None
     with _styled():
         n_st = max(len(m["stages"]) for _, m in mechs)
-        ncols = min(n_st, 4)
+        ncols, size, height = _shot_layout(n_st, len(mechs))
         rows_per = math.ceil(n_st / ncols)
         nrows = rows_per * len(mechs)
-        size = PAGE_WIDTH / max(ncols, 3)  # one or two stages: keep the dials small
-        fig = fig or _new_figure((size + 0.65) * nrows + 0.6, max(size * ncols, 4.8))
+        fig = fig or _new_figure(height, max(size * ncols, 4.8))
         unit = _unit(results)
         axes = fig.subplots(nrows, ncols, squeeze=False, subplot_kw={"projection": "polar"})
-        def radial_max(mech: Mapping[str, Any]) -> float:
-            """Scale of one mechanism's row: its largest per-shot limit (else p_r), padded."""
+
+        def rings(mech: Mapping[str, Any]) -> np.ndarray:
+            """Ring radii of one mechanism's row: its largest per-shot limit (else p_r)."""
             tops = [_f(sh.get("drawdown_limit")) for st in mech["stages"] for sh in st["shots"]]
             top = max((t for t in tops if np.isfinite(t)), default=0.0)
             if top <= 0.0:
                 top = max((_f(st.get("reservoir_pressure")) for st in mech["stages"]),
                           default=1.0)
-            return 1.1 * float(np.nan_to_num(top, nan=1.0)) or 1.0
+            return _nice_rings(float(np.nan_to_num(top, nan=1.0)))
+
         for m, (key, mech) in enumerate(mechs):
-            rmax = radial_max(mech)
+            ring = rings(mech)
+            rmax = float(ring[-1])
             name = textwrap.wrap(str(mech.get("name", key)), 30)
             for k in range(rows_per * ncols):
                 ax = axes[m * rows_per + k // ncols, k % ncols]
@@ -438,43 +497,56 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
                 st = mech["stages"][k]
                 shots = st["shots"]
                 ang = np.radians(_arr([s["angle"] for s in shots]))
-                prob = _arr([s.get("drawdown_limit") for s in shots])
+                lim = np.nan_to_num(_arr([s.get("drawdown_limit") for s in shots]), nan=0.0)
                 order = np.sort(np.mod(ang, 2 * np.pi))
                 gaps = np.diff(np.concatenate([order, [order[0] + 2 * np.pi]]))
                 width = 0.65 * float(gaps[gaps > 0].min()) if (gaps > 0).any() else 0.8
-                widest = int(np.argmax(gaps))
-                best = _best_shot(st)
+                # a best direction only where the drawn limits differ between directions
+                differ = bool(np.ptp(lim) > 1e-9 * max(rmax, 1.0))
+                best = _best_shot(st) if differ else None
                 is_best = (np.isclose(np.degrees(ang), best) if best is not None
                            else np.zeros(ang.size, bool))
                 colors = [PALETTE[2] if b else PALETTE[0] for b in is_best]
-                ax.bar(ang, np.nan_to_num(prob, nan=0.0), width=width, color=colors,
-                       edgecolor="black", linewidth=0.5, alpha=0.9)
-                if not np.any(np.nan_to_num(prob, nan=0.0) > 0.0):
-                    ax.text(0.5, 0.5, "limit 0 in\nevery direction", transform=ax.transAxes,
-                            ha="center", va="center", fontsize=7,
+                ax.bar(ang, lim, width=width, color=colors, edgecolor="black", linewidth=0.5,
+                       alpha=0.9)
+                if not differ:
+                    text = ("limit 0 in\nevery direction" if not np.any(lim > 0.0) else
+                            f"same limit in\nevery direction:\n{format_value(lim[0], unit)}")
+                    ax.text(0.5, 0.5, text, transform=ax.transAxes, ha="center", va="center",
+                            fontsize=6.5, zorder=6,
                             bbox={"facecolor": "white", "edgecolor": "0.6", "pad": 2.0})
                 ax.set_theta_zero_location("N")
                 ax.set_theta_direction(-1)
-                if best is not None:  # visible even when the best shot's probability is 0
+                if best is not None:  # visible even when the best shot's limit is 0
                     ax.plot([np.radians(best)] * 2, [0.0, rmax], color=PALETTE[2], lw=1.0,
                             ls="--", zorder=4)
                     ax.plot([np.radians(best)], [rmax], marker="o", ms=5, color=PALETTE[2],
                             mec="black", mew=0.5, clip_on=False, zorder=5)
                 ax.set_ylim(0.0, rmax)
-                ax.set_rticks(list(rmax * np.array([0.25, 0.5, 0.75, 1.0])))
-                ax.set_yticklabels(["", format_value(rmax / 2, unit), "",
-                                    format_value(rmax, unit)], fontsize=6.5)
-                ax.set_rlabel_position(float(np.degrees(order[widest] + gaps[widest] / 2)))
+                # a ring labelled inside the dial (an outer-ring label would meet the angle
+                # labels; the title gives the outer ring), in the middle of the widest gap
+                # between bars, on a white ground; none where a note fills the centre
+                ax.set_rticks(list(ring))
+                ax.set_yticklabels([])
+                widest = int(np.argmax(gaps))
+                mid = float(order[widest] + gaps[widest] / 2)
+                # one inner ring labelled (two side by side collide on small dials)
+                inner = ring[:-1][np.argmin(np.abs(ring[:-1] - rmax / 2))]
+                for r in [inner] if differ else []:
+                    ax.text(mid, float(r), format_value(r, unit), fontsize=6, ha="center",
+                            va="center", zorder=6, gid="ring-label",
+                            bbox={"facecolor": "white", "edgecolor": "none", "alpha": 0.8,
+                                  "pad": 0.6})
                 ax.set_xticks(np.radians(np.arange(0, 360, 60)))
                 ax.set_xticklabels([f"{a}°" for a in range(0, 360, 60)], fontsize=7)
                 ax.tick_params(pad=1)
                 head = name if k % ncols == 0 else [""] * len(name)
                 ax.set_title("\n".join(
-                    [*head, f"{PR} = {format_value(st.get('reservoir_pressure'), unit)}"]),
-                    fontsize=8)
+                    [*head, f"{PR} = {format_value(st.get('reservoir_pressure'), unit)}",
+                     f"outer ring {format_value(rmax, unit)}"]), fontsize=7)
         fig.legend(handles=[
             Line2D([], [], color=PALETTE[2], lw=1.0, ls="--", marker="o", mec="black", mew=0.5,
-                   label="best direction"),
+                   label="best direction (where the limits differ)"),
             Patch(facecolor=PALETTE[0], edgecolor="black", label="other shots"),
         ], loc="outside lower center", ncol=2, frameon=False,
             title=f"radius: drawdown limit of tunnels shot in that direction [{unit}]\n"
@@ -498,40 +570,59 @@ def _input_units(results: Mapping[str, Any]) -> dict[str, str]:
     return {str(i["name"]): str(i.get("unit") or "") for i in results.get("inputs") or []}
 
 
+def _rank_value(row: Mapping[str, Any]) -> float:
+    """What ranks an input (as in the memo's tables): the Shapley effect, else the total index,
+    else the first-order index; -1 when the row has none."""
+    for k in ("rank_value", "shapley", "total", "first"):
+        v = _f(row.get(k))
+        if math.isfinite(v):
+            return v
+    return -1.0
+
+
 def plot_sensitivity(results: Mapping[str, Any], *, fig: Figure | None = None) -> Figure | None:
     """Sobol first-order and total indices at the first stage, with their intervals as
-    whiskers, Shapley effects as diamonds; inputs ranked by total index; one panel per mechanism
-    (output: the critical drawdown, for pore collapse the critical reservoir pressure)."""
+    whiskers, Shapley effects as diamonds; one panel per mechanism (output: the critical
+    drawdown, for pore collapse the critical reservoir pressure). Inputs are sorted by their
+    ranking value (Shapley effect, else total, else first-order index; the largest over the
+    mechanisms), largest on top; a series none of whose values exists is neither drawn nor in
+    the legend."""
     sens = {k: v for k, v in (results.get("sensitivity") or {}).items() if v}
     if not sens:
         return None
     with _styled():
         n = len(sens)
-        # one shared input axis, ranked by the largest total index over the mechanisms
+        # one shared input axis, ranked by the largest ranking value over the mechanisms
         best: dict[str, float] = {}
         for rows in sens.values():
             for r in rows:
                 name = str(r["input"])
-                best[name] = max(best.get(name, -1.0), float(np.nan_to_num(_f(r.get("total")))))
+                best[name] = max(best.get(name, -1.0), _rank_value(r))
         order = sorted(best, key=lambda k: -best[k])
         y = np.arange(len(order))
-        fig = fig or _new_figure(len(order) * 0.34 + 1.6)
+        fig = fig or _new_figure(min(len(order) * 0.34 + 1.6, MAX_HEIGHT))
         axes = fig.subplots(1, n, sharey=True, squeeze=False)[0]
-        h = 0.38
+        present = [(field, color, label) for field, color, label in
+                   (("first", PALETTE[0], "first order"), ("total", PALETTE[1], "total"))
+                   if any(r.get(field) is not None for rows in sens.values() for r in rows)]
+        h = 0.76 / max(len(present), 1)
+        handles: dict[str, Any] = {}
         for ax, (key, rows) in zip(axes, sens.items(), strict=True):
             by = {str(r["input"]): r for r in rows}
-            for off, field, color, label in ((-h / 2, "first", PALETTE[0], "first order"),
-                                              (h / 2, "total", PALETTE[1], "total")):
+            for j, (field, color, label) in enumerate(present):
+                off = (j - (len(present) - 1) / 2) * h
                 v = np.nan_to_num(_arr([by.get(k, {}).get(field) for k in order]), nan=0.0)
                 lo = _arr([by.get(k, {}).get(f"{field}_low") for k in order])
                 hi = _arr([by.get(k, {}).get(f"{field}_high") for k in order])
                 err = np.vstack([np.nan_to_num(np.maximum(v - lo, 0.0), nan=0.0),
                                  np.nan_to_num(np.maximum(hi - v, 0.0), nan=0.0)])
-                ax.barh(y + off, v, height=h, color=color, label=label,
-                        xerr=err, error_kw={"elinewidth": 0.9, "capsize": 2, "ecolor": "0.2"})
+                handles[label] = ax.barh(
+                    y + off, v, height=h, color=color, label=label, xerr=err,
+                    error_kw={"elinewidth": 0.9, "capsize": 2, "ecolor": "0.2"})
             sh = _arr([by.get(k, {}).get("shapley") for k in order])
             if np.isfinite(sh).any():
-                ax.plot(sh, y, "D", color="black", ms=3.5, ls="none", label="Shapley effect")
+                handles["Shapley effect"] = ax.plot(sh, y, "D", color="black", ms=3.5,
+                                                    ls="none", label="Shapley effect")[0]
             ax.set_xlim(0.0, 1.0)
             ax.set_xlabel(f"Sobol index of the\n{output_name(key)} [-]")
             ax.set_title(textwrap.fill(_mech_name(results, key), 26 if n > 2 else 40))
@@ -539,15 +630,33 @@ def plot_sensitivity(results: Mapping[str, Any], *, fig: Figure | None = None) -
         axes[0].set_yticks(y)
         axes[0].set_yticklabels([input_label(k) for k in order])
         axes[0].invert_yaxis()
-        handles, labels = axes[0].get_legend_handles_labels()
-        fig.legend(handles, labels, loc="outside lower center", ncol=3, frameon=False)
+        fig.legend(list(handles.values()), list(handles), loc="outside lower center",
+                   ncol=3, frameon=False)
     return fig
+
+
+def _tornado_cap(results: Mapping[str, Any], key: str) -> float:
+    """The cap of a tornado's output [pressure unit]: the first stage's reservoir pressure
+    (critical drawdowns are capped at it; for pore collapse the critical reservoir pressure is
+    at most the initial pressure)."""
+    stages = ((results.get("mechanisms") or {}).get(key) or {}).get("stages") or []
+    if not stages:
+        stages = next((m["stages"] for _k, m in _drawdown_mechanisms(results)), [])
+    return _f(stages[0].get("reservoir_pressure")) if stages else math.nan
+
+
+#: At most this many inputs a tornado panel (the largest swings; the memo's table lists all).
+TORNADO_ROWS: Final = 8
 
 
 def plot_tornado(results: Mapping[str, Any], *, fig: Figure | None = None) -> Figure | None:
     """Tornado chart: the output (critical drawdown; for pore collapse the critical reservoir
     pressure) with one input at a time moved to its P10 and P90 (the others at their base
-    values), largest swing on top; one panel per mechanism."""
+    values), largest swing on top; one panel per mechanism, two panels a row. Only inputs that
+    visibly move the output (a swing of at least 0.5% of the largest) are drawn, at most
+    :data:`TORNADO_ROWS`; the others are named under the panel. The axis ends at the reservoir
+    pressure the output is capped at; a bar that reaches the cap is hatched and marked with an
+    arrow (the true value lies beyond)."""
     torn = {k: v for k, v in (results.get("tornado") or {}).items() if v and v.get("rows")}
     if not torn:
         return None
@@ -555,40 +664,88 @@ def plot_tornado(results: Mapping[str, Any], *, fig: Figure | None = None) -> Fi
         unit = _unit(results)
         units = _input_units(results)
         n = len(torn)
-        heights = [len(v["rows"]) * 0.36 + 0.9 for v in torn.values()]
-        fig = fig or _new_figure(sum(heights) + 0.3)
-        axes = fig.subplots(n, 1, squeeze=False, gridspec_kw={"height_ratios": heights})
-        for i, (key, t) in enumerate(torn.items()):
+        ncols = 1 if n == 1 else 2
+
+        def swing(r: Mapping[str, Any]) -> float:
+            a, b = _f(r.get("output_low")), _f(r.get("output_high"))
+            return float(np.nan_to_num(abs(a - b), nan=math.inf))
+
+        shown: dict[str, list[Mapping[str, Any]]] = {}
+        hidden: dict[str, list[Mapping[str, Any]]] = {}
+        for key, t in torn.items():
+            rows = sorted(t["rows"], key=lambda r: -swing(r))
+            top = swing(rows[0]) if rows else 0.0  # a swing below 0.5% of it cannot be seen
+            moving = [r for r in rows if swing(r) > 0.0 and swing(r) >= 0.005 * top]
+            shown[key] = moving[:TORNADO_ROWS]
+            hidden[key] = [r for r in rows if r not in shown[key]]
+        keys = list(torn)
+        grid_rows = [keys[i:i + ncols] for i in range(0, n, ncols)]
+        heights = [max(len(shown[k]) for k in row) * 0.36 + 1.5 for row in grid_rows]
+        fig = fig or _new_figure(min(sum(heights) + 0.35, MAX_HEIGHT))
+        axes = fig.subplots(len(grid_rows), ncols, squeeze=False,
+                            gridspec_kw={"height_ratios": heights})
+        engine = fig.get_layout_engine()
+        if isinstance(engine, ConstrainedLayoutEngine):
+            engine.set(w_pad=0.1)  # [in] room for the ▶ marks at the cap
+        capped_any = False
+        for i, key in enumerate(keys):
+            t = torn[key]
             ax = axes.flat[i]
             base = _f(t.get("base"))
-
-            def swing(r: Mapping[str, Any]) -> float:
-                a, b = _f(r.get("output_low")), _f(r.get("output_high"))
-                return float(np.nan_to_num(abs(a - b), nan=math.inf))
-
-            rows = sorted(t["rows"], key=lambda r: -swing(r))
+            cap = _tornado_cap(results, key)
+            rows = shown[key]
             y = np.arange(len(rows))
             for field, color, label in (("output_low", PALETTE[0], "input at its P10"),
                                         ("output_high", PALETTE[1], "input at its P90")):
                 out = _arr([r.get(field) for r in rows])
-                ax.barh(y, np.nan_to_num(out - base, nan=0.0), left=base, height=0.6,
-                        color=color, alpha=0.9, label=label, edgecolor="white", linewidth=0.5)
+                at_cap = np.isfinite(out) & (out >= cap * (1.0 - 1e-9)) if math.isfinite(
+                    cap) else np.zeros(out.size, bool)
+                bars = ax.barh(y, np.nan_to_num(out - base, nan=0.0), left=base, height=0.6,
+                               color=color, alpha=0.9, label=label, edgecolor="white",
+                               linewidth=0.5)
+                for bar, capped in zip(bars, at_cap, strict=True):
+                    if capped:
+                        bar.set_hatch("////")
+                if at_cap.any():
+                    capped_any = True
+                    ax.plot(np.full(int(at_cap.sum()), cap), y[at_cap], marker=">", ms=6,
+                            ls="none", color="black", clip_on=False, zorder=6)
             ax.axvline(base, color="black", lw=1.0)
             labels = []
             for r in rows:
                 u = str(r.get("unit") or units.get(str(r["input"]), ""))
-                labels.append(f"{input_label(str(r['input']))}\n"
-                              f"{format_value(r.get('low_value'), u, none='?')} / "
-                              f"{format_value(r.get('high_value'), u, none='?')}")
+                lo = format_value(r.get("low_value"), "", none="?")
+                hi = format_value(r.get("high_value"), "", none="?")
+                values = f"{lo} / {hi}" + (f" {u}" if u and u != "-" else "")
+                labels.append(f"{input_label(str(r['input']))}\n{values}")
             ax.set_yticks(y)
-            ax.set_yticklabels(labels, fontsize=7)
+            ax.set_yticklabels(labels, fontsize=6.5)
             ax.invert_yaxis()
-            ax.set_xlabel(f"{output_name(key)} [{unit}] (base {format_value(base, unit)})")
-            ax.set_title(textwrap.fill(_mech_name(results, key), 45))
+            if not rows:
+                ax.set_yticks([])
+                ax.text(0.5, 0.5, f"no input moves the output\n(all at {format_value(base, unit)})",
+                        transform=ax.transAxes, ha="center", va="center", fontsize=7)
+            if math.isfinite(cap) and cap > 0.0:
+                left = max(0.0, min(ax.get_xlim()[0], base))
+                ax.set_xlim(left if left < cap else 0.0, cap)
+            xlabel = (f"{output_name(key)} [{unit}]\n(base {format_value(base, unit)}; "
+                      f"axis ends at {PR} = {format_value(cap, unit)})")
+            if hidden[key] and rows:
+                names = ", ".join(input_label(str(r["input"])) for r in hidden[key])
+                xlabel += "\n" + textwrap.fill(f"not drawn (smaller or no effect): {names}",
+                                                 44 if ncols > 1 else 100)
+            ax.set_xlabel(xlabel, fontsize=7)
+            ax.set_title(textwrap.fill(_mech_name(results, key), 34 if ncols > 1 else 60))
+            ax.xaxis.set_major_locator(mpl.ticker.MaxNLocator(4))
             _thousands(ax.xaxis)
             ax.grid(axis="y", visible=False)
-            if i == 0:
-                ax.legend(loc="best", frameon=True)
+        _hide_unused(axes, n)
+        handles = [Patch(facecolor=PALETTE[0], label="input at its P10"),
+                   Patch(facecolor=PALETTE[1], label="input at its P90")]
+        if capped_any:
+            handles.append(Patch(facecolor="white", edgecolor="0.2", hatch="////",
+                                 label=f"reaches the cap {PR} (▶: the value lies beyond)"))
+        fig.legend(handles=handles, loc="outside lower center", ncol=3, frameon=False)
     return fig
 
 
@@ -668,27 +825,34 @@ def plot_input_correlation(results: Mapping[str, Any], *, ax: Axes | None = None
 def plot_tunnel_collapse(results: Mapping[str, Any], *, fig: Figure | None = None
                          ) -> Figure | None:
     """Tunnel collapse: plastic radius ratio R_p/a [-] and wall plastic strain [%] vs drawdown,
-    median lines with P10-P90 bands, one colour per depletion stage."""
+    median lines with P10-P90 bands, one colour per depletion stage. Bands are light and carry
+    their own dotted edges so that overlapping bands stay readable; the legend sits below the
+    panels, off the data."""
     profile = ((results.get("mechanisms") or {}).get("tunnel_collapse") or {}).get("profile")
     if not profile:
         return None
     with _styled():
         unit = _unit(results)
-        fig = fig or _new_figure(3.0)
+        fig = fig or _new_figure(3.4)
         ax_r, ax_e = fig.subplots(1, 2, sharex=True)
+        handles: list[Any] = []
         colors = [tuple(c) for c in sns.color_palette("colorblind", len(profile))]
         for c, st in zip(colors, profile, strict=True):
             d = _arr(st["drawdown"])
-            label = f"{PR} = {format_value(st.get('reservoir_pressure'), unit)}"
+            label = f"median, {PR} = {format_value(st.get('reservoir_pressure'), unit)}"
             for ax, field, scale in ((ax_r, "plastic_radius_ratio", 1.0),
                                      (ax_e, "wall_plastic_strain", 100.0)):
                 q = st.get(field) or {}
                 if "p50" not in q:
                     continue
                 if "p10" in q and "p90" in q:
-                    ax.fill_between(d, _arr(q["p10"]) * scale, _arr(q["p90"]) * scale,
-                                    color=c, alpha=0.2, linewidth=0)
-                ax.plot(d, _arr(q["p50"]) * scale, color=c, lw=1.5, label=label)
+                    lo, hi = _arr(q["p10"]) * scale, _arr(q["p90"]) * scale
+                    ax.fill_between(d, lo, hi, color=c, alpha=0.08, linewidth=0)
+                    for edge in (lo, hi):
+                        ax.plot(d, edge, color=c, lw=0.8, ls=":")
+                (line,) = ax.plot(d, _arr(q["p50"]) * scale, color=c, lw=1.6, label=label)
+                if ax is ax_r:
+                    handles.append(line)
         ax_r.set_ylabel(r"plastic radius ratio $R_p/a$ [-]")
         ax_e.set_ylabel("wall plastic strain [%]")
         for ax in (ax_r, ax_e):
@@ -696,7 +860,10 @@ def plot_tunnel_collapse(results: Mapping[str, Any], *, fig: Figure | None = Non
             ax.set_xlim(left=0.0)
         ax_r.set_ylim(bottom=1.0)
         ax_e.set_ylim(bottom=0.0)
-        ax_r.legend(loc="upper left", frameon=True, title="median, band P10–P90")
+        handles.append(Line2D([], [], color="0.3", lw=0.8, ls=":",
+                              label="P10 and P90 (shaded between)"))
+        fig.legend(handles=handles, loc="outside lower center", frameon=False,
+                   ncol=min(len(handles), 3))
     return fig
 
 
@@ -732,7 +899,7 @@ def plot_pore_collapse(results: Mapping[str, Any], *, ax: Axes | None = None) ->
                             textcoords="offset points", fontsize=7, color="0.25")
         ax.plot([], [], color="0.35", ls="-", lw=0.9,
                 label="critical reservoir pressure\n(P10, P50, P90)")
-        ax.set_ylim(0.0, 1.0)
+        ax.set_ylim(*_P_LIMITS)
         ax.set_xlabel(f"reservoir pressure {PR} [{unit}]")
         ax.set_ylabel("probability of pore collapse [-]")
         ax.set_title(str(pc.get("name", "pore collapse")))

@@ -64,14 +64,16 @@ CAPTIONS: Final[dict[str, str]] = {
     "envelope": (
         "Operating envelope over depletion: the critical flowing wall pressure (below it, that "
         "share of samples fails) vs reservoir pressure. Shading gives the share of samples "
-        "failing; the straight line is zero drawdown."),
+        "failing; the straight line is zero drawdown; the labelled dashed line is the accepted "
+        "risk (reservoir pressure minus the drawdown limit)."),
     "shot_directions": (
         "Risk per perforation direction: the drawdown limit at the accepted risk of tunnels shot "
-        "in each direction (longer is better); the best direction is highlighted. Angles are "
-        "measured from the high side of the well (vertical well: from the azimuth reference)."),
+        "in each direction (longer is better); the best direction is highlighted where the "
+        "limits differ between directions. Angles are measured from the high side of the well "
+        "(vertical well: from the azimuth reference)."),
     "tunnel_collapse": (
         "Tunnel collapse: plastic radius ratio and wall plastic strain vs drawdown, median "
-        "with the P10-P90 band, per depletion stage."),
+        "(solid) with the P10-P90 band (dotted edges), per depletion stage."),
     "pore_collapse": (
         "Pore collapse: probability vs reservoir pressure with its 95% band and the P10, P50 and "
         "P90 critical reservoir pressures."),
@@ -85,7 +87,10 @@ CAPTIONS: Final[dict[str, str]] = {
     "tornado": (
         "Tornado chart: the critical drawdown (pore collapse: the critical reservoir pressure) "
         "when one input at a time is moved to its P10 or P90 value, the others held at their "
-        "base values."),
+        "base values. The axis ends at the first stage's reservoir pressure, where the outputs "
+        "are capped: a hatched bar with an arrow reaches the cap (no failure within the "
+        "available drawdown). Inputs that barely move the output are named under each panel; "
+        "the table lists every input."),
 }
 
 _SHOT_STAGES: Final = 3  # depletion stages per per-shot table (keeps it within the page)
@@ -509,11 +514,15 @@ def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
         ("completion", str(results.get("completion") or "–")),
         ("failure criterion", str(results.get("criterion") or "–")),
     ]
+    mechs = _drawdown_mechanisms(results)
     well = results.get("well")
     if isinstance(well, Mapping):
         for k, v in well.items():
-            settings.append((k.replace("_", " "), str(v)))
-    mechs = _drawdown_mechanisms(results)
+            label, text = _setting(str(k), v)
+            # the stages and shot angles get their own rows below (formatted per value)
+            if mechs and label in ("reservoir pressure stages", "shot angles"):
+                continue
+            settings.append((label, text))
     if mechs:
         stages = [s.get("reservoir_pressure") for s in mechs[0][1]["stages"]]
         settings.append(("reservoir pressure stages",
@@ -539,9 +548,9 @@ def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
         for item in inputs:
             unit = str(item.get("unit") or "-")
             by_section.setdefault(str(item.get("section") or "other"), []).append({
-                "label": input_label(str(item["name"])), "name": str(item["name"]),
+                "label": _unbroken(input_label(str(item["name"]))), "name": str(item["name"]),
                 "description": str(item.get("description") or ""),
-                "unit": unit, "distribution": str(item.get("distribution") or ""),
+                "unit": unit, "distribution": _distribution(item.get("distribution")),
                 "p10": format_value(item.get("p10"), unit, none="–"),
                 "p50": format_value(item.get("p50"), unit, none="–"),
                 "p90": format_value(item.get("p90"), unit, none="–"),
@@ -558,6 +567,45 @@ def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
         "uncertain": [input_label(str(n)) for n in results.get("uncertain_inputs") or []],
         "log_based": log_based,
     }
+
+
+_KEY_UNIT: Final = re.compile(r"^(?P<label>.*?)\s*\[(?P<unit>[^\]]+)\]$")
+_NUMBER: Final = re.compile(r"^-?\d+(\.\d+)?([eE][-+]?\d+)?$")
+
+
+def _setting(key: str, value: Any) -> tuple[str, str]:
+    """A ``well`` entry for the settings table: ``("true vertical depth [ft]", 7850.0)`` ->
+    ``("true vertical depth", "7,850 ft")``; a list of numbers in text is formatted number by
+    number; anything else is shown as it is."""
+    key = key.replace("_", " ")
+    m = _KEY_UNIT.match(key)
+    if m is None:
+        return key, str(value)
+    label, unit = m.group("label"), m.group("unit")
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        return label, format_value(float(value), unit)
+    parts = [p.strip() for p in str(value).split(",")]
+    if parts and all(_NUMBER.match(p) for p in parts):
+        return label, ", ".join(format_value(float(p), unit) for p in parts)
+    return key, str(value)
+
+
+_BIG_INTEGER: Final = re.compile(r"(?<![\d.,])(\d{4,})(?![\d.,]?\d)")
+_NUMBER_UNIT: Final = re.compile(r"(\d) (?=[A-Za-z%°][^\s,()]*)")
+
+
+def _distribution(text: Any) -> str:
+    """A distribution as written in results.json, for people: integers of four or more digits
+    with thousands separators (``median 2600 psi`` -> ``median 2,600 psi``), and no line break
+    inside a unit (``psi/ft``) or between a number and its unit (word joiner U+2060 after a
+    slash, no-break space)."""
+    return _unbroken(_BIG_INTEGER.sub(lambda m: f"{int(m.group(1)):,}", str(text or "")))
+
+
+def _unbroken(text: str) -> str:
+    """No line break between a number and its unit (no-break space) nor after the slash of a
+    unit or ratio such as psi/ft or dSh/dPp (word joiner U+2060)."""
+    return re.sub(r"(?<=\w)/(?=\w)", "/\u2060", _NUMBER_UNIT.sub("\\1\u00a0", text))
 
 
 def _mechanism_sections(results: Mapping[str, Any]) -> list[dict[str, Any]]:

@@ -3,6 +3,7 @@ each figure set and memo is built once)."""
 
 from __future__ import annotations
 
+from pathlib import Path
 from typing import Any
 
 import pytest
@@ -41,3 +42,21 @@ def perforated_memo(perforated: dict[str, Any],
                     perforated_figures: dict[str, bytes]) -> memo.Memo:
     html = memo.render_html(perforated, perforated_figures)
     return memo.Memo(html=html, pdf=memo.render_pdf(html), figures=perforated_figures)
+
+
+EXAMPLES = sorted((Path(__file__).resolve().parents[2] / "examples").glob("*.toml"))
+
+
+@pytest.fixture(scope="session")
+def example_runs(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
+    """Every shipped example run as ``risk run`` does (256 samples, to keep it quick), by file
+    stem: the output folder with its memo.html and memo.pdf."""
+    from risk.api import run_scenario
+
+    out = {}
+    for path in EXAMPLES:
+        folder = tmp_path_factory.mktemp(path.stem) / "out"
+        run_scenario(path, out=folder, samples=256)
+        out[path.stem] = folder
+    assert out, "no example scenario found"
+    return out

@@ -3,6 +3,7 @@ byte-identical re-rendering."""
 
 from __future__ import annotations
 
+import copy
 import io
 import math
 import re
@@ -11,6 +12,7 @@ from typing import Any
 import matplotlib.image as mpimg
 import numpy as np
 import pytest
+from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
 from matplotlib.projections.polar import PolarAxes
 
@@ -161,3 +163,146 @@ def test_format_value():
 def test_input_label():
     assert figures.input_label("ucs") == "UCS"
     assert figures.input_label("some_new_input") == "some new input"
+
+
+# --------------------------------------------------------------------------- issue 12 defects
+
+def test_every_figure_fits_a_page(perforated, openhole):
+    # derived: MAX_HEIGHT leaves room for the caption on the printable A4 area (memo.css)
+    for results in (perforated, openhole):
+        for name, plot in figures.FIGURES.items():
+            drawn = plot(results)
+            if drawn is not None:
+                w, h = _figure(drawn).get_size_inches()
+                assert h <= figures.MAX_HEIGHT + 1e-9 and w <= figures.PAGE_WIDTH, name
+
+
+def test_probability_axes_show_a_curve_at_one(perforated):
+    # derived: a curve at P = 1 drawn on the frame's edge is hidden under it
+    for name in ("failure_probability", "pore_collapse"):
+        fig = _figure(figures.FIGURES[name](perforated))
+        for ax in fig.axes:
+            if ax.get_visible() and "probability" in ax.get_ylabel():
+                lo, hi = ax.get_ylim()
+                assert lo < 0.0 and hi > 1.0, name
+
+
+def _equal_limits(results: dict[str, Any], value: float) -> dict[str, Any]:
+    """Every shot of every stage with the same drawdown limit; the stated best shot kept."""
+    out = copy.deepcopy(results)
+    for mech in out["mechanisms"].values():
+        for st in mech.get("stages") or []:
+            for sh in st.get("shots") or []:
+                sh["drawdown_limit"] = value
+    return out
+
+
+@pytest.mark.parametrize("value", [0.0, 100.0])
+def test_no_best_direction_where_no_direction_differs(perforated, value):
+    fig = figures.plot_shot_directions(_equal_limits(perforated, value))
+    assert fig is not None
+    best = figures.PALETTE[2]
+    for ax in fig.axes:
+        if not isinstance(ax, PolarAxes) or not ax.get_visible():
+            continue
+        assert not any(np.allclose(b.get_facecolor()[:3], best) for b in ax.patches)
+        assert not any(ln.get_color() == best for ln in ax.get_lines())
+        assert any("every direction" in t.get_text() for t in ax.texts)
+
+
+def _renderer(fig: Figure) -> Any:
+    """The figure laid out and drawn (as when saved), and its renderer."""
+    canvas = FigureCanvasAgg(fig)
+    with figures._styled():
+        canvas.draw()
+    return canvas.get_renderer()
+
+
+def _extents(fig: Figure, texts: list[Any]) -> list[Any]:
+    renderer = _renderer(fig)
+    return [t.get_window_extent(renderer) for t in texts
+            if t.get_visible() and t.get_text().strip()]
+
+
+def test_polar_labels_do_not_overlap(perforated):
+    # derived: labels whose boxes intersect print over each other
+    fig = figures.plot_shot_directions(perforated)
+    assert fig is not None
+    for ax in fig.axes:
+        if not isinstance(ax, PolarAxes) or not ax.get_visible():
+            continue
+        boxes = _extents(fig, [*ax.get_xticklabels(), *ax.get_yticklabels(),
+                               *[t for t in ax.texts if t.get_gid() == "ring-label"]])
+        for i, a in enumerate(boxes):
+            for b in boxes[i + 1:]:
+                assert not a.overlaps(b), (a, b)
+
+
+def test_tunnel_collapse_legend_off_the_data(perforated):
+    fig = figures.plot_tunnel_collapse(perforated)
+    assert fig is not None
+    renderer = _renderer(fig)
+    legends = fig.legends + [ax.get_legend() for ax in fig.axes if ax.get_legend()]
+    assert legends
+    for leg in legends:
+        box = leg.get_window_extent(renderer)
+        for ax in fig.axes:
+            assert not box.overlaps(ax.get_window_extent(renderer))
+    # bands light enough to see the others through (derived: 5 stacked bands at 0.2 hide)
+    for ax in fig.axes:
+        for c in ax.collections:
+            assert c.get_alpha() is not None and c.get_alpha() <= 0.1
+
+
+def test_envelope_draws_the_accepted_risk_contour(perforated):
+    results = copy.deepcopy(perforated)
+    results["accepted_risk"] = 0.07  # not one of the 1/5/10/25/50/75/90% quantiles
+    fig = figures.plot_envelope(results)
+    assert fig is not None
+    lines = [ln for ax in fig.axes for ln in ax.get_lines()
+             if ln.get_label().startswith("accepted risk 0.07")]
+    assert lines
+    stages = sorted(results["mechanisms"]["yield_onset"]["stages"],
+                    key=lambda s: s["reservoir_pressure"])
+    # derived: the contour at the accepted risk is p_wf = p_r - drawdown limit
+    want = [max(s["reservoir_pressure"] - s["drawdown_limit"], 0.0)
+            if s["drawdown_limit"] is not None else 0.0
+            for s in stages]
+    np.testing.assert_allclose(lines[0].get_ydata(), want)
+    assert any(t.get_text() == "accepted risk 0.07" for ax in fig.axes for t in ax.texts)
+
+
+def test_sensitivity_sorted_and_legend_only_for_drawn_series(perforated):
+    results = copy.deepcopy(perforated)
+    for rows in results["sensitivity"].values():
+        for r in rows:  # given-data indices: first order only, no total, no Shapley
+            r.update(total=None, total_low=None, total_high=None, shapley=None)
+            r.pop("rank_value", None)
+    fig = figures.plot_sensitivity(results)
+    assert fig is not None
+    labels = [t.get_text() for leg in fig.legends for t in leg.get_texts()]
+    assert labels == ["first order"]
+    shown = [t.get_text() for t in fig.axes[0].get_yticklabels()]
+    best: dict[str, float] = {}
+    for rows in results["sensitivity"].values():
+        for r in rows:
+            best[figures.input_label(r["input"])] = max(
+                best.get(figures.input_label(r["input"]), -1.0), r["first"])
+    assert shown == sorted(best, key=lambda k: -best[k])  # largest on top (axis inverted)
+
+
+def test_tornado_axis_ends_at_the_cap_and_marks_capped_bars(perforated):
+    results = copy.deepcopy(perforated)
+    key = "yield_onset"
+    p_r = results["mechanisms"][key]["stages"][0]["reservoir_pressure"]
+    row = results["tornado"][key]["rows"][0]
+    row["output_high"] = p_r  # the capped outcome: no failure within the drawdown
+    row["output_low"] = 0.5 * results["tornado"][key]["base"]
+    fig = figures.plot_tornado(results)
+    assert fig is not None
+    ax = [a for a in fig.axes if a.get_title().startswith(
+        results["mechanisms"][key]["name"][:20])][0]
+    assert ax.get_xlim()[1] == pytest.approx(p_r)
+    assert any(b.get_hatch() for b in ax.patches)
+    arrows = [ln for ln in ax.get_lines() if ln.get_marker() == ">"]
+    assert arrows and np.allclose(arrows[0].get_xdata(), p_r)

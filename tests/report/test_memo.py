@@ -297,3 +297,24 @@ def test_pdf_refuses_external_resources(tmp_path, perforated_figures):
     linked = memo.render_pdf(f'<html><body><img src="{path.as_uri()}"></body></html>')
     embedded = memo.render_pdf(f'<html><body><img src="{uri}"></body></html>')
     assert len(embedded) - len(linked) > len(png) // 4
+
+
+def test_scenario_settings_once_each_with_units(openhole):
+    """Each setting appears once (the stage row was duplicated), numbers carry their unit and
+    thousands separators and no spurious ".0" (common practice for engineering tables; the
+    depth is the fixture's 7850 ft)."""
+    settings = memo.memo_context(openhole, {})["scenario"]["settings"]
+    labels = [re.sub(r"\s*\[.*\]$", "", k) for k, _ in settings]
+    assert len(labels) == len(set(labels)), labels
+    values = {k: str(v) for k, v in settings}
+    assert values["true vertical depth"] == "7,850 ft"
+    assert values["reservoir pressure stages"] == "3,450 psi, 3,000 psi, 2,500 psi"
+    for k, v in values.items():
+        assert not re.search(r"(?<![\d.])\d+\.0(?!\d)", v), (k, v)
+
+
+def test_distribution_text_keeps_units_whole():
+    # derived: a no-break space ties a number to its unit, a word joiner (U+2060) forbids a
+    # break after the slash of psi/ft (Unicode UAX #14, class WJ)
+    text = memo._distribution("lognormal(median 2600 psi, cov 0.2), normal(mean 0.98 psi/ft)")
+    assert "2,600\u00a0psi" in text and "psi/\u2060ft" in text and "0.2)" in text
