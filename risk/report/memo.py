@@ -298,7 +298,8 @@ def _tied(stage: Mapping[str, Any], key: str) -> str:
     """An angle, or every angle tied with it ("0° / 180°": equal directions tie, always)."""
     group = stage.get(key + "s")
     if group and len(group) > 1:
-        return " / ".join(format_value(v, "deg") for v in group)
+        shown = "/".join(f"{float(v):g}\u00b0" for v in group[:3])
+        return shown + (f" +{len(group) - 3}" if len(group) > 3 else "")
     return format_value(stage.get(key), "deg", none="–")
 
 
