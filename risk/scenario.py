@@ -457,13 +457,18 @@ def _parse_phasings(c: _Collector, w: Mapping[str, Any]) -> tuple[float, ...]:
 
 
 def _table_keys(c: _Collector, table: Mapping[str, Any], key: str, allowed: tuple[str, ...],
-                what: str) -> None:
-    """Refuse every key of an inline ``table`` (named ``key``) not in ``allowed``."""
+                what: str) -> set[str]:
+    """Refuse every key of an inline ``table`` (named ``key``) not in ``allowed``; return the
+    known keys suggested for them (a key missing because it was mistyped is then not
+    reported a second time as missing)."""
+    suggested: set[str] = set()
     for k in table:
         if k not in allowed:
             c.add(f"{key}.{_key_text(k)}", table[k],
                   f"a known key of {what}: {', '.join(allowed)}"
                   f"{_did_you_mean(str(k), allowed)}", found_text=f"unknown key {k!r}")
+            suggested.update(difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6))
+    return suggested
 
 
 def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Marginal],
@@ -477,7 +482,7 @@ def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Mar
     key = "production.reservoir_pressure"
     unit = disp["pressure"]
     before = len(c.problems)
-    _table_keys(c, rule, key, _STAGE_RULE_KEYS, "a depletion-stage rule")
+    typo = _table_keys(c, rule, key, _STAGE_RULE_KEYS, "a depletion-stage rule")
     raw_from = rule.get("from", "initial")
     start: float | None = None  # in the scenario's unit, as end
     start_text = ""
@@ -497,7 +502,7 @@ def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Mar
         if v is not None:
             start = v
             start_text = f"{v:.6g} {unit}"
-    n = c.number(rule, key, "stages", required=True, integer=True,
+    n = c.number(rule, key, "stages", required="stages" not in typo, integer=True,
                  check=lambda v: 2 <= v <= MAX_STAGES,
                  expected=f"a whole number of stages from 2 to {MAX_STAGES} (the first and "
                  "the last stage included)")
@@ -508,8 +513,9 @@ def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Mar
               "(the last stage as a fraction of from)",
               found_text=f"both (to = {rule['to']!r}, to_fraction = {rule['to_fraction']!r})")
     elif not (has_to or has_fraction):
-        c.add(f"{key}.to", None, f"to (the last stage [{unit}]) or to_fraction (the last "
-              "stage as a fraction of from, in (0, 1))", found_text="neither")
+        if not typo & {"to", "to_fraction"}:
+            c.add(f"{key}.to", None, f"to (the last stage [{unit}]) or to_fraction (the last "
+                  "stage as a fraction of from, in (0, 1))", found_text="neither")
     elif has_to:
         v = c.number(rule, key, "to", required=True, check=lambda v: v > 0,
                      expected=f"the last stage, a reservoir pressure > 0 [{unit}] below from")
@@ -540,8 +546,9 @@ def _operating_point(c: _Collector, op: Mapping[str, Any], key: str, units: str
     conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
     unit = disp["pressure"]
     before = len(c.problems)
-    _table_keys(c, op, key, _OPERATING_POINT_KEYS, "an operating point")
-    p_r = c.number(op, key, "reservoir_pressure", required=True, check=lambda v: v >= 0,
+    typo = _table_keys(c, op, key, _OPERATING_POINT_KEYS, "an operating point")
+    p_r = c.number(op, key, "reservoir_pressure", required="reservoir_pressure" not in typo,
+                   check=lambda v: v >= 0,
                    expected=f"the reservoir pressure of the operating point, >= 0 [{unit}]")
     has_dd, has_wall = "drawdown" in op, "wall_pressure" in op
     p_w: float | None = None
@@ -550,8 +557,9 @@ def _operating_point(c: _Collector, op: Mapping[str, Any], key: str, units: str
               found_text=f"both (drawdown = {op['drawdown']!r}, wall_pressure = "
               f"{op['wall_pressure']!r})")
     elif not (has_dd or has_wall):
-        c.add(f"{key}.drawdown", None, f"drawdown (reservoir minus flowing wall pressure) or "
-              f"wall_pressure (the flowing wall pressure) [{unit}]", found_text="neither")
+        if not typo & {"drawdown", "wall_pressure"}:
+            c.add(f"{key}.drawdown", None, "drawdown (reservoir minus flowing wall pressure) "
+                  f"or wall_pressure (the flowing wall pressure) [{unit}]", found_text="neither")
     elif has_dd:
         dd = c.number(op, key, "drawdown", required=True, check=lambda v: v >= 0,
                       expected=f"a drawdown >= 0 and at most the reservoir pressure [{unit}]")
@@ -604,8 +612,11 @@ def _parse_options(c: _Collector, raw: Any, w: Mapping[str, Any], base_ok: bool,
     for i, opt in enumerate(raw):
         key = f"option[{i}]"
         before = len(c.problems)
+        typo: set[str] = set()
         for k in opt:
             if k not in _OPTION_KEYS:
+                typo.update(difflib.get_close_matches(str(k), list(_OPTION_KEYS), n=1,
+                                                      cutoff=0.6))
                 c.add(f"{key}.{_key_text(k)}", opt[k],
                       f"a known key in [[option]]: {', '.join(_OPTION_KEYS)}"
                       f"{_did_you_mean(str(k), _OPTION_KEYS)}"
@@ -616,7 +627,9 @@ def _parse_options(c: _Collector, raw: Any, w: Mapping[str, Any], base_ok: bool,
                          f"{MAX_OPTION_NAME_CHARS} characters, without control characters, "
                          'used by no other option, e.g. name = "big-hole charges"')
         if name is None:
-            c.add(f"{key}.name", None, name_expected, found_text="nothing (the key is missing)")
+            if "name" not in typo:
+                c.add(f"{key}.name", None, name_expected,
+                      found_text="nothing (the key is missing)")
         else:
             bad = text_problem(f"{key}.name", name, max_chars=MAX_OPTION_NAME_CHARS,
                                what="a name for the option")
@@ -648,7 +661,10 @@ def _parse_options(c: _Collector, raw: Any, w: Mapping[str, Any], base_ok: bool,
         completion = _parse_completion(sub, merged, key, units, missing_note=note)
         inherited = set(merged) - set(own)
         for p in sub.problems:
-            if base_ok or p.key.removeprefix(f"{key}.") not in inherited:
+            part = p.key.removeprefix(f"{key}.")
+            if part in typo and p.value is None:
+                continue  # missing because mistyped: the unknown key's message says so
+            if base_ok or part not in inherited:
                 c.problems.append(p)
         if completion is not None and len(c.problems) == before:
             out.append((str(name), completion))
