@@ -443,7 +443,7 @@ def _parse_phasings(c: _Collector, w: Mapping[str, Any]) -> tuple[float, ...]:
     for j, v in enumerate(raw):
         ph = float(v)
         if not _phasing_ok(ph):
-            shots = f"; 360 / {ph:g} = {360.0 / ph:.6g} shots per turn" if 0 < ph <= 180 else ""
+            shots = f" ({360.0 / ph:.6g} shots per turn)" if 0 < ph <= 180 else ""
             c.add(f"well.phasings[{j}]", v, "a gun phasing of 0 (every shot in one direction) "
                   "or in (0, 180] degrees dividing 360 exactly (a whole number of shots per "
                   "turn, e.g. 60, 90, 120, 180)", found_text=f"{v!r}{shots}")
