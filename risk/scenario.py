@@ -15,8 +15,15 @@ terminal or the run): a file of at most :data:`MAX_FILE_BYTES`, a title of at mo
 :data:`MAX_TITLE_CHARS` characters and a source of at most
 :data:`~risk.uncertainty.MAX_SOURCE_CHARS`, both one line without control characters,
 :data:`MAX_SHOTS` shot directions, :data:`MAX_STAGES` depletion stages,
-:data:`MAX_OPERATING_POINTS` operating points, and at most one correlation per pair of uncertain
-inputs.
+:data:`MAX_OPERATING_POINTS` operating points, :data:`MAX_OPTIONS` completion options (names of
+at most :data:`MAX_OPTION_NAME_CHARS` characters), :data:`MAX_PHASINGS` gun phasings, and at
+most one correlation per pair of uncertain inputs.
+
+Completion options (``[[option]]``: the ``[well]`` table with some of :data:`COMPLETION_KEYS`
+replaced), candidate gun phasings (``[well] phasings``), depletion stages by rule
+(``reservoir_pressure = { from = "initial", to = ..., stages = N }``) and operating points by
+drawdown (``{ reservoir_pressure = ..., drawdown = ... }``) are described in README "Scenario
+files"; a rule is expanded here, so the scenario holds the stages as a list would.
 
 Inputs that are given but unused by the chosen options, and stages that look mistyped, are
 accepted with a warning (:attr:`Scenario.warnings`), which the console, results.json and the
