@@ -15,8 +15,15 @@ terminal or the run): a file of at most :data:`MAX_FILE_BYTES`, a title of at mo
 :data:`MAX_TITLE_CHARS` characters and a source of at most
 :data:`~risk.uncertainty.MAX_SOURCE_CHARS`, both one line without control characters,
 :data:`MAX_SHOTS` shot directions, :data:`MAX_STAGES` depletion stages,
-:data:`MAX_OPERATING_POINTS` operating points, and at most one correlation per pair of uncertain
-inputs.
+:data:`MAX_OPERATING_POINTS` operating points, :data:`MAX_OPTIONS` completion options (names of
+at most :data:`MAX_OPTION_NAME_CHARS` characters), :data:`MAX_PHASINGS` gun phasings, and at
+most one correlation per pair of uncertain inputs.
+
+Completion options (``[[option]]``: the ``[well]`` table with some of :data:`COMPLETION_KEYS`
+replaced), candidate gun phasings (``[well] phasings``), depletion stages by rule
+(``reservoir_pressure = { from = "initial", to = ..., stages = N }``) and operating points by
+drawdown (``{ reservoir_pressure = ..., drawdown = ... }``) are described in README "Scenario
+files"; a rule is expanded here, so the scenario holds the stages as a list would.
 
 Inputs that are given but unused by the chosen options, and stages that look mistyped, are
 accepted with a warning (:attr:`Scenario.warnings`), which the console, results.json and the
@@ -25,6 +32,7 @@ memo repeat.
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import hashlib
 import math
@@ -51,6 +59,7 @@ __all__ = [
     "InputSpec",
     "INPUTS",
     "Well",
+    "CompletionOption",
     "Scenario",
     "load_scenario",
     "parse_scenario",
@@ -60,6 +69,11 @@ __all__ = [
     "MAX_SHOTS",
     "MAX_STAGES",
     "MAX_OPERATING_POINTS",
+    "MAX_OPTIONS",
+    "MAX_OPTION_NAME_CHARS",
+    "MAX_PHASINGS",
+    "DEFAULT_PHASINGS",
+    "COMPLETION_KEYS",
     "PAIR_TAIL",
     "STAGE_ABOVE_PP",
     "SAMPLING_RULES",
@@ -74,6 +88,24 @@ MAX_TITLE_CHARS: Final = 200
 MAX_SHOTS: Final = 36
 MAX_STAGES: Final = 50
 MAX_OPERATING_POINTS: Final = 1_000
+#: Most completion options ([[option]] tables) and gun phasings of one scenario, and the
+#: longest option name [characters].
+MAX_OPTIONS: Final = 12
+MAX_PHASINGS: Final = 10
+MAX_OPTION_NAME_CHARS: Final = 80
+#: Gun phasings compared when [well] gives none [deg] (0 = every shot in one direction); the
+#: same as risk.decision.COMMON_PHASINGS (a test keeps them equal).
+DEFAULT_PHASINGS: Final = (0.0, 60.0, 90.0, 120.0, 180.0)
+#: A phasing p divides 360 when |round(360/p) p - 360| is at most this [deg] (the tolerance
+#: within which risk.decision takes two shot directions to be the same).
+PHASING_TOL: Final = 1e-6
+#: The keys of [well] an [[option]] may replace.
+COMPLETION_KEYS: Final = ("completion", "shot_angles", "tunnel_diameter", "hole_diameter")
+_OPTION_KEYS: Final = ("name", *COMPLETION_KEYS)
+#: Keys of a depletion-stage rule (production.reservoir_pressure as a table) and of an
+#: operating point given as a table.
+_STAGE_RULE_KEYS: Final = ("from", "to", "to_fraction", "stages")
+_OPERATING_POINT_KEYS: Final = ("reservoir_pressure", "drawdown", "wall_pressure")
 #: Per-sample probability below which two uncertain inputs are taken never to break a rule
 #: between them (dilation angle <= friction angle): with MAX_SAMPLES samples the chance that
 #: any sample breaks it is then at most 1e7 x 1e-13 = 1e-6 (derived, union bound).
@@ -165,9 +197,10 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
 _SPEC: Final = {s.name: s for s in INPUTS}
 
 _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
-    "": ("title", "units", "well", "stress", "rock", "production", "analysis", "correlation"),
+    "": ("title", "units", "well", "stress", "rock", "production", "analysis", "correlation",
+         "option"),
     "well": ("depth", "inclination", "azimuth", "completion", "shot_angles", "tunnel_diameter",
-             "hole_diameter"),
+             "hole_diameter", "phasings"),
     "stress": tuple(s.name for s in INPUTS if s.section == "stress"),
     "rock": tuple(s.name for s in INPUTS if s.section == "rock"),
     "production": ("reservoir_pressure", "max_drawdown", "accepted_risk", "operating_points",
@@ -196,6 +229,18 @@ class Well:
 
 
 @dataclass(frozen=True)
+class CompletionOption:
+    """One ``[[option]]`` of a scenario: the base well with some completion keys replaced.
+
+    name : the option's name as written (one line, at most :data:`MAX_OPTION_NAME_CHARS`)
+    well : the complete well of the option (geometry of ``[well]``; internal units)
+    """
+
+    name: str
+    well: Well
+
+
+@dataclass(frozen=True)
 class Scenario:
     """A validated scenario in internal units (:mod:`risk.conventions`).
 
@@ -203,6 +248,12 @@ class Scenario:
     ``stress_given`` says for each of sv, shmax, shmin, pp whether the file gave the absolute
     value ("absolute") or the gradient ("gradient"). ``warnings`` holds one text per input that
     is accepted but looks unintended (each starts with its key), in a fixed order.
+
+    ``options`` are the completion options compared with the base well (``[[option]]``, in
+    file order; the base well itself is not one of them). ``phasings`` are the candidate gun
+    phasings [deg] of the life-of-well phasing choice (:data:`DEFAULT_PHASINGS` unless
+    ``[well] phasings`` gives them); they matter for perforated wells only.
+    ``reservoir_pressure`` holds the depletion stages [MPa], a stage rule already expanded.
     """
 
     title: str
@@ -223,6 +274,8 @@ class Scenario:
     source_name: str = ""
     sha256: str = ""
     warnings: tuple[str, ...] = ()
+    options: tuple[CompletionOption, ...] = ()
+    phasings: tuple[float, ...] = DEFAULT_PHASINGS
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property
@@ -303,6 +356,328 @@ def _check_keys(c: _Collector, table: Mapping[str, Any], section: str) -> None:
                   found_text=f"unknown {kind} {key!r}")
 
 
+@dataclass(frozen=True)
+class _Completion:
+    """The completion keys of a well or an option, validated (internal units)."""
+
+    completion: str
+    shot_angles: tuple[float, ...]
+    tunnel_diameter: float | None
+    hole_diameter: float | None
+
+
+def _parse_completion(c: _Collector, w: Mapping[str, Any], prefix: str, units: str,
+                      missing_note: str = "") -> _Completion | None:
+    """``completion``, ``shot_angles``, ``tunnel_diameter`` and ``hole_diameter`` of ``w``, with
+    their problems named ``<prefix>.<key>``; None when any of them is refused. The same rules
+    serve ``[well]`` and every ``[[option]]`` (merged onto ``[well]``). ``missing_note`` is
+    added to the expectation of a missing key (why an option must give it)."""
+    conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
+    before = len(c.problems)
+    completion = w.get("completion")
+    if not isinstance(completion, str) or completion not in COMPLETIONS:
+        c.add(f"{prefix}.completion", completion, 'completion = "perforated" or "openhole"'
+              + (_did_you_mean(completion, list(COMPLETIONS))
+                 if isinstance(completion, str) else ""),
+              found_text="nothing (the key is missing)" if completion is None else None)
+    shots: tuple[float, ...] = ()
+    tunnel_d = c.number(w, prefix, "tunnel_diameter", required=completion == "perforated",
+                        check=lambda v: v > 0,
+                        expected=f"a perforation tunnel diameter > 0 [{disp['small_length']}]"
+                        + ("" if "tunnel_diameter" in w else missing_note))
+    hole_d = c.number(w, prefix, "hole_diameter", required=False, check=lambda v: v > 0,
+                      expected=f"a hole diameter > 0 [{disp['small_length']}]")
+    if completion == "perforated":
+        raw_shots = w.get("shot_angles")
+        if (not isinstance(raw_shots, list) or not raw_shots
+                or not all(_is_number(a) for a in raw_shots)):
+            c.add(f"{prefix}.shot_angles", raw_shots,
+                  "a non-empty list of shot angles in degrees from the high side, "
+                  "e.g. [0, 60, 120, 180, 240, 300]"
+                  + (missing_note if raw_shots is None else ""),
+                  found_text="nothing (the key is missing)" if raw_shots is None else None)
+        elif len(raw_shots) > MAX_SHOTS:
+            c.add(f"{prefix}.shot_angles", raw_shots, f"at most {MAX_SHOTS} shot directions",
+                  found_text=f"{len(raw_shots):,} directions")
+        else:
+            reduced = [float(a) % 360.0 for a in raw_shots]
+            if len(set(reduced)) != len(reduced):
+                c.add(f"{prefix}.shot_angles", raw_shots,
+                      "distinct directions (modulo 360 degrees)")
+            shots = tuple(a * conv["angle"] for a in reduced)
+    if completion == "openhole" and "tunnel_diameter" in w:
+        c.add(f"{prefix}.tunnel_diameter", w["tunnel_diameter"],
+              'no tunnel diameter for completion = "openhole" (use hole_diameter, or set '
+              'completion = "perforated")')
+    if completion == "openhole" and "shot_angles" in w:
+        c.add(f"{prefix}.shot_angles", w["shot_angles"],
+              'no shot angles for completion = "openhole" (remove the key, or set '
+              'completion = "perforated")')
+    if len(c.problems) > before:
+        return None
+    return _Completion(
+        completion=str(completion), shot_angles=shots,
+        tunnel_diameter=None if tunnel_d is None else tunnel_d * conv["small_length"],
+        hole_diameter=None if hole_d is None else hole_d * conv["small_length"])
+
+
+_PHASING_TEXT = ("gun phasings in degrees, each 0 (every shot in one direction) or in (0, 180] "
+                 "dividing 360 exactly (a whole number of shots per turn), e.g. "
+                 "[0, 60, 90, 120, 180]")
+
+
+def _phasing_ok(ph: float) -> bool:
+    """0, or in (0, 180] with a whole number of shots per turn (within PHASING_TOL degrees)."""
+    if ph == 0.0:
+        return True
+    return 0.0 < ph <= 180.0 and abs(round(360.0 / ph) * ph - 360.0) <= PHASING_TOL
+
+
+def _parse_phasings(c: _Collector, w: Mapping[str, Any]) -> tuple[float, ...]:
+    """``[well] phasings`` [deg], or :data:`DEFAULT_PHASINGS` when not given."""
+    if "phasings" not in w:
+        return DEFAULT_PHASINGS
+    raw = w["phasings"]
+    if not isinstance(raw, list) or not raw or not all(_is_number(v) for v in raw):
+        c.add("well.phasings", raw, f"a non-empty list of {_PHASING_TEXT}")
+        return DEFAULT_PHASINGS
+    if len(raw) > MAX_PHASINGS:
+        c.add("well.phasings", raw, f"at most {MAX_PHASINGS} gun phasings",
+              found_text=f"{len(raw):,} phasings")
+        return DEFAULT_PHASINGS
+    out: list[float] = []
+    bad = False
+    for j, v in enumerate(raw):
+        ph = float(v)
+        if not _phasing_ok(ph):
+            shots = f" ({360.0 / ph:.6g} shots per turn)" if 0 < ph <= 180 else ""
+            c.add(f"well.phasings[{j}]", v, "a gun phasing of 0 (every shot in one direction) "
+                  "or in (0, 180] degrees dividing 360 exactly (a whole number of shots per "
+                  "turn, e.g. 60, 90, 120, 180)", found_text=f"{v!r}{shots}")
+            bad = True
+        elif any(abs(ph - o) <= PHASING_TOL for o in out):
+            first = next(k for k, o in enumerate(out) if abs(ph - o) <= PHASING_TOL)
+            c.add(f"well.phasings[{j}]", v, f"distinct phasings (it repeats phasings[{first}])")
+            bad = True
+        out.append(ph)
+    return DEFAULT_PHASINGS if bad else tuple(out)
+
+
+def _table_keys(c: _Collector, table: Mapping[str, Any], key: str, allowed: tuple[str, ...],
+                what: str) -> set[str]:
+    """Refuse every key of an inline ``table`` (named ``key``) not in ``allowed``; return the
+    known keys suggested for them (a key missing because it was mistyped is then not
+    reported a second time as missing)."""
+    suggested: set[str] = set()
+    for k in table:
+        if k not in allowed:
+            c.add(f"{key}.{_key_text(k)}", table[k],
+                  f"a known key of {what}: {', '.join(allowed)}"
+                  f"{_did_you_mean(str(k), allowed)}", found_text=f"unknown key {k!r}")
+            suggested.update(difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6))
+    return suggested
+
+
+def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Marginal],
+                given: Mapping[str, str], depth: float | None, units: str) -> tuple[float, ...]:
+    """Depletion stages by rule [MPa]: ``stages`` equally spaced reservoir pressures from
+    ``from`` (a pressure, or "initial": the initial pore pressure, its median when uncertain;
+    the default) down to ``to`` or ``to_fraction`` x ``from``, both ends included. Empty when
+    the rule is refused, or when its "initial" pore pressure is itself refused (that problem
+    is reported where it is)."""
+    conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
+    key = "production.reservoir_pressure"
+    unit = disp["pressure"]
+    before = len(c.problems)
+    typo = _table_keys(c, rule, key, _STAGE_RULE_KEYS, "a depletion-stage rule")
+    raw_from = rule.get("from", "initial")
+    start: float | None = None  # in the scenario's unit, as end
+    start_text = ""
+    if isinstance(raw_from, str):
+        if raw_from != "initial":
+            c.add(f"{key}.from", raw_from, f'a first stage [{unit}] or "initial" (the initial '
+                  f"pore pressure){_did_you_mean(raw_from, ['initial'])}")
+        elif depth is not None:
+            pp = _central("pp", inputs, given, depth, disp, units)
+            if pp is not None:
+                start = pp[1] / conv["pressure"]
+                start_text = f"the initial pore pressure, {start:.6g} {unit}"
+    else:
+        v = c.number(rule, key, "from", required=False, check=lambda v: v > 0,
+                     expected=f'a first stage > 0 [{unit}] or "initial" (the initial pore '
+                     "pressure)")
+        if v is not None:
+            start = v
+            start_text = f"{v:.6g} {unit}"
+    n = c.number(rule, key, "stages", required="stages" not in typo, integer=True,
+                 check=lambda v: 2 <= v <= MAX_STAGES,
+                 expected=f"a whole number of stages from 2 to {MAX_STAGES} (the first and "
+                 "the last stage included)")
+    has_to, has_fraction = "to" in rule, "to_fraction" in rule
+    end: float | None = None
+    if has_to and has_fraction:
+        c.add(f"{key}.to", rule["to"], "exactly one of to (the last stage) and to_fraction "
+              "(the last stage as a fraction of from)",
+              found_text=f"both (to = {rule['to']!r}, to_fraction = {rule['to_fraction']!r})")
+    elif not (has_to or has_fraction):
+        if not typo & {"to", "to_fraction"}:
+            c.add(f"{key}.to", None, f"to (the last stage [{unit}]) or to_fraction (the last "
+                  "stage as a fraction of from, in (0, 1))", found_text="neither")
+    elif has_to:
+        v = c.number(rule, key, "to", required=True, check=lambda v: v > 0,
+                     expected=f"the last stage, a reservoir pressure > 0 [{unit}] below from")
+        if v is not None:
+            end = v
+            if start is not None and not end < start:
+                c.add(f"{key}.to", v, f"a last stage below from ({start_text}): the stages "
+                      "run down from `from` to `to`", found_text=f"{v:.6g} {unit}")
+                end = None
+    else:
+        f = c.number(rule, key, "to_fraction", required=True, check=lambda v: 0 < v < 1,
+                     expected="the last stage as a fraction of from, in (0, 1), e.g. 0.6")
+        if f is not None and start is not None:
+            end = f * start
+    if len(c.problems) > before or start is None or end is None or n is None:
+        return ()
+    # spaced in the scenario's unit, then converted as a list's stages are (a rule with round
+    # numbers gives exactly the stages of the list it spells out)
+    k = int(n) - 1
+    return tuple(x * conv["pressure"] for x in [start + (end - start) * i / k for i in range(k)]
+                 + [end])
+
+
+def _operating_point(c: _Collector, op: Mapping[str, Any], key: str, units: str
+                     ) -> tuple[float, float] | None:
+    """An operating point given as a table: reservoir_pressure and exactly one of drawdown
+    and wall_pressure -> (reservoir pressure, wall pressure) [MPa], or None when refused."""
+    conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
+    unit = disp["pressure"]
+    before = len(c.problems)
+    typo = _table_keys(c, op, key, _OPERATING_POINT_KEYS, "an operating point")
+    p_r = c.number(op, key, "reservoir_pressure", required="reservoir_pressure" not in typo,
+                   check=lambda v: v >= 0,
+                   expected=f"the reservoir pressure of the operating point, >= 0 [{unit}]")
+    has_dd, has_wall = "drawdown" in op, "wall_pressure" in op
+    p_w: float | None = None
+    if has_dd and has_wall:
+        c.add(f"{key}.drawdown", op["drawdown"], "exactly one of drawdown and wall_pressure",
+              found_text=f"both (drawdown = {op['drawdown']!r}, wall_pressure = "
+              f"{op['wall_pressure']!r})")
+    elif not (has_dd or has_wall):
+        if not typo & {"drawdown", "wall_pressure"}:
+            c.add(f"{key}.drawdown", None, "drawdown (reservoir minus flowing wall pressure) "
+                  f"or wall_pressure (the flowing wall pressure) [{unit}]", found_text="neither")
+    elif has_dd:
+        dd = c.number(op, key, "drawdown", required=True, check=lambda v: v >= 0,
+                      expected=f"a drawdown >= 0 and at most the reservoir pressure [{unit}]")
+        if dd is not None and p_r is not None:
+            if dd > p_r:
+                c.add(f"{key}.drawdown", dd, f"a drawdown at most the reservoir pressure "
+                      f"({p_r:.6g} {unit}): the flowing wall pressure cannot fall below 0",
+                      found_text=f"{dd:.6g} {unit}")
+            else:
+                p_w = p_r - dd
+    else:
+        wall = c.number(op, key, "wall_pressure", required=True, check=lambda v: v >= 0,
+                        expected=f"a flowing wall pressure >= 0 and at most the reservoir "
+                        f"pressure [{unit}]")
+        if wall is not None and p_r is not None:
+            if wall > p_r:
+                c.add(f"{key}.wall_pressure", wall, "a flowing wall pressure at most the "
+                      f"reservoir pressure ({p_r:.6g} {unit})", found_text=f"{wall:.6g} {unit}")
+            else:
+                p_w = wall
+    if len(c.problems) > before or p_r is None or p_w is None:
+        return None
+    return p_r * conv["pressure"], p_w * conv["pressure"]
+
+
+def _parse_options(c: _Collector, raw: Any, w: Mapping[str, Any], base_ok: bool, units: str
+                   ) -> list[tuple[str, _Completion]]:
+    """The ``[[option]]`` tables: (name, completion) each, in file order.
+
+    An option is ``[well]``'s completion keys with the option's keys replacing them, validated
+    by the rules of ``[well]`` (:func:`_parse_completion`) and named ``option[i].<key>``. An
+    option switching to an open hole does not inherit the base's shot angles and tunnel
+    diameter; one switching to perforations must give both. When ``[well]``'s own completion
+    is refused, problems of keys the option only inherits are left to ``[well]``'s message.
+    """
+    if raw is None:
+        return []
+    expected = ("one or more [[option]] tables, each with a name and any of "
+                f"{', '.join(COMPLETION_KEYS)} (they replace those of [well])")
+    if not isinstance(raw, list) or not all(isinstance(o, dict) for o in raw):
+        c.add("option", raw, expected)
+        return []
+    if len(raw) > MAX_OPTIONS:
+        c.add("option", raw, f"at most {MAX_OPTIONS} [[option]] tables",
+              found_text=f"{len(raw):,} options")
+        return []
+    out: list[tuple[str, _Completion]] = []
+    names: dict[str, int] = {}
+    base = {k: w[k] for k in COMPLETION_KEYS if k in w}
+    for i, opt in enumerate(raw):
+        key = f"option[{i}]"
+        before = len(c.problems)
+        typo: set[str] = set()
+        for k in opt:
+            if k not in _OPTION_KEYS:
+                typo.update(difflib.get_close_matches(str(k), list(_OPTION_KEYS), n=1,
+                                                      cutoff=0.6))
+                c.add(f"{key}.{_key_text(k)}", opt[k],
+                      f"a known key in [[option]]: {', '.join(_OPTION_KEYS)}"
+                      f"{_did_you_mean(str(k), _OPTION_KEYS)}"
+                      + (" (phasings are given once, in [well])" if k == "phasings" else ""),
+                      found_text=f"unknown key {k!r}")
+        name = opt.get("name")
+        name_expected = (f"a name for the option: a text on one line, at most "
+                         f"{MAX_OPTION_NAME_CHARS} characters, without control characters, "
+                         'used by no other option, e.g. name = "big-hole charges"')
+        if name is None:
+            if "name" not in typo:
+                c.add(f"{key}.name", None, name_expected,
+                      found_text="nothing (the key is missing)")
+        else:
+            bad = text_problem(f"{key}.name", name, max_chars=MAX_OPTION_NAME_CHARS,
+                               what="a name for the option")
+            if bad:
+                c.problems.append(bad)
+            elif not name.strip():
+                c.add(f"{key}.name", name, name_expected, found_text=f"the blank name {name!r}")
+            elif name.strip().casefold() == "as planned":
+                c.add(f"{key}.name", name, 'a name other than "as planned" (the report names '
+                      "the [well] completion so)")
+            else:
+                folded = name.strip().casefold()
+                if folded in names:
+                    c.add(f"{key}.name", name, f"a name used by no other option (option"
+                          f"[{names[folded]}] has it too; names differing only in case or "
+                          "surrounding spaces count as the same)")
+                names.setdefault(folded, i)
+        merged = dict(base)
+        if opt.get("completion") == "openhole":
+            merged.pop("shot_angles", None)
+            merged.pop("tunnel_diameter", None)
+        own = {k: opt[k] for k in COMPLETION_KEYS if k in opt}
+        merged.update(own)
+        switch = ("completion" in opt and opt["completion"] != w.get("completion")
+                  and opt["completion"] in COMPLETIONS)
+        note = (f" (option[{i}] switches to completion = {opt['completion']!r}: [well] has no "
+                "such key to inherit)") if switch else ""
+        sub = _Collector()
+        completion = _parse_completion(sub, merged, key, units, missing_note=note)
+        inherited = set(merged) - set(own)
+        for p in sub.problems:
+            part = p.key.removeprefix(f"{key}.")
+            if part in typo and p.value is None:
+                continue  # missing because mistyped: the unknown key's message says so
+            if base_ok or part not in inherited:
+                c.problems.append(p)
+        if completion is not None and len(c.problems) == before:
+            out.append((str(name), completion))
+    return out
+
+
 def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str = ""
                    ) -> Scenario:
     """Validate a parsed TOML document and convert it to a :class:`Scenario`.
@@ -349,42 +724,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                    expected="an inclination from vertical in [0, 180] degrees")
     azi = c.number(w, "well", "azimuth", required=False, check=math.isfinite,
                    expected="an azimuth in degrees clockwise from north")
-    completion = w.get("completion")
-    if not isinstance(completion, str) or completion not in COMPLETIONS:
-        c.add("well.completion", completion, 'completion = "perforated" or "openhole"'
-              + (_did_you_mean(completion, list(COMPLETIONS))
-                 if isinstance(completion, str) else ""),
-              found_text="nothing (the key is missing)" if completion is None else None)
-    shots: tuple[float, ...] = ()
-    tunnel_d = c.number(w, "well", "tunnel_diameter", required=completion == "perforated",
-                        check=lambda v: v > 0,
-                        expected=f"a perforation tunnel diameter > 0 [{disp['small_length']}]")
-    hole_d = c.number(w, "well", "hole_diameter", required=False, check=lambda v: v > 0,
-                      expected=f"a hole diameter > 0 [{disp['small_length']}]")
-    if completion == "perforated":
-        raw_shots = w.get("shot_angles")
-        if (not isinstance(raw_shots, list) or not raw_shots
-                or not all(_is_number(a) for a in raw_shots)):
-            c.add("well.shot_angles", raw_shots,
-                  "a non-empty list of shot angles in degrees from the high side, "
-                  "e.g. [0, 60, 120, 180, 240, 300]",
-                  found_text="nothing (the key is missing)" if raw_shots is None else None)
-        elif len(raw_shots) > MAX_SHOTS:
-            c.add("well.shot_angles", raw_shots, f"at most {MAX_SHOTS} shot directions",
-                  found_text=f"{len(raw_shots):,} directions")
-        else:
-            reduced = [float(a) % 360.0 for a in raw_shots]
-            if len(set(reduced)) != len(reduced):
-                c.add("well.shot_angles", raw_shots, "distinct directions (modulo 360 degrees)")
-            shots = tuple(a * conv["angle"] for a in reduced)
-    if completion == "openhole" and "tunnel_diameter" in w:
-        c.add("well.tunnel_diameter", w["tunnel_diameter"],
-              'no tunnel diameter for completion = "openhole" (use hole_diameter, or set '
-              'completion = "perforated")')
-    if completion == "openhole" and "shot_angles" in w:
-        c.add("well.shot_angles", w["shot_angles"],
-              'no shot angles for completion = "openhole" (remove the key, or set '
-              'completion = "perforated")')
+    base_completion = _parse_completion(c, w, "well", units)
+    phasings = _parse_phasings(c, w)
+    parsed_options = _parse_options(c, doc.get("option"), w, base_completion is not None, units)
 
     # ---- numeric inputs (stress and rock), each fixed or a distribution --------------------
     inputs: dict[str, Marginal] = {}
@@ -424,12 +766,16 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     stages: tuple[float, ...] = ()
     if _is_number(stages_raw):
         stages_raw = [stages_raw]
-    if (not isinstance(stages_raw, list) or not stages_raw
+    if isinstance(stages_raw, dict):
+        stages = _stage_rule(c, stages_raw, inputs, stress_given,
+                             None if depth is None else depth * conv["length"], units)
+    elif (not isinstance(stages_raw, list) or not stages_raw
             or not all(_is_number(s) and s > 0 for s in stages_raw)):
         if "production" in doc:
             c.add("production.reservoir_pressure", stages_raw,
                   f"a list of reservoir pressures > 0 [{disp['pressure']}], one per depletion "
-                  "stage", found_text="nothing (the key is missing)" if stages_raw is None
+                  'stage, or a rule such as { from = "initial", to = 2600, stages = 4 }',
+                  found_text="nothing (the key is missing)" if stages_raw is None
                   else None)
     elif len(stages_raw) > MAX_STAGES:
         c.add("production.reservoir_pressure", stages_raw,
@@ -447,21 +793,27 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     raw_ops = pr.get("operating_points", [])
     if not isinstance(raw_ops, list):
         c.add("production.operating_points", raw_ops,
-              f"a list of [reservoir pressure, flowing wall pressure] pairs [{disp['pressure']}]")
+              f"a list of [reservoir pressure, flowing wall pressure] pairs [{disp['pressure']}] "
+              "or tables { reservoir_pressure = ..., drawdown = ... }")
     elif len(raw_ops) > MAX_OPERATING_POINTS:
         c.add("production.operating_points", raw_ops,
               f"at most {MAX_OPERATING_POINTS:,} operating points",
               found_text=f"{len(raw_ops):,} operating points")
     else:
         for i, op in enumerate(raw_ops):
-            if (isinstance(op, list) and len(op) == 2
+            if isinstance(op, dict):
+                point = _operating_point(c, op, f"production.operating_points[{i}]", units)
+                if point is not None:
+                    ops.append(point)
+            elif (isinstance(op, list) and len(op) == 2
                     and all(_is_number(v) and v >= 0 for v in op)
                     and op[1] <= op[0]):
                 ops.append((float(op[0]) * conv["pressure"], float(op[1]) * conv["pressure"]))
             else:
                 c.add(f"production.operating_points[{i}]", op,
                       "[reservoir pressure, flowing wall pressure] with 0 <= wall pressure <= "
-                      f"reservoir pressure [{disp['pressure']}]")
+                      f"reservoir pressure [{disp['pressure']}], or a table "
+                      "{ reservoir_pressure = ..., drawdown = ... } (or wall_pressure = ...)")
 
     # ---- analysis -----------------------------------------------------------------------------
     an = sections["analysis"]
@@ -521,16 +873,27 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         _physics_checks(c, inputs, stress_given, depth * conv["length"], stages, disp, units,
                         tuple(ops))
         _strength_checks(c, inputs, disp, units)
+    if not c.problems and not stages:  # a rule whose start could not be resolved
+        c.add("production.reservoir_pressure", stages_raw,
+              "depletion stages that can be worked out (a list, or a rule from a known "
+              "initial pore pressure)")
     if c.problems:
         raise ScenarioError(c.problems, source_name)
 
     assert depth is not None and inc is not None and max_dd is not None and risk_ is not None
+    assert base_completion is not None
     well = Well(
         depth=depth * conv["length"], inclination=inc * conv["angle"],
-        azimuth=(azi or 0.0) * conv["angle"], completion=str(completion), shot_angles=shots,
-        tunnel_diameter=None if tunnel_d is None else tunnel_d * conv["small_length"],
-        hole_diameter=None if hole_d is None else hole_d * conv["small_length"],
+        azimuth=(azi or 0.0) * conv["angle"], completion=base_completion.completion,
+        shot_angles=base_completion.shot_angles,
+        tunnel_diameter=base_completion.tunnel_diameter,
+        hole_diameter=base_completion.hole_diameter,
     )
+    options = tuple(
+        CompletionOption(name, dataclasses.replace(
+            well, completion=o.completion, shot_angles=o.shot_angles,
+            tunnel_diameter=o.tunnel_diameter, hole_diameter=o.hole_diameter))
+        for name, o in parsed_options)
     scenario = Scenario(
         title=title or visible(Path(source_name).stem), units=units, well=well, inputs=inputs,
         stress_given=stress_given, reservoir_pressure=stages,
@@ -541,7 +904,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         correlation=tuple(corr), operating_points=tuple(ops), source_name=source_name,
         sha256=sha256, raw=dict(doc),
         warnings=_input_warnings(sections, inputs, stress_given, depth * conv["length"],
-                                 stages, max_dd * conv["pressure"], str(criterion), units),
+                                 stages, max_dd * conv["pressure"], str(criterion), units)
+        + _option_warnings(w, well, options),
+        options=options, phasings=phasings,
     )
     _cavity_checks(scenario)
     if corr:
@@ -589,28 +954,38 @@ def _mechanism_inputs(c: _Collector, sections: Mapping[str, Mapping[str, Any]],
 
 
 def _cavity_checks(sc: Scenario) -> None:
-    """Tunnel collapse needs a cavity radius below the drainage radius."""
+    """Tunnel collapse needs a cavity radius below the drainage radius, for [well] and for
+    every [[option]] (named ``option[i].<key>``)."""
     if "critical_plastic_strain" not in sc.inputs:
         return
     disp = DISPLAY_UNITS[sc.units]
-    w = sc.well
-    if w.completion == "openhole" and w.hole_diameter is None:
-        raise ScenarioError.single(
-            "well.hole_diameter", None,
-            f"the hole diameter [{disp['small_length']}] (tunnel collapse of an open hole)",
-            source=sc.source_name, found_text="nothing (the key is missing)")
-    diameter = w.tunnel_diameter if w.completion == "perforated" else w.hole_diameter
-    r_w = 0.5 * (diameter or 0.0)
+    length = TO_INTERNAL[sc.units]["length"]
     m = sc.inputs["drainage_radius"]
     low = m.value if m.is_fixed else m.quantile(1e-6)
-    if not low > 1.01 * r_w:
-        shown = f"{low / TO_INTERNAL[sc.units]['length']:.4g} {disp['length']}"
-        raise ScenarioError.single(
+    shown = f"{low / length:.4g} {disp['length']}"
+    problems: list[Problem] = []
+    widest: tuple[float, str] | None = None
+    wells = [("well", sc.well)] + [(f"option[{i}]", o.well) for i, o in enumerate(sc.options)]
+    for prefix, w in wells:
+        if w.completion == "openhole" and w.hole_diameter is None:
+            problems.append(Problem(
+                f"{prefix}.hole_diameter", None,
+                f"the hole diameter [{disp['small_length']}] (tunnel collapse of an open hole)",
+                found_text="nothing (the key is missing)"))
+            continue
+        diameter = w.tunnel_diameter if w.completion == "perforated" else w.hole_diameter
+        r_w = 0.5 * (diameter or 0.0)
+        if not low > 1.01 * r_w and (widest is None or r_w > widest[0]):
+            widest = (r_w, prefix)
+    if widest is not None:  # one message, for the widest cavity the drainage radius misses
+        r_w, prefix = widest
+        problems.append(Problem(
             "production.drainage_radius", shown,
-            f"a drainage radius above the cavity radius "
-            f"({r_w / TO_INTERNAL[sc.units]['length']:.4g} {disp['length']}) for every sample",
-            source=sc.source_name, found_text=shown + (" (fixed)" if m.is_fixed
-                                                       else " at its 1e-6 quantile"))
+            f"a drainage radius above the cavity radius ({r_w / length:.4g} "
+            f"{disp['length']}{'' if prefix == 'well' else ', of ' + prefix}) for every "
+            "sample", found_text=shown + (" (fixed)" if m.is_fixed else " at its 1e-6 quantile")))
+    if problems:
+        raise ScenarioError(problems, sc.source_name)
 
 
 def mechanisms_of(scenario: Scenario) -> tuple[str, ...]:
@@ -799,6 +1174,29 @@ def _input_warnings(sections: Mapping[str, Mapping[str, Any]], inputs: Mapping[s
         out.append(f"production.max_drawdown: {show(max_drawdown)} is above the reservoir "
                    f"pressure of every stage (largest {show(max(stages))}); a drawdown cannot "
                    "exceed the reservoir pressure, so the failure curves are flat beyond it")
+    return tuple(out)
+
+
+def _option_warnings(w: Mapping[str, Any], well: Well, options: tuple[CompletionOption, ...]
+                     ) -> tuple[str, ...]:
+    """Phasings no well can use, and options that repeat [well] or another option."""
+    out: list[str] = []
+    if "phasings" in w and all(x.completion == "openhole"
+                               for x in (well, *(o.well for o in options))):
+        out.append("well.phasings: given, but no completion of the scenario is perforated "
+                   '(completion = "openhole"' + (" in [well] and every [[option]]"
+                                                  if options else "")
+                   + "); gun phasings are ignored")
+    for i, o in enumerate(options):
+        if o.well == well:
+            out.append(f"option[{i}]: the same completion as [well]; it is computed and "
+                       "reported as a separate option")
+            continue
+        for j in range(i):
+            if options[j].well == o.well:
+                out.append(f"option[{i}]: the same completion as option[{j}]; it is computed "
+                           "and reported twice")
+                break
     return tuple(out)
 
 

@@ -25,6 +25,7 @@ azimuth = 90                    # [deg] clockwise from north
 completion = "perforated"       # or "openhole" (then drop shot_angles and tunnel_diameter)
 shot_angles = [0, 60, 120, 180, 240, 300]   # [deg] around the well from the high side
 tunnel_diameter = 0.5           # [in]
+# phasings = [0, 60, 90, 120, 180]   # [deg] gun phasings compared for the life of the well
 
 [stress]                        # each of sv, shmax, shmin, pp: value [psi] or *_gradient [psi/ft]
 sv_gradient = 1.0
@@ -50,10 +51,14 @@ pore_collapse_pressure = 5000   # [psi] mean effective stress at pore collapse
 
 [production]
 reservoir_pressure = [3600, 3100, 2600]   # [psi] depletion stages
+# reservoir_pressure = { from = "initial", to = 2600, stages = 3 }   # or by rule [psi]
+#                                 # (or to_fraction = 0.7 instead of to; from = 3600 [psi])
 max_drawdown = 2000             # [psi] largest drawdown to assess
 accepted_risk = 0.10            # accepted probability of failure [-]
 drainage_radius = 1.0           # [ft] radius of the steady-inflow boundary around a tunnel
-# operating_points = [[3600, 3000]]   # planned [reservoir pressure, flowing pressure] [psi]
+# operating_points = [[3600, 3000], { reservoir_pressure = 3100, drawdown = 500 }]   # [psi]
+#                                 # planned [reservoir pressure, flowing wall pressure], or
+#                                 # { reservoir_pressure, drawdown } (or wall_pressure)
 
 [analysis]
 criterion = "mohr-coulomb"      # drucker-prager-{circumscribed,middle,inscribed}, mogi-coulomb,
@@ -64,6 +69,16 @@ sampling = "sobol"              # or "lhs", "random"
 
 [correlation]
 pairs = [["ucs", "friction_angle", 0.4]]   # Spearman rank correlations
+
+# Completion options compared with [well] in one run (at most 12): each a name and any of
+# completion, shot_angles, tunnel_diameter, hole_diameter, replacing those of [well].
+# [[option]]
+# name = "big-hole charges"
+# tunnel_diameter = 0.75          # [in]
+# [[option]]
+# name = "open hole"
+# completion = "openhole"         # shot_angles and tunnel_diameter are then not inherited
+# hole_diameter = 8.5             # [in]
 '''
 
 _SI = (_FIELD
@@ -88,8 +103,13 @@ _SI = (_FIELD
        .replace("[3600, 3100, 2600]   # [psi]", "[24.8, 21.4, 17.9]   # [MPa]")
        .replace("max_drawdown = 2000             # [psi]", "max_drawdown = 13.8             # [MPa]")
        .replace("drainage_radius = 1.0           # [ft]", "drainage_radius = 0.3           # [m]")
-       .replace("[[3600, 3000]]   # planned [reservoir pressure, flowing pressure] [psi]",
-                "[[24.8, 20.7]]   # planned [reservoir pressure, flowing pressure] [MPa]"))
+       .replace("to = 2600, stages = 3 }   # or by rule [psi]",
+                "to = 17.9, stages = 3 }   # or by rule [MPa]")
+       .replace("from = 3600 [psi])", "from = 24.8 [MPa])")
+       .replace("[[3600, 3000], { reservoir_pressure = 3100, drawdown = 500 }]   # [psi]",
+                "[[24.8, 20.7], { reservoir_pressure = 21.4, drawdown = 3.45 }]   # [MPa]")
+       .replace("tunnel_diameter = 0.75          # [in]", "tunnel_diameter = 19            # [mm]")
+       .replace("hole_diameter = 8.5             # [in]", "hole_diameter = 216             # [mm]"))
 
 
 def scenario_template(units: str = "field") -> str:

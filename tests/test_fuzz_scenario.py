@@ -43,7 +43,15 @@ from hypothesis import strategies as st
 from hypothesis.errors import InvalidArgument
 
 from risk.errors import ScenarioError
-from risk.scenario import _SECTIONS, INPUTS, Scenario, load_scenario, parse_scenario
+from risk.scenario import (
+    _SECTIONS,
+    COMPLETION_KEYS,
+    INPUTS,
+    MAX_STAGES,
+    Scenario,
+    load_scenario,
+    parse_scenario,
+)
 from risk.uncertainty import KINDS, build_joint
 from tests.conftest import FIELD_DOC
 
@@ -239,6 +247,18 @@ def _check_scenario_quietly(sc: Scenario) -> None:
     assert 0 < sc.accepted_risk < 1
     assert 1 <= sc.samples and 0 <= sc.seed < 2**63
     assert sc.reservoir_pressure and (w.completion == "openhole") == (not w.shot_angles)
+    assert all(math.isfinite(p) and p > 0 for p in sc.reservoir_pressure)
+    assert len(sc.reservoir_pressure) <= MAX_STAGES
+    for o in sc.options:  # each option is a complete well of its own completion
+        ow = o.well
+        assert (ow.completion == "openhole") == (not ow.shot_angles), o
+        assert (ow.completion == "perforated") == (ow.tunnel_diameter is not None), o
+        assert ow.depth == w.depth and o.name.strip()
+    assert len({o.name.strip().casefold() for o in sc.options}) == len(sc.options)
+    for ph in sc.phasings:  # derived: 0, or a whole number of shots per turn
+        assert ph == 0 or (0 < ph <= 180 and abs(round(360 / ph) * ph - 360) <= 1e-6), ph
+    for p_r, p_w in sc.operating_points:
+        assert 0 <= p_w <= p_r
     for name, m in sc.inputs.items():
         q = m.ppf(np.array([1e-3, 0.5, 1 - 1e-3]))
         if not np.all(np.isfinite(q)):
@@ -539,8 +559,78 @@ def test_raw_files(data, tmp_path_factory):
     check_file(path)
 
 
+# Issue 12 inputs: [[option]] tables, phasings, stage rules and operating points as tables,
+# well formed around the test document or put together at random.
+_OPTION_VALUES = {"completion": st.one_of(st.sampled_from(["perforated", "openhole", "perf"]),
+                                          scalars),
+                  "shot_angles": st.one_of(st.lists(numbers, max_size=4), values),
+                  "tunnel_diameter": st.one_of(st.sampled_from([0.5, 0.75, 0, -1]), numbers),
+                  "hole_diameter": st.one_of(st.sampled_from([8.5, 6]), numbers),
+                  "name": st.one_of(st.sampled_from(["a", "A ", "as planned", "", "x" * 81,
+                                                     "b\x1b"]), st.text(max_size=6), scalars)}
+plausible_options = st.lists(st.fixed_dictionaries(
+    {"name": st.text(st.characters(codec="ascii", categories=["L", "N"]), min_size=1,
+                     max_size=6)},
+    optional={"tunnel_diameter": st.floats(0.2, 1.0), "shot_angles": st.lists(
+        st.integers(0, 359), min_size=1, max_size=4, unique=True)}), max_size=3)
+option_tables = st.dictionaries(
+    st.one_of(st.sampled_from(("name", *COMPLETION_KEYS)), keys),
+    values, max_size=4) | st.fixed_dictionaries(
+    {"name": _OPTION_VALUES["name"]},
+    optional={k: _OPTION_VALUES[k] for k in COMPLETION_KEYS})
+plausible_rules = st.fixed_dictionaries(
+    {"from": st.sampled_from(["initial", 4140, 4500]), "stages": st.integers(2, 50)}) \
+    .flatmap(lambda r: st.one_of(
+        st.fixed_dictionaries({"to": st.floats(500, 4130)}),
+        st.fixed_dictionaries({"to_fraction": st.floats(0.05, 0.99)})).map(
+        lambda t: {**r, **t}))
+stage_rules = plausible_rules | st.dictionaries(
+    st.one_of(st.sampled_from(("from", "to", "to_fraction", "stages")), keys),
+    st.one_of(numbers, st.sampled_from(["initial", "intial"]), st.integers(-3, 60), values),
+    max_size=4) | st.fixed_dictionaries(
+    {"stages": st.integers(0, 60)},
+    optional={"from": st.one_of(st.just("initial"), numbers), "to": numbers,
+              "to_fraction": st.one_of(st.floats(-0.5, 1.5), numbers)})
+plausible_ops = st.floats(100, 5000).flatmap(lambda p: st.one_of(
+    st.fixed_dictionaries({"reservoir_pressure": st.just(p), "drawdown": st.floats(0, p)}),
+    st.fixed_dictionaries({"reservoir_pressure": st.just(p), "wall_pressure": st.floats(0, p)})))
+op_tables = plausible_ops | st.dictionaries(
+    st.one_of(st.sampled_from(("reservoir_pressure", "drawdown", "wall_pressure")), keys),
+    st.one_of(numbers, values), max_size=3) | st.fixed_dictionaries(
+    {"reservoir_pressure": numbers},
+    optional={"drawdown": numbers, "wall_pressure": numbers})
+new_inputs = st.tuples(
+    st.one_of(st.none(), plausible_options, st.lists(option_tables, max_size=4), values),
+    st.one_of(st.none(), st.lists(numbers, max_size=4),
+              st.lists(st.sampled_from([0, 60, 90, 120, 180, 50, 72]), max_size=11), values),
+    st.one_of(st.none(), stage_rules),
+    st.one_of(st.none(), st.lists(st.one_of(op_tables, st.lists(numbers, max_size=2)),
+                                  max_size=3)),
+    st.booleans())
+
+
+@_fuzz_settings(600)
+@given(new_inputs)
+def test_options_phasings_rules_and_points(edits):
+    options, phasings, rule, ops, openhole = edits
+    start = copy.deepcopy(BASE)
+    if openhole:
+        start["well"] = {k: v for k, v in start["well"].items()
+                         if k not in ("shot_angles", "tunnel_diameter")}
+        start["well"].update(completion="openhole", hole_diameter=8.5)
+    doc = start
+    for path, value in ((("option",), options), (("well", "phasings"), phasings),
+                        (("production", "reservoir_pressure"), rule),
+                        (("production", "operating_points"), ops)):
+        if value is not None:  # the edit alone, then on top of the ones before
+            check_document(_with(path, value, start))
+            doc = _with(path, value, doc)
+            check_document(doc)
+            _count("issue 12")
+
+
 def test_fuzz_budget():
     # the three document fuzz tests above made at least 10^4 parse_scenario calls together
-    if set(CALLS) != {"mutated", "distributions", "correlations"}:
+    if not {"mutated", "distributions", "correlations"} <= set(CALLS):
         pytest.skip("runs only after the three document fuzz tests")
     assert sum(CALLS.values()) >= 10_000, CALLS

@@ -17,9 +17,9 @@ from rich.text import Text
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
 from risk.report.text import safe
-from risk.scenario import _SPEC, Scenario
+from risk.scenario import _SPEC, Scenario, Well
 
-__all__ = ["print_scenario", "print_summary", "print_answer"]
+__all__ = ["print_scenario", "print_summary", "print_answer", "angle_reference"]
 
 
 def _fmt(v: float | None, digits: int = 4, none: str = "never") -> str:
@@ -28,42 +28,128 @@ def _fmt(v: float | None, digits: int = 4, none: str = "never") -> str:
     return f"{v:,.{digits}g}" if abs(v) < 1e5 else f"{v:,.0f}"
 
 
+def angle_reference(inclination: float, azimuth: float) -> str:
+    """Where shot and wall angles are measured from, for a well of ``inclination`` and
+    ``azimuth`` [rad] (:mod:`risk.conventions`: the angle runs from the frame's x toward its y,
+    clockwise looking down the hole; a vertical well's x is the direction ``azimuth``)."""
+    az = math.degrees(azimuth) % 360.0
+    if inclination == 0.0:
+        return (f"from the direction azimuth ({az:.4g} deg from north), clockwise seen from "
+                "above (vertical well)")
+    if inclination == math.pi:
+        return (f"from the direction azimuth + 180 ({(az + 180.0) % 360.0:.4g} deg from north), "
+                "counterclockwise seen from above (a vertical well drilled upward)")
+    return "from the high side of the well, clockwise looking down the hole"
+
+
+def _completion_cells(w: Well, sc: Scenario) -> tuple[str, str, str]:
+    """(completion, shot angles, diameters) of a well, in the scenario's units."""
+    small = TO_INTERNAL[sc.units]["small_length"]
+    unit = DISPLAY_UNITS[sc.units]["small_length"]
+    shots = (", ".join(f"{math.degrees(a):.4g}" for a in w.shot_angles) + " deg"
+             if w.shot_angles else "-")
+    sizes = []
+    if w.tunnel_diameter:
+        sizes.append(f"tunnel {w.tunnel_diameter / small:.4g} {unit}")
+    if w.hole_diameter:
+        sizes.append(f"hole {w.hole_diameter / small:.4g} {unit}")
+    return w.completion, shots, ", ".join(sizes) or "-"
+
+
+def _key_table(*columns: str) -> Table:
+    """A table whose first column holds scenario keys, always whole (never truncated or
+    wrapped; the other columns wrap instead)."""
+    t = Table(show_edge=False)
+    t.add_column(columns[0], no_wrap=True, overflow="ignore")
+    for col in columns[1:]:
+        t.add_column(col, overflow="fold")
+    return t
+
+
 def print_scenario(sc: Scenario, console: Console | None = None) -> None:
-    """The normalised inputs, each in the scenario's unit, with its distribution."""
+    """The normalised inputs, each in the scenario's unit, with its distribution; the
+    completion options, gun phasings and correlations when given. Keys are printed whole
+    (``section.key``); the descriptions wrap to the console's width."""
     con = console or Console()
     disp = DISPLAY_UNITS[sc.units]
+    conv = TO_INTERNAL[sc.units]
     w = sc.well
     con.print(Text.assemble(safe(sc.title, "bold"), "  (", safe(sc.source_name),
                             f", units = {sc.units!r})"))
-    t = Table("well", "value", title=None, show_edge=False)
-    t.add_row("true vertical depth", f"{w.depth / TO_INTERNAL[sc.units]['length']:,.6g} "
-              f"{disp['length']}")
-    t.add_row("inclination / azimuth", f"{math.degrees(w.inclination):.4g} deg / "
-              f"{math.degrees(w.azimuth):.4g} deg")
-    t.add_row("completion", w.completion)
+    t = _key_table("well", "value")
+    t.add_row("well.depth", f"{w.depth / conv['length']:,.6g} {disp['length']} (true "
+              "vertical depth)")
+    t.add_row("well.inclination", f"{math.degrees(w.inclination):.4g} deg from vertical")
+    t.add_row("well.azimuth", f"{math.degrees(w.azimuth):.4g} deg clockwise from north")
+    t.add_row("well.completion", w.completion)
     if w.completion == "perforated":
-        t.add_row("shot angles", ", ".join(f"{math.degrees(a):.4g}" for a in w.shot_angles)
-                  + " deg from the high side")
-        if w.tunnel_diameter:
-            d = w.tunnel_diameter / TO_INTERNAL[sc.units]["small_length"]
-            t.add_row("tunnel diameter", f"{d:.4g} {disp['small_length']}")
+        t.add_row("well.shot_angles", ", ".join(f"{math.degrees(a):.4g}" for a in w.shot_angles)
+                  + " deg")
+    if w.tunnel_diameter:
+        t.add_row("well.tunnel_diameter",
+                  f"{w.tunnel_diameter / conv['small_length']:.4g} {disp['small_length']}")
+    if w.hole_diameter:
+        t.add_row("well.hole_diameter",
+                  f"{w.hole_diameter / conv['small_length']:.4g} {disp['small_length']}")
+    if any(x.completion == "perforated" for x in (w, *(o.well for o in sc.options))):
+        given = "phasings" in (sc.raw.get("well") or {})
+        t.add_row("well.phasings", ", ".join(f"{p:g}" for p in sc.phasings)
+                  + " deg" + ("" if given else " (default)") + "; 0 = every shot in one "
+                  "direction")
+    t.add_row("angles", "shot and wall angles are measured "
+              + angle_reference(w.inclination, w.azimuth))
     con.print(t)
-    t = Table("input", "distribution", "meaning", "source", show_edge=False)
+    if sc.options:
+        t = Table("option", "completion", "shot angles", "diameter", show_edge=False,
+                  title=Text("completion options ([[option]])"), title_justify="left")
+        t.add_row(Text("as planned ([well])"), *_completion_cells(w, sc))
+        for o in sc.options:
+            t.add_row(safe(o.name), *_completion_cells(o.well, sc))
+        con.print(t)
+    t = _key_table("input", "distribution; meaning; source")
     for name, m in sc.inputs.items():
         spec = _SPEC[name]
-        scale = TO_INTERNAL[sc.units][spec.dimension]
+        scale = conv[spec.dimension]
         unit = disp[spec.dimension]
-        t.add_row(safe(f"{spec.section}.{name}"), safe(m.describe(scale, unit)),
-                  safe(spec.description), safe(m.source or ""))
+        cell = Text.assemble(safe(m.describe(scale, unit)), "\n", safe(spec.description, "dim"))
+        if m.source:
+            cell.append_text(Text.assemble("\nsource: ", safe(m.source, "italic")))
+        t.add_row(safe(f"{spec.section}.{name}"), cell)
     con.print(t)
+    if sc.correlation:
+        t = Table("input", "input", "rank correlation", show_edge=False,
+                  title=Text("correlation.pairs (Spearman rank correlations)"),
+                  title_justify="left")
+        for a, b, rho in sc.correlation:
+            t.add_row(safe(a), safe(b), f"{rho:g}")
+        con.print(t)
     p = disp["pressure"]
-    stages = ", ".join(f"{sc.to_display(s, 'pressure'):,.6g}" for s in sc.reservoir_pressure)
-    con.print(f"reservoir pressure stages: {stages} {p}; max drawdown "
-              f"{sc.to_display(sc.max_drawdown, 'pressure'):,.6g} {p}; accepted risk "
-              f"{sc.accepted_risk:g}")
+
+    def pr(v: float) -> str:
+        return f"{sc.to_display(v, 'pressure'):,.6g}"
+
+    t = _key_table("production", "value")
+    rule = isinstance((sc.raw.get("production") or {}).get("reservoir_pressure"), dict)
+    t.add_row("production.reservoir_pressure",
+              ", ".join(pr(s) for s in sc.reservoir_pressure) + f" {p}"
+              + (f" ({len(sc.reservoir_pressure)} stages by rule)" if rule else ""))
+    t.add_row("production.max_drawdown", f"{pr(sc.max_drawdown)} {p}")
+    t.add_row("production.accepted_risk", f"{sc.accepted_risk:g}")
+    if sc.operating_points:
+        shown = [f"{pr(r)} / {pr(wp)} (drawdown {pr(r - wp)})"
+                 for r, wp in sc.operating_points[:_MAX_POINTS_SHOWN]]
+        more = len(sc.operating_points) - _MAX_POINTS_SHOWN
+        t.add_row("production.operating_points",
+                  Text(f"reservoir / wall pressure [{p}]: " + "; ".join(shown)
+                  + (f"; and {more:,} more" if more > 0 else "")))
+    con.print(t)
     con.print(f"criterion {sc.criterion}; {sc.samples:,} samples ({sc.sampling}), seed {sc.seed}")
     _print_warnings(con, sc.warnings)
     con.print("[green]scenario is valid[/]")
+
+
+#: Operating points listed by ``risk check`` (the rest are counted).
+_MAX_POINTS_SHOWN = 10
 
 
 def _print_warnings(con: Console, warnings: Any) -> None:
