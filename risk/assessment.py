@@ -266,7 +266,7 @@ def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
         phasing = decision.choose_phasing(
             by_direction, [math.degrees(x) for x in well.shot_angles],
             scenario.reservoir_pressure, scenario.accepted_risk, scenario.operating_points,
-            phasings=tuple(getattr(scenario, "phasings", decision.COMMON_PHASINGS)))
+            phasings=scenario.phasings)
     return sand, phasing
 
 
@@ -579,7 +579,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     p0_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
-    options = tuple(getattr(scenario, "options", ()))
+    options = scenario.options
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
     option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
     done = 0

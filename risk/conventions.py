@@ -106,3 +106,17 @@ def to_internal(value: float, dimension: str, units: str) -> float:
 def from_internal(value: float, dimension: str, units: str) -> float:
     """Convert an internal value to the scenario's display unit."""
     return value / TO_INTERNAL[units][dimension]
+
+
+def angle_reference(inclination: float, azimuth: float) -> str:
+    """Where shot and wall angles are measured from, for a well of ``inclination`` and
+    ``azimuth`` [rad] (:mod:`risk.conventions`: the angle runs from the frame's x toward its y,
+    clockwise looking down the hole; a vertical well's x is the direction ``azimuth``)."""
+    az = math.degrees(azimuth) % 360.0
+    if inclination == 0.0:
+        return (f"from the direction azimuth ({az:.4g} deg from north), clockwise seen from "
+                "above (vertical well)")
+    if inclination == math.pi:
+        return (f"from the direction azimuth + 180 ({(az + 180.0) % 360.0:.4g} deg from north), "
+                "counterclockwise seen from above (a vertical well drilled upward)")
+    return "from the high side of the well, clockwise looking down the hole"

@@ -90,3 +90,19 @@ def test_opposite_shot_directions_always_tie(tmp_path, write, field_doc, extra):
             for key in ("worst_shot_angles", "best_shot_angles"):
                 if st.get(key) is not None:
                     assert len(st[key]) % 2 == 0, (key, st[key])  # opposite pairs together
+
+
+def test_no_sand_mechanism_is_said_plainly(tmp_path, write, field_doc):
+    # the test document enables no sand-production mechanism: no sand-free limit, said so,
+    # with the inputs that would enable one; first yield is never promoted to the headline
+    res = run_scenario(write(field_doc), out=tmp_path / "run", samples=64)
+    s = res.summary
+    assert s["sand_free"] is None and "twc" in s["sand_free_note"]
+    assert "critical_plastic_strain" in s["sand_free_note"]
+    buf = io.StringIO()
+    print_summary(s, res.out_dir, Console(file=buf, width=100, color_system=None))
+    out = buf.getvalue()
+    assert "No sand-free limit" in out[:out.index("Per mechanism")]
+    html = (res.out_dir / "memo.html").read_text(encoding="utf-8")
+    head = re.search(r'<p class="headline" id="headline">(.*?)</p>', html, re.S)
+    assert head is not None and "No sand-free limit" in head.group(1)

@@ -15,7 +15,7 @@ from rich.console import Console
 from rich.table import Table
 from rich.text import Text
 
-from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
+from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
 from risk.report.text import safe
 from risk.scenario import _SPEC, Scenario, Well
 
@@ -26,20 +26,6 @@ def _fmt(v: float | None, digits: int = 4, none: str = "never") -> str:
     if v is None:
         return none
     return f"{v:,.{digits}g}" if abs(v) < 1e5 else f"{v:,.0f}"
-
-
-def angle_reference(inclination: float, azimuth: float) -> str:
-    """Where shot and wall angles are measured from, for a well of ``inclination`` and
-    ``azimuth`` [rad] (:mod:`risk.conventions`: the angle runs from the frame's x toward its y,
-    clockwise looking down the hole; a vertical well's x is the direction ``azimuth``)."""
-    az = math.degrees(azimuth) % 360.0
-    if inclination == 0.0:
-        return (f"from the direction azimuth ({az:.4g} deg from north), clockwise seen from "
-                "above (vertical well)")
-    if inclination == math.pi:
-        return (f"from the direction azimuth + 180 ({(az + 180.0) % 360.0:.4g} deg from north), "
-                "counterclockwise seen from above (a vertical well drilled upward)")
-    return "from the high side of the well, clockwise looking down the hole"
 
 
 def _completion_cells(w: Well, sc: Scenario) -> tuple[str, str, str]:

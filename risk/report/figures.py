@@ -550,7 +550,8 @@ def plot_shot_directions(results: Mapping[str, Any], *, fig: Figure | None = Non
             Patch(facecolor=PALETTE[0], edgecolor="black", label="other shots"),
         ], loc="outside lower center", ncol=2, frameon=False,
             title=f"radius: drawdown limit of tunnels shot in that direction [{unit}]\n"
-                  "angle: shot direction from the high side [deg]")
+                  "angle: shot direction [deg], "
+                  + str(results.get("angle_reference") or "from the high side"))
     return fig
 
 
@@ -908,10 +909,56 @@ def plot_pore_collapse(results: Mapping[str, Any], *, ax: Axes | None = None) ->
     return ax
 
 
+def plot_sand_free(results: Mapping[str, Any], *, ax: Axes | None = None) -> Axes | None:
+    """The headline over depletion: the sand-free drawdown limit at every stage with its 95%
+    lower bound, the life-of-well gun (perforated wells) and every completion option."""
+    sf = results.get("sand_free")
+    if not sf or not sf.get("stages"):
+        return None
+    with _styled():
+        unit = _unit(results)
+        if ax is None:
+            ax = _new_figure(3.0, PAGE_WIDTH * 0.9).subplots()
+        st = sf["stages"]
+        x = _arr([s["reservoir_pressure"] for s in st])
+        lim = _arr([s["drawdown_limit"] for s in st])
+        low = _arr([s.get("drawdown_limit_lower") for s in st])
+        planned = ("as planned (all shot directions)" if results.get("completion") == "perforated"
+                   else "as planned")
+        ax.fill_between(x, np.where(np.isfinite(low), low, 0.0), lim, color=PALETTE[0],
+                        alpha=0.2, linewidth=0, label="95% lower bound to the limit")
+        ax.plot(x, lim, "o-", color=PALETTE[0], lw=1.8, ms=4, label=planned, zorder=4)
+        ch = results.get("completion_choice")
+        if ch:
+            chosen = ch["chosen"]
+            angles = "/".join(f"{float(a):g}" for a in chosen.get("shot_angles") or [])
+            ax.plot(x, _arr(chosen["drawdown_limits"]), "s--", color=PALETTE[2], lw=1.4, ms=4,
+                    label=f"gun for the life of the well ({angles} deg)", zorder=3)
+        markers = "^v<>Dph*"
+        for i, o in enumerate(results.get("completion_options") or []):
+            osf = o.get("sand_free") or {}
+            if not osf.get("stages"):
+                continue
+            ax.plot(x, _arr([s["drawdown_limit"] for s in osf["stages"]]),
+                    marker=markers[i % len(markers)], ls=":", lw=1.2, ms=4,
+                    color=PALETTE[(3 + i) % len(PALETTE)], label=str(o["name"])[:40])
+        ax.set_xlim(float(np.max(x)) + 0.03 * np.ptp(x) + 1e-9,
+                    float(np.min(x)) - 0.03 * np.ptp(x) - 1e-9)  # depletion runs to the right
+        ax.set_ylim(bottom=0.0)
+        ax.set_xlabel(f"reservoir pressure {PR} [{unit}] (depletion to the right)")
+        ax.set_ylabel(f"sand-free drawdown limit [{unit}]")
+        ax.set_title(f"Sand-free drawdown limit at an accepted risk of "
+                     f"{format_value(_f(results.get('accepted_risk')), '-')}")
+        _thousands(ax.xaxis, ax.yaxis)
+        ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), frameon=False)
+    return ax
+
+
 # --------------------------------------------------------------------------- rendering
 
 #: Figure name -> plotting function, in the order they appear in the memo.
 FIGURES: Final[dict[str, Callable[..., Any]]] = {
+    "sand_free": plot_sand_free,
     "failure_probability": plot_failure_probability,
     "envelope": plot_envelope,
     "shot_directions": plot_shot_directions,

@@ -54,6 +54,12 @@ _SECTION_TITLES: Final[dict[str, str]] = {
 
 #: Figure captions (what the reader should look for), by figure name.
 CAPTIONS: Final[dict[str, str]] = {
+    "sand_free": (
+        "Sand-free drawdown limit at every depletion stage (the drawdown at which the "
+        "probability that an enabled sand-production mechanism predicts sand reaches the "
+        "accepted risk), with its one-sided 95% lower bound shaded; for perforated wells also "
+        "the gun chosen for the life of the well, and every completion option of the scenario "
+        "on the same samples. A limit at zero means sand is expected with no drawdown."),
     "input_histograms": "Sampled inputs in the scenario's units, with P10, P50 and P90 marked.",
     "input_correlation": "Rank (Spearman) correlation between the sampled inputs, as sampled.",
     "failure_probability": (
@@ -69,8 +75,7 @@ CAPTIONS: Final[dict[str, str]] = {
     "shot_directions": (
         "Risk per perforation direction: the drawdown limit at the accepted risk of tunnels shot "
         "in each direction (longer is better); the best direction is highlighted where the "
-        "limits differ between directions. Angles are measured from the high side of the well "
-        "(vertical well: from the azimuth reference)."),
+        "limits differ between directions. Angles are measured {angles}."),
     "tunnel_collapse": (
         "Tunnel collapse: plastic radius ratio and wall plastic strain vs drawdown, median "
         "(solid) with the P10-P90 band (dotted edges), per depletion stage."),
@@ -96,7 +101,7 @@ CAPTIONS: Final[dict[str, str]] = {
 _SHOT_STAGES: Final = 3  # depletion stages per per-shot table (keeps it within the page)
 
 #: Where each figure sits in the memo (numbering follows this order).
-_FIGURE_ORDER: Final = ("input_histograms", "input_correlation", "failure_probability",
+_FIGURE_ORDER: Final = ("sand_free", "input_histograms", "input_correlation", "failure_probability",
                         "envelope", "shot_directions", "tunnel_collapse", "pore_collapse",
                         "sensitivity", "tornado")
 
@@ -294,6 +299,14 @@ def _angles(c: Mapping[str, Any]) -> str:
     return f"{what}, shots at {where}"
 
 
+def _angle_reference(results: Mapping[str, Any]) -> str:
+    """Where shot and wall angles are measured from (results.json; older files: the high
+    side, with the vertical-well rule of risk.conventions)."""
+    return str(results.get("angle_reference") or "from the high side of the well, clockwise "
+               "looking down the hole (vertical well: from the direction azimuth, clockwise "
+               "seen from above)")
+
+
 def _tied(stage: Mapping[str, Any], key: str) -> str:
     """An angle, or every angle tied with it ("0° / 180°": equal directions tie, always)."""
     group = stage.get(key + "s")
@@ -301,6 +314,33 @@ def _tied(stage: Mapping[str, Any], key: str) -> str:
         shown = "/".join(f"{float(v):g}\u00b0" for v in group[:3])
         return shown + (f" +{len(group) - 3}" if len(group) > 3 else "")
     return format_value(stage.get(key), "deg", none="–")
+
+
+def _first_shots(results: Mapping[str, Any]) -> list[Mapping[str, Any]]:
+    for _key, mech in _drawdown_mechanisms(results):
+        shots = (mech.get("stages") or [{}])[0].get("shots")
+        if shots:
+            return list(shots)
+    return []
+
+
+def _completion_text(results: Mapping[str, Any], o: Mapping[str, Any]) -> str:
+    """A completion in a few words: "open hole, 216 mm" or "perforated, 12 directions 30°
+    apart, tunnels 18 mm"."""
+    small = str((results.get("units") or {}).get("length", ""))
+    small = "in" if small == "ft" else "mm"
+    if o.get("completion") == "openhole":
+        d = o.get("hole_diameter")
+        return "open hole" + (f", {float(d):g} {small}" if d is not None else "")
+    shots = [float(a) for a in o.get("shot_angles") or [] if a is not None]
+    steps = sorted({round((b - a) % 360.0, 6) for a, b in zip(shots, shots[1:] + shots[:1],
+                                                              strict=True)}) if shots else []
+    if len(shots) > 4 and len(steps) == 1:
+        where = f"{len(shots)} directions {steps[0]:g}\u00b0 apart"
+    else:
+        where = "shots at " + ", ".join(f"{a:g}\u00b0" for a in shots)
+    d = o.get("tunnel_diameter")
+    return "perforated, " + where + (f", tunnels {float(d):g} {small}" if d is not None else "")
 
 
 def _answer(results: Mapping[str, Any]) -> dict[str, Any]:
@@ -397,12 +437,13 @@ def _answer(results: Mapping[str, Any]) -> dict[str, Any]:
     for o in results.get("completion_options") or []:
         osf = o.get("sand_free") or {}
         out["options"].append({
-            "name": o["name"],
-            "what": (o["completion"] if o["completion"] == "openhole"
-                     else "perforated, shots at " + ", ".join(
-                         f"{float(a):g}\u00b0" for a in o.get("shot_angles") or [])),
+            "name": o["name"], "what": _completion_text(results, o),
             "limits": [_p(results, st["drawdown_limit"]) for st in osf.get("stages") or []]})
     if out["options"]:
+        out["planned_what"] = _completion_text(results, {
+            "completion": results.get("completion"),
+            "shot_angles": [sh.get("angle") for sh in _first_shots(results)],
+            "tunnel_diameter": None, "hole_diameter": None})
         out["option_stages"] = [r["p_r"] for r in out["rows"]]
         out["planned_limits"] = [r["limit"] for r in out["rows"]]
     out["sentences"] = [_rich(t) for t in out["sentences"]]
@@ -531,7 +572,8 @@ def _scenario(results: Mapping[str, Any]) -> dict[str, Any]:
         shots = mechs[0][1]["stages"][0].get("shots")
         if shots:
             settings.append(("shot directions", ", ".join(
-                format_value(s.get("angle"), "deg") for s in shots) + " from the high side"))
+                format_value(s.get("angle"), "deg") for s in shots) + " "
+                + _angle_reference(results)))
     settings += [
         ("largest drawdown considered", _p(results, results.get("max_drawdown"))),
         ("accepted risk", format_value(results.get("accepted_risk"), "-", none="–")),
@@ -854,7 +896,8 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
     numbered: dict[str, dict[str, Any]] = {}
     for name in [*_FIGURE_ORDER, *(n for n in figures if n not in _FIGURE_ORDER)]:
         if name in figures:
-            caption = CAPTIONS.get(name, name.replace("_", " "))
+            caption = CAPTIONS.get(name, name.replace("_", " ")).replace(
+                "{angles}", _angle_reference(results))
             if name == "envelope" and results.get("operating_points"):
                 caption += " Crosses are the planned operating points."
             numbered[name] = {"number": len(numbered) + 1, "uri": _data_uri(figures[name]),
@@ -867,6 +910,7 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
                            "correlations, with the scatter stated above: "
                            + "; ".join(scenario["log_based"]) + ".")
     return {
+        "angle_reference": _angle_reference(results),
         "title": str(results.get("title") or "Untitled scenario"),
         "unit": _punit(results),
         "sections": SECTIONS,

@@ -16,7 +16,7 @@ import numpy as np
 
 from risk import decision, probability
 from risk.assessment import MECHANISMS, Assessment
-from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
+from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
 from risk.scenario import _SPEC
 
 __all__ = ["summarize", "GRID_POINTS", "rounded"]
@@ -498,6 +498,7 @@ def summarize(a: Assessment) -> dict[str, Any]:
         "scenario_file": sc.source_name,
         "scenario_sha256": sc.sha256,
         "warnings": list(sc.warnings),
+        "angle_reference": angle_reference(sc.well.inclination, sc.well.azimuth),
         "sand_free": _sand_free(a, a.sand_free),
         "sand_free_note": (None if a.sand_free is not None else
                            "no sand-production mechanism is enabled, so this run gives no "
