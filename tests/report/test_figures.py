@@ -50,9 +50,11 @@ def test_perforated_run_draws_every_figure(perforated_figures):
 
 def test_open_hole_has_no_shot_directions(openhole):
     assert figures.plot_shot_directions(openhole) is None
-    # every other figure applies to an open hole with all sections present
-    for name in ALL - {"shot_directions"}:
+    # every other figure applies to an open hole with all sections present; the sand-free
+    # figure exactly when a sand-production mechanism is enabled
+    for name in ALL - {"shot_directions", "sand_free"}:
         assert figures.FIGURES[name](openhole) is not None, name
+    assert (figures.plot_sand_free(openhole) is None) == (openhole["sand_free"] is None)
 
 
 def test_oldest_results_shape_draws_only_what_applies(legacy):
