@@ -1,6 +1,7 @@
-"""Run the three Ravenmoor examples through the public API and compare their sand-free limits.
+"""Run the three Ravenmoor examples through the Python API and compare their sand-free limits.
 
 Usage: python examples/compare_wells.py [--samples N] [--out reports/examples]
+Uses only the public API (risk.load_scenario, risk.assess, the typed result, risk.report.write).
 Invented data (a fictional field), for demonstration only.
 """
 
@@ -9,7 +10,7 @@ from __future__ import annotations
 import argparse
 from pathlib import Path
 
-from risk.api import run_scenario
+import risk
 
 HERE = Path(__file__).resolve().parent
 WELLS = ("ravenmoor_r7_openhole.toml", "ravenmoor_r12_deviated_perforated.toml",
@@ -22,29 +23,23 @@ def main() -> None:
     ap.add_argument("--out", type=Path, default=Path("reports/examples"))
     args = ap.parse_args()
     for name in WELLS:
-        result = run_scenario(HERE / name, out=args.out / Path(name).stem,
-                              samples=args.samples, force=True)
-        s = result.summary
-        unit = s["units"]["pressure"]
-        print(f"\n{s['title']} ({s['samples']} samples, seed {s['seed']}, "
-              f"accepted risk {s['accepted_risk']})")
-        sand = s["sand_free"]
-        if sand is None:  # no sand-production mechanism in this scenario
-            print(f"  no sand-free limit: {s['sand_free_note']}")
+        scenario = risk.load_scenario(HERE / name)
+        res = risk.assess(scenario, samples=args.samples)
+        print(f"\n{scenario.title} ({args.samples} samples, seed {res.seed}, accepted risk "
+              f"{scenario.accepted_risk})")
+        limits = res.limits.to_frame()
+        sand = limits[limits["mechanism"] == "sand_free"]
+        if sand.empty:
+            print("  no sand-production mechanism enabled: no sand-free limit")
         else:
-            for stage in sand["stages"]:
-                print(f"  p_r {stage['reservoir_pressure']:>8} {unit}: sand-free limit "
-                      f"{stage['drawdown_limit']} {unit} ({stage['governing_name']}; "
-                      f"P(sand with no drawdown) {stage['p_no_drawdown']:.1%})")
-            zero = sand["zero_limit"]
-            if zero["kind"] == "between":
-                print(f"  the limit reaches zero below about {zero['estimate']} {unit}")
-        choice = s.get("completion_choice")
-        if choice:
-            chosen = choice["chosen"]
-            print(f"  gun for the life of the well: {chosen['phasing']} deg phasing, shots at "
-                  f"{chosen['shot_angles']} deg: {chosen['drawdown_limits']} {unit}")
-        print(f"  memo: {result.out_dir / 'memo.html'}")
+            print(sand.filter(regex="^(reservoir_pressure|drawdown_limit|zero_drawdown)")
+                  .to_string(index=False))
+        if res.phasing is not None:
+            chosen = res.phasing.chosen
+            print(f"  gun for the life of the well: {chosen.phasing} deg phasing, "
+                  f"{len(chosen.directions)} shot direction(s)")
+        out = risk.report.write(res, args.out / Path(name).stem)
+        print(f"  memo: {out / 'memo.html'}")
 
 
 if __name__ == "__main__":

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
@@ -96,32 +95,22 @@ def _compute(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int
 
 
 def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:
-    return {"run_date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
-            "scenario_file": str(path), "scenario_sha256": summary["scenario_sha256"],
-            "version": summary["version"], "seed": summary["seed"],
-            "samples": summary["samples"], "sampling": summary["sampling"]}
+    from risk.report import run_info
+
+    return run_info(str(path), summary)
 
 
 def _output_files(summary: dict[str, Any], run_info: dict[str, Any]
                   ) -> dict[str, str | bytes]:
-    from risk.report.writer import dumps
+    from risk.report import output_files
 
-    files: dict[str, str | bytes] = {"results.json": dumps(summary),
-                                     "run.json": dumps(run_info)}
-    files.update(_memo_files(summary, run_info))
-    return files
+    return output_files(summary, run_info)
 
 
 def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, str | bytes]:
-    """memo.html, memo.pdf and figures/*.png. The date of the run lives in run.json (so that
-    results.json stays byte-identical for the same scenario and seed) and is shown in the memo.
-    """
-    from risk.report.memo import build_memo
+    from risk.report import memo_files
 
-    memo = build_memo({**summary, "run_date": run_info.get("run_date")})
-    files: dict[str, str | bytes] = {"memo.html": memo.html, "memo.pdf": memo.pdf}
-    files.update({f"figures/{name}.png": png for name, png in memo.figures.items()})
-    return files
+    return memo_files(summary, run_info)
 
 
 def render_memo(out: str | Path, *, force: bool = False) -> Path:

@@ -14,14 +14,15 @@ from typing import Any
 
 import numpy as np
 
-from risk import decision, probability
+from risk import decision
 from risk.assessment import MECHANISMS, Assessment
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
+from risk.result import GRID_POINTS, PoreCollapse, Result, StageResult
+from risk.result import summarize as summarize_result
 from risk.scenario import _SPEC
 
 __all__ = ["summarize", "GRID_POINTS", "rounded"]
 
-GRID_POINTS = 51
 SCHEMA = "risk.results/1"
 
 
@@ -47,71 +48,28 @@ def _key(x: float) -> float:
     return float(f"{x:.9g}") if math.isfinite(x) else x
 
 
-def _best_phasing(a: Assessment, by_dir: Any, p_r: float) -> dict[str, Any] | None:
-    """The best 180-degree phasing (two opposite shots) among the scenario's directions.
-
-    A pair fails when either tunnel fails, so its critical drawdown per sample is the smaller
-    of the two; the pair with the largest drawdown limit at the accepted risk wins.
-    """
-    angles = np.mod(np.degrees(np.asarray(a.directions)), 360.0)
-    best: tuple[tuple[float, float, float], int, int] | None = None
-    worst: tuple[float, float, float] | None = None
-    for i, ai in enumerate(angles):
-        for j, aj in enumerate(angles):
-            if j <= i or not np.isclose(np.mod(aj - ai, 360.0), 180.0, atol=1e-6):
-                continue
-            pair = np.minimum(by_dir[:, i], by_dir[:, j])
-            lim = min(probability.drawdown_limit(pair, a.scenario.accepted_risk)[0], p_r)
-            key = (_key(lim), _key(-float(np.mean(pair <= lim))),
-                   _key(float(np.mean(np.minimum(pair, p_r)))))
-            if best is None or key > best[0]:
-                best = (key, i, j)
-            worst = key if worst is None or key < worst else worst
-    if best is None or worst == best[0]:
-        return None  # fewer than two pairs, or every pair alike: no preference
-    (lim, _, _), i, j = best
-    return {"angles": [_angle(a, a.directions[i]), _angle(a, a.directions[j])],
-            "drawdown_limit": _pressure(a, lim)}
-
-
-def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
+def _stage_summary(a: Assessment, st: StageResult) -> dict[str, Any]:
+    """One mechanism at one stage, formatted (display units, rounded, null for never)."""
     sc = a.scenario
-    mech = a.mechanisms[key]
-    p_r = a.stages[k]
-    # sorted once, in double precision: every probability function below then reuses it
-    # (one copy, sorted in place: at 10^7 samples each extra copy is 80 MB of peak memory)
-    col = mech.by_direction[:, :, k]
-    dc = (col[:, 0] if col.shape[1] == 1 else col.min(axis=1)).astype(np.float64)
-    dc.sort()
-    levels = (0.01, 0.05, 0.1, 0.25, 0.5, 0.75, 0.9)
-    qs = probability.percentiles(dc, levels)
-    q = qs[[2, 4, 6]]
-    finite = np.isfinite(dc)
-    mean = float(dc.mean()) if finite.all() else math.inf
-    grid = np.linspace(0.0, sc.max_drawdown, GRID_POINTS)
-    p, lo, hi = probability.failure_curve(dc, grid)
-    limit, lower = probability.drawdown_limit(dc, sc.accepted_risk)
-    if a.deterministic:  # one exact evaluation: no sampling error, no band, bound = value
-        lo, hi, lower = p, p, limit
+    dc = st.critical_drawdown
     out: dict[str, Any] = {
-        "reservoir_pressure": _pressure(a, p_r),
-        "critical_drawdown": {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
-                              "p90": _pressure(a, q[2]), "mean": _pressure(a, mean)},
-        "critical_wall_pressure": {f"p{round(100 * lv):02d}": _pressure(a, p_r - v)
-                                   for lv, v in zip(levels, qs, strict=True)},
-        "never_fraction": rounded(float(np.mean(~finite))),
-        "zero_drawdown_fraction": rounded(float(np.mean(dc <= 0.0))),
-        "drawdown_limit": _pressure(a, min(limit, p_r)),
-        "drawdown_limit_lower": _pressure(a, min(lower, p_r)) if lower > -math.inf else None,
+        "reservoir_pressure": _pressure(a, st.reservoir_pressure),
+        "critical_drawdown": {k: _pressure(a, dc[k]) for k in ("p10", "p50", "p90", "mean")},
+        "critical_wall_pressure": {k: _pressure(a, v)
+                                   for k, v in st.critical_wall_pressure.items()},
+        "never_fraction": rounded(st.never_fraction),
+        "zero_drawdown_fraction": rounded(st.zero_drawdown_fraction),
+        "drawdown_limit": _pressure(a, st.drawdown_limit),
+        "drawdown_limit_lower": (None if st.drawdown_limit_lower is None
+                                 else _pressure(a, st.drawdown_limit_lower)),
         "failure_probability": [
             {"drawdown": _pressure(a, float(d)), "p": rounded(float(pi)),
              "low": rounded(float(li)), "high": rounded(float(hi_))}
-            for d, pi, li, hi_ in zip(grid, p, lo, hi, strict=True)
+            for d, pi, li, hi_ in zip(st.grid, st.p, st.low, st.high, strict=True)
         ],
-        "convergence_warning": (None if a.deterministic
-                                else probability.convergence_warning(dc, sc.accepted_risk)),
+        "convergence_warning": st.convergence_warning,
     }
-    rel = a.reliability.get((key, k))
+    rel = st.small_risk
     if rel is not None:
         out["small_risk"] = {
             "drawdown": _pressure(a, float(rel["drawdown"])),
@@ -122,104 +80,54 @@ def _stage_summary(a: Assessment, key: str, k: int) -> dict[str, Any]:
             "importance": {n: rounded(v) for n, v in rel["importance"].items()},
             "model_runs": int(rel["model_runs"]), "diagnostic": rel["diagnostic"],
         }
-    if not math.isfinite(limit):
+    if st.limit_beyond:
         out["drawdown_limit_note"] = (
             f"fewer than {sc.accepted_risk:.0%} of samples fail within the available "
             "drawdown; the limit is the full reservoir pressure")
-        out["drawdown_limit"] = _pressure(a, p_r)
     if sc.well.completion == "perforated":
-        by_dir = mech.by_direction[:, :, k]
-        lim = limit if math.isfinite(limit) else p_r
-        p50s = [float(probability.percentiles(by_dir[:, j], [0.5])[0])
-                for j in range(by_dir.shape[1])]
-        limits = [min(probability.drawdown_limit(by_dir[:, j], sc.accepted_risk)[0], p_r)
-                  for j in range(by_dir.shape[1])]
-        p_at = [probability.fraction_at_or_below(by_dir[:, j], lim)
-                for j in range(by_dir.shape[1])]
-        # mean of the critical drawdown capped at p_r: the last tie-breaker (larger is safer)
-        means = [float(np.mean(np.minimum(by_dir[:, j], p_r))) for j in range(by_dir.shape[1])]
-        shots = [{"angle": _angle(a, ang), "critical_drawdown_p50": _pressure(a, v),
-                  "drawdown_limit": _pressure(a, lim_j),
-                  "probability_at_limit": rounded(pj)}
-                 for ang, v, lim_j, pj in zip(a.directions, p50s, limits, p_at, strict=True)]
-        # best: largest own limit, then lowest probability at the well's limit, then largest
-        # capped mean; worst: the reverse. Exact ties all the way are reported as no preference.
-        # rounded so that floating-point noise (e.g. opposite shots, equal by symmetry) cannot
-        # pick a winner
-        keys = [(_key(lim_j), _key(-pj), _key(mj))
-                for lim_j, pj, mj in zip(limits, p_at, means, strict=True)]
-        order = sorted(range(len(keys)), key=lambda j: keys[j])
-        worst, best = order[0], order[-1]
-        distinct = keys[best] != keys[worst]
-        # equal directions tie, always: every direction with the worst (best) key is named,
-        # and the single angle reported is the first of them in the scenario's order
-        worst_all = [j for j in range(len(keys)) if keys[j] == keys[worst]]
-        best_all = [j for j in range(len(keys)) if keys[j] == keys[best]]
-        worst, best = worst_all[0], best_all[0]
-        out["worst_shot_angle"] = _angle(a, a.directions[worst]) if distinct else None
-        out["best_shot_angle"] = _angle(a, a.directions[best]) if distinct else None
-        out["worst_shot_angles"] = ([_angle(a, a.directions[j]) for j in worst_all]
+        distinct = bool(st.best_shots)
+        out["worst_shot_angle"] = _angle(a, st.worst_shots[0]) if distinct else None
+        out["best_shot_angle"] = _angle(a, st.best_shots[0]) if distinct else None
+        out["worst_shot_angles"] = ([_angle(a, x) for x in st.worst_shots]
                                     if distinct else None)
-        out["best_shot_angles"] = ([_angle(a, a.directions[j]) for j in best_all]
-                                   if distinct else None)
+        out["best_shot_angles"] = [_angle(a, x) for x in st.best_shots] if distinct else None
         if not distinct:
             out["shot_note"] = "every shot direction gives the same result: no preference"
-        out["shots"] = shots
-        phasing = _best_phasing(a, by_dir, p_r)
-        if phasing is not None:
-            out["best_phasing"] = phasing
+        out["shots"] = [{"angle": _angle(a, sh.angle),
+                         "critical_drawdown_p50": _pressure(a, sh.critical_drawdown_p50),
+                         "drawdown_limit": _pressure(a, sh.drawdown_limit),
+                         "probability_at_limit": rounded(sh.probability_at_limit)}
+                        for sh in st.shots]
+        if st.best_pair is not None:
+            (a1, a2), lim = st.best_pair
+            out["best_phasing"] = {"angles": [_angle(a, a1), _angle(a, a2)],
+                                   "drawdown_limit": _pressure(a, lim)}
     else:
-        th = mech.theta[:, 0, k]
-        ok = np.isfinite(th)
-        # wall angles are axial (t and t + pi are the same place): circular mean of 2t
-        mean2 = (math.atan2(float(np.mean(np.sin(2 * th[ok]))), float(np.mean(np.cos(2 * th[ok]))))
-                 if ok.any() else math.nan)
-        out["worst_wall_angle"] = (_angle(a, (0.5 * mean2) % math.pi) if ok.any() else None)
+        out["worst_wall_angle"] = (None if st.worst_wall_angle is None
+                                   else _angle(a, st.worst_wall_angle))
     return out
 
 
-def _pore_collapse(a: Assessment) -> dict[str, Any]:
-    """Pore collapse: critical reservoir pressure percentiles and the probability per stage.
-
-    ``p10`` is the reservoir pressure at or above which 10% of the samples have collapsed
-    (deplete to it and one sample in ten compacts), so p10 > p50 > p90.
-    """
-    assert a.compaction is not None
+def _pore_collapse(a: Assessment, pc: PoreCollapse) -> dict[str, Any]:
+    """Pore collapse, formatted: ``p10`` is the reservoir pressure at or above which 10% of
+    the samples have collapsed (so p10 > p50 > p90)."""
     out: dict[str, Any] = {"name": MECHANISMS["pore_collapse"]}
-    # one double copy at a time, sorted in place and reused (each is 80 MB at 10^7 samples)
-    neg = np.negative(a.compaction.far_field, dtype=np.float64)
-    neg.sort()
-    q_far = -probability.percentiles(neg, [0.1, 0.5, 0.9])
-    stages = []
-    for p_r in a.stages:
-        p, lo, hi = probability.failure_curve(neg, [-p_r])
-        if a.deterministic:
-            lo, hi = p, p
-        stages.append({"reservoir_pressure": _pressure(a, p_r), "probability": rounded(p[0]),
-                       "low": rounded(lo[0]), "high": rounded(hi[0]),
-                       "wall_probability": rounded(float(np.mean(a.compaction.wall >= p_r)))})
-    del neg
-    neg = np.negative(a.compaction.wall, dtype=np.float64)
-    neg.sort()
-    q_wall = -probability.percentiles(neg, [0.1, 0.5, 0.9])
-    del neg
-    for label, q in (("critical_reservoir_pressure", q_far),
-                     ("wall_critical_reservoir_pressure", q_wall)):
-        out[label] = {"p10": _pressure(a, q[0]), "p50": _pressure(a, q[1]),
-                      "p90": _pressure(a, q[2])}
-    out["stages"] = stages
-    out["never_fraction"] = rounded(float(np.mean(np.isneginf(a.compaction.far_field))))
-    if a.compaction.initial is not None:
+    out["critical_reservoir_pressure"] = {k: _pressure(a, v) for k, v in pc.far_field.items()}
+    out["wall_critical_reservoir_pressure"] = {k: _pressure(a, v) for k, v in pc.wall.items()}
+    out["stages"] = [{"reservoir_pressure": _pressure(a, s["reservoir_pressure"]),
+                      "probability": rounded(s["probability"]), "low": rounded(s["low"]),
+                      "high": rounded(s["high"]),
+                      "wall_probability": rounded(s["wall_probability"])} for s in pc.stages]
+    out["never_fraction"] = rounded(pc.never_fraction)
+    if pc.initially_compacted_fraction is not None:
         # a critical pressure at or above p0: compacted before any depletion (the wall value
         # is then reported as p0 itself)
-        out["initially_compacted_fraction"] = rounded(
-            float(np.mean(a.compaction.far_field >= a.compaction.initial)))
+        out["initially_compacted_fraction"] = rounded(pc.initially_compacted_fraction)
         out["wall_initially_compacted_fraction"] = rounded(
-            float(np.mean(a.compaction.wall >= a.compaction.initial)))
-    if a.stages:
-        last = min(a.stages)
+            pc.wall_initially_compacted_fraction or 0.0)
+    if pc.uncollapsed_at_last_stage_fraction is not None:
         out["uncollapsed_at_last_stage_fraction"] = rounded(
-            float(np.mean(a.compaction.far_field < last)))
+            pc.uncollapsed_at_last_stage_fraction)
     return out
 
 
@@ -446,18 +354,14 @@ def _options(a: Assessment) -> list[dict[str, Any]]:
     return out
 
 
-def _first_yield(a: Assessment) -> dict[str, Any] | None:
-    mech = a.mechanisms.get("yield_onset")
-    if mech is None:
+def _first_yield(a: Assessment, limits: tuple[float, ...] | None) -> dict[str, Any] | None:
+    if limits is None:
         return None
-    well = mech.well
-    stages = []
-    for k, p_r in enumerate(a.stages):
-        lim, _ = probability.drawdown_limit(well[:, k], a.scenario.accepted_risk)
-        stages.append({"reservoir_pressure": _pressure(a, p_r),
-                       "drawdown_limit": _pressure(a, min(lim, p_r))})
     return {"note": "conservative first-yield reference: the rock at the wall starts to yield; "
-                    "yielding is not sand production", "stages": stages}
+                    "yielding is not sand production",
+            "stages": [{"reservoir_pressure": _pressure(a, p_r),
+                        "drawdown_limit": _pressure(a, lim)}
+                       for p_r, lim in zip(a.stages, limits, strict=True)]}
 
 
 def _rank_correlation(a: Assessment) -> dict[str, Any] | None:
@@ -470,23 +374,25 @@ def _rank_correlation(a: Assessment) -> dict[str, Any] | None:
     return {"names": names, "matrix": [[rounded(float(v), 4) for v in row] for row in r]}
 
 
-def summarize(a: Assessment) -> dict[str, Any]:
-    """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``).
+def summarize(run: Assessment | Result) -> dict[str, Any]:
+    """A JSON-ready summary of one run (numbers in the scenario's units, listed in ``units``):
+    the typed :class:`~risk.result.Result` formatted, nothing computed here.
 
     ``warnings`` repeats the scenario's input warnings (:attr:`risk.scenario.Scenario.warnings`,
     an empty list when there are none), in the loader's fixed order.
     """
+    result = run if isinstance(run, Result) else summarize_result(run)
+    a = result.assessment
     sc = a.scenario
     units = {"pressure": sc.display_unit("pressure"), "angle": "deg",
              "length": sc.display_unit("length"), "probability": "-", "strain": "-",
              "plastic_radius_ratio": "-"}
     mechanisms = {
-        key: {"name": MECHANISMS[key],
-              "stages": [_stage_summary(a, key, k) for k in range(len(a.stages))]}
-        for key in a.mechanisms
+        key: {"name": m.name, "stages": [_stage_summary(a, st) for st in m.stages]}
+        for key, m in result.mechanisms.items()
     }
-    if a.compaction is not None:
-        mechanisms["pore_collapse"] = _pore_collapse(a)
+    if result.pore_collapse is not None:
+        mechanisms["pore_collapse"] = _pore_collapse(a, result.pore_collapse)
     if a.collapse_profile and "tunnel_collapse" in mechanisms:
         mechanisms["tunnel_collapse"]["profile"] = _profile(a)
     sens_first, sens_stage, tornado = _sensitivity(a)
@@ -504,7 +410,7 @@ def summarize(a: Assessment) -> dict[str, Any]:
                            "no sand-production mechanism is enabled, so this run gives no "
                            "sand-free limit (first yield is not sand production); to enable "
                            "one: " + _ENABLE),
-        "first_yield": _first_yield(a),
+        "first_yield": _first_yield(a, result.first_yield),
         "completion_choice": (_phasing(a, a.phasing, sc.well.shot_angles)
                               if sc.well.completion == "perforated" else None),
         "completion_options": _options(a),
