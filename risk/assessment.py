@@ -634,7 +634,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                     continue
 
                 def model(cols: dict[str, Array], key: str = key, stage: int = stage) -> Array:
-                    return evaluate(cols, scenario)[key].well[:, stage]
+                    return evaluate(cols, scenario, only={key})[key].well[:, stage]
 
                 # FORM starts from the most probable failing sample of the run
                 fails = np.nonzero(dc[:head] <= limit)[0]
