@@ -1,0 +1,328 @@
+"""Limit states: what each mechanism predicts for a block of samples (pure, vectorised).
+
+:func:`evaluate` runs every mechanism on a block of sampled inputs over samples x directions
+x stages: first yield at the wall, effective-strength (TWC) sanding onset, tunnel collapse;
+:func:`evaluate_compaction` the pore-collapse pressures; :func:`collapse_profile` the plastic
+zone along the drawdown axis. :mod:`risk.assessment` calls them chunk by chunk.
+
+Directions: an open hole is one direction (the well itself); a perforated well has one
+direction per shot. The well-level critical drawdown of a sample is the smallest over its
+directions (the first tunnel to fail).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass
+from typing import Any, Final
+
+import numpy as np
+from numpy.typing import NDArray
+from scipy.optimize import elementwise
+
+from risk.mechanics import cavity, compaction, sanding
+from risk.mechanics import stresses as st
+from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
+from risk.mechanics.yield_onset import critical_wall_pressure
+from risk.scenario import Scenario
+
+Array = NDArray[np.float64]
+
+__all__ = ["MECHANISMS", "DEFAULT_TWC_FACTOR", "MechanismResult", "CompactionResult",
+           "physical_inputs", "depletion_paths", "evaluate", "evaluate_compaction",
+           "collapse_profile", "cavity_radius", "PROFILE_SAMPLES", "PROFILE_POINTS"]
+
+#: Mechanisms by result key, with the human name used in tables and the memo.
+MECHANISMS: Final[dict[str, str]] = {
+    "yield_onset": "Yield onset at the wall",
+    "effective_strength_onset": "Effective-strength sanding onset (TWC)",
+    "tunnel_collapse": "Tunnel collapse (critical plastic strain)",
+    "pore_collapse": "Pore collapse under depletion",
+}
+DEFAULT_TWC_FACTOR: Final = 3.1  # Willson et al. (2002), SPE 78168, as quoted by Bellarby (2009)
+
+@dataclass(frozen=True)
+class MechanismResult:
+    """Per-sample outcomes of one mechanism.
+
+    by_direction : critical drawdown [MPa], shape (n, n_directions, n_stages); +inf = never.
+        Single precision for runs above LARGE_RUN samples (relative rounding 6e-8, far below
+        any input uncertainty), so that 10^7 samples fit in memory.
+    theta : wall angle [rad] where the limit is first reached, for the first HEAD_ROWS
+        samples (nan = never)
+    """
+
+    name: str
+    by_direction: Array
+    theta: Array
+
+    @property
+    def well(self) -> Array:
+        """Well-level critical drawdown [MPa], (n, n_stages): first direction to fail."""
+        return np.asarray(self.by_direction.min(axis=1))
+
+
+@dataclass(frozen=True)
+class CompactionResult:
+    """Critical reservoir pressure [MPa] of pore collapse per sample: compaction starts when the
+    reservoir is depleted to or below it. ``-inf``: never above zero pressure.
+
+    far_field : (n,) far-field mean effective stress reaches P*
+    wall : (n,) largest mean effective stress at any cavity wall (zero drawdown) reaches P*
+    """
+
+    far_field: Array
+    wall: Array
+    initial: Array | None = None  # initial pore pressure p0 of each sample [MPa]
+
+def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Array]:
+    """Absolute stresses and pore pressure [MPa] from the sampled columns (gradients x depth)."""
+    depth = scenario.well.depth
+    out: dict[str, Array] = {}
+    for name in ("sv", "shmax", "shmin", "pp"):
+        if scenario.stress_given[name] == "absolute":
+            out[name] = np.asarray(cols[name], dtype=float)
+        else:
+            out[name] = np.asarray(cols[f"{name}_gradient"], dtype=float) * depth
+    return out
+
+
+def depletion_paths(cols: Mapping[str, Array]) -> tuple[Array, Array]:
+    """Depletion paths dSh/dp and dSH/dp [1] (MECHANICS.md sec. 3): ``depletion_path``, or the
+    uniaxial-strain value alpha (1 - 2 nu)/(1 - nu); ``depletion_path_shmax`` defaults to it."""
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
+            else st.uniaxial_strain_path(biot=biot, poisson_ratio=nu))
+    path_big = (np.asarray(cols["depletion_path_shmax"], dtype=float)
+                if "depletion_path_shmax" in cols else path)
+    return path, path_big
+
+
+def _frames(scenario: Scenario) -> Array:
+    w = scenario.well
+    if w.completion == "openhole":
+        return st.cavity_frame(w.inclination, w.azimuth)[None]
+    return st.tunnel_frame(well_inclination=w.inclination, well_azimuth=w.azimuth,
+                           shot_angle=np.asarray(w.shot_angles))
+
+
+def evaluate(cols: Mapping[str, Array], scenario: Scenario,
+             only: set[str] | None = None) -> dict[str, MechanismResult]:
+    """Run every mechanism on a block of samples.
+
+    Parameters
+    ----------
+    cols : mapping of name -> ndarray (n,)
+        Every scenario input [internal units] (fixed ones as constant columns).
+    scenario : Scenario
+    only : set of mechanism keys, optional
+        Evaluate only these (yield onset is always computed when asked for or when ``only`` is
+        None).
+
+    Returns
+    -------
+    dict of mechanism key -> MechanismResult, arrays (n, n_directions, n_stages)
+    """
+    phys = physical_inputs(cols, scenario)
+    n = phys["sv"].size
+    stages = np.asarray(scenario.reservoir_pressure)[None, :]  # (1, k)
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    biot = np.asarray(cols["biot"], dtype=float)
+    big_a = st.poroelastic_coefficient(biot=biot, poisson_ratio=nu)
+    path, path_big = depletion_paths(cols)
+    p0 = phys["pp"][:, None]
+    sh_max = st.depleted_stress(initial=phys["shmax"][:, None], initial_pore_pressure=p0,
+                                reservoir_pressure=stages, path=path_big[:, None])
+    sh_min = st.depleted_stress(initial=phys["shmin"][:, None], initial_pore_pressure=p0,
+                                reservoir_pressure=stages, path=path[:, None])
+    tensor = st.far_field_tensor(shmax=sh_max, shmin=sh_min, sv=phys["sv"][:, None],
+                                 shmax_azimuth=np.asarray(cols["shmax_azimuth"])[:, None])
+    frames = _frames(scenario)  # (m, 3, 3)
+    local = st.local_stress(tensor[:, None], frames[None, :, None])  # (n, m, k)
+
+    def per_sample(a: Array) -> Array:
+        return np.asarray(a, dtype=float).reshape(n, 1, 1)
+
+    if scenario.criterion == "hoek-brown":
+        gsi = cols.get("gsi", np.full(n, 100.0))
+        mb, s, a = hoek_brown_rock_mass(mi=cols["hb_mi"], gsi=gsi)
+    else:
+        mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
+    strength = StrengthParameters(per_sample(cols["ucs"]), per_sample(cols["friction_angle"]),
+                                  per_sample(mb), per_sample(s), per_sample(a))
+    p_r = stages[:, None, :]  # (1, 1, k)
+    out: dict[str, MechanismResult] = {}
+    if only is None or "yield_onset" in only:
+        onset = critical_wall_pressure(
+            local, reservoir_pressure=p_r, poro_coefficient=per_sample(big_a),
+            poisson_ratio=per_sample(nu), strength=strength,
+            tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
+        )
+        out["yield_onset"] = MechanismResult("yield_onset", p_r - onset.wall_pressure,
+                                             onset.theta)
+    if ("twc" in cols or "twc_ratio" in cols) and (
+            only is None or "effective_strength_onset" in only):
+        twc = (np.asarray(cols["twc"]) if "twc" in cols
+               else np.asarray(cols["twc_ratio"]) * np.asarray(cols["ucs"]))
+        factor = np.asarray(cols.get("twc_factor", np.full(n, DEFAULT_TWC_FACTOR)))
+        u = per_sample(sanding.effective_strength(twc=twc, factor=factor))
+        if scenario.effective_strength_cavity == "tip":
+            mean_total = (local.sxx + local.syy + local.szz) / 3.0
+            pw = sanding.tip_onset_wall_pressure(sigma=mean_total, strength=u,
+                                                 reservoir_pressure=p_r,
+                                                 poro_coefficient=per_sample(big_a))
+        else:
+            s1, s3 = st.in_plane_principal(local)
+            pw = sanding.cylinder_onset_wall_pressure(sigma_1=s1, sigma_3=s3, strength=u,
+                                                      reservoir_pressure=p_r,
+                                                      poro_coefficient=per_sample(big_a))
+        dc_es = sanding.classify_wall_pressure(pw, p_r)
+        if scenario.effective_strength_cavity == "tip":
+            th_es = np.full(dc_es.shape, np.nan)
+        else:  # the hoop stress peaks where 2 (sxx - syy) cos 2t + 4 sxy sin 2t is least
+            th_es = np.mod(0.5 * (np.arctan2(4.0 * local.sxy, 2.0 * (local.sxx - local.syy))
+                                  + np.pi), np.pi)
+            th_es = np.where(np.isinf(dc_es), np.nan, np.broadcast_to(th_es, dc_es.shape))
+        out["effective_strength_onset"] = MechanismResult("effective_strength_onset", dc_es,
+                                                          th_es)
+    if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
+        kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a)
+        p_wc = cavity.collapse_wall_pressure(
+            critical_plastic_strain=per_sample(cols["critical_plastic_strain"]), p_r=p_r, **kw)
+        dc_tc = p_r - p_wc
+        out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
+                                                 np.full(dc_tc.shape, np.nan))
+    return out
+
+
+def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
+                     dc: Array) -> tuple[dict[str, Any], ...]:
+    """Plastic radius and wall plastic strain against drawdown for a block of samples.
+
+    Parameters
+    ----------
+    cols : input columns of the block [internal units]
+    scenario : Scenario
+    dc : tunnel-collapse critical drawdown of the block (n, n_directions, n_stages) [MPa]
+    """
+    phys = physical_inputs(cols, scenario)
+    n = phys["sv"].size
+    stages = np.asarray(scenario.reservoir_pressure)
+    path, path_big = depletion_paths(cols)
+    frames = _frames(scenario)
+    worst = np.argmin(dc, axis=1)  # (n, k): first direction to collapse
+    if scenario.criterion == "hoek-brown":
+        mb, s, a = hoek_brown_rock_mass(mi=cols["hb_mi"], gsi=cols.get("gsi", np.full(n, 100.)))
+    else:
+        mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
+    out = []
+    for k, p_r in enumerate(stages):
+        big = st.depleted_stress(initial=phys["shmax"], initial_pore_pressure=phys["pp"],
+                                 reservoir_pressure=p_r, path=path_big)
+        small = st.depleted_stress(initial=phys["shmin"], initial_pore_pressure=phys["pp"],
+                                   reservoir_pressure=p_r, path=path)
+        t = st.far_field_tensor(shmax=big, shmin=small, sv=phys["sv"],
+                                shmax_azimuth=np.asarray(cols["shmax_azimuth"]))
+        frame = frames[worst[:, k]]  # (n, 3, 3)
+        loc = st.local_stress(t, frame)
+        loc = st.LocalStress(*(np.asarray(c)[:, None] for c in loc))  # (n, 1)
+
+        def col(v: Array) -> Array:
+            return np.asarray(v, dtype=float).reshape(n, 1)
+
+        kw = _cavity_inputs(cols, scenario, loc, col, mb, s, a)
+        crit = kw.pop("criterion")
+        fn = cavity.hoek_brown_cavity if crit == "hoek-brown" else cavity.mohr_coulomb_cavity
+        grid = np.linspace(0.0, min(scenario.max_drawdown, p_r), PROFILE_POINTS)
+        resp = fn(p_r=p_r, p_w=p_r - grid[None, :], sigma_axial=loc.szz, **kw)
+        ratio = np.where(resp.seepage_unstable, np.inf, resp.plastic_radius / kw["r_w"])
+        strain = np.where(resp.seepage_unstable, np.inf, resp.wall_plastic_strain)
+        d_crit = dc[np.arange(n), worst[:, k], k]
+        collapsing = np.isfinite(d_crit)  # including collapse with no drawdown
+        flag = 0.0
+        if np.any(collapsing):
+            at = fn(p_r=p_r, p_w=np.where(collapsing, p_r - d_crit, p_r)[:, None],
+                    sigma_axial=loc.szz, **kw)
+            flag = float(np.mean(np.asarray(at.axial_exceeds_hoop)[collapsing, 0]))
+        out.append({"drawdown": grid, "plastic_radius_ratio": ratio,
+                    "wall_plastic_strain": strain, "plane_strain_flag": flag})
+    return tuple(out)
+
+
+def cavity_radius(scenario: Scenario) -> float:
+    """Wall radius of the collapsing cavity [m]: the tunnel's, or the open hole's."""
+    w = scenario.well
+    d = w.tunnel_diameter if w.completion == "perforated" else w.hole_diameter
+    if d is None:  # the scenario loader refuses this combination
+        raise ValueError("tunnel collapse needs the cavity diameter")
+    return 0.5 * d
+
+
+def _cavity_inputs(cols: Mapping[str, Array], scenario: Scenario, local: st.LocalStress,
+                   per_sample: Callable[[Array], Array], mb: Array, s: Array, a: Array
+                   ) -> dict[str, Any]:
+    """Keyword arguments of the cavity model (MECHANICS.md 4.3): equivalent hydrostatic
+    in-plane stress (3 s1 - s3)/2 of each direction and stage, radii, elastic constants."""
+    s1, s3 = st.in_plane_principal(local)
+    n = np.asarray(cols["ucs"]).size
+    kw: dict[str, Any] = {
+        "sigma0": 0.5 * (3.0 * s1 - s3),
+        "r_w": cavity_radius(scenario),
+        "r_e": per_sample(cols["drainage_radius"]),
+        "dilation_angle": per_sample(cols.get("dilation_angle", np.zeros(n))),
+        "young_modulus": per_sample(cols["young_modulus"]),
+        "poisson_ratio": per_sample(cols["poisson_ratio"]),
+        "biot": per_sample(cols["biot"]),
+    }
+    if scenario.criterion == "hoek-brown":
+        kw.update(criterion="hoek-brown", sigma_ci=per_sample(cols["ucs"]), mb=per_sample(mb),
+                  s=per_sample(s), a=per_sample(a))
+    else:
+        kw.update(criterion="mohr-coulomb", ucs=per_sample(cols["ucs"]),
+                  friction_angle=per_sample(cols["friction_angle"]))
+    return kw
+
+
+def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> CompactionResult:
+    """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa]."""
+    phys = physical_inputs(cols, scenario)
+    nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    path, path_big = depletion_paths(cols)
+    p_star = np.asarray(cols["pore_collapse_pressure"], dtype=float)
+    far = compaction.far_field_collapse_pressure(
+        sv=phys["sv"], shmax0=phys["shmax"], shmin0=phys["shmin"], p0=phys["pp"], path=path,
+        path_shmax=path_big, collapse_pressure=p_star)
+    far = np.where(far < 0.0, -np.inf, far)
+    frames = _frames(scenario)
+
+    def wall_excess(p_r: Array, *args: Array) -> Array:
+        sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar = args
+        big = st.depleted_stress(initial=sh_max0, initial_pore_pressure=p0,
+                                 reservoir_pressure=p_r, path=g_big)
+        small = st.depleted_stress(initial=sh_min0, initial_pore_pressure=p0,
+                                   reservoir_pressure=p_r, path=g)
+        t = st.far_field_tensor(shmax=big, shmin=small, sv=sv, shmax_azimuth=az)
+        loc = st.local_stress(t[..., None, :, :], frames)
+        m = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
+                                           poisson_ratio=nu_[..., None])
+        return np.asarray(m.max(axis=-1) - pstar)
+
+    args = (phys["sv"], phys["shmax"], phys["shmin"], phys["pp"], path, path_big,
+            np.asarray(cols["shmax_azimuth"], dtype=float), nu, p_star)
+    hi = phys["pp"]
+    f_hi = wall_excess(hi, *args)
+    f_lo = wall_excess(np.zeros_like(hi), *args)
+    wall = np.where(f_hi >= 0.0, hi, -np.inf)
+    solve = (f_hi < 0.0) & (f_lo >= 0.0)
+    if np.any(solve):
+        idx = np.nonzero(solve)[0]
+        res = elementwise.find_root(
+            wall_excess, (np.zeros(idx.size), hi[idx]), args=tuple(a[idx] for a in args),
+            tolerances={"xatol": 1e-12, "xrtol": 4 * np.finfo(float).eps})
+        wall[idx] = res.x
+    return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"])
+
+
+PROFILE_SAMPLES: Final = 256
+PROFILE_POINTS: Final = 21
