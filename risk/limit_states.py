@@ -88,7 +88,7 @@ def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, 
 
 
 def depletion_paths(cols: Mapping[str, Array]) -> tuple[Array, Array]:
-    """Depletion paths dSh/dp and dSH/dp [1] (MECHANICS.md sec. 3): ``depletion_path``, or the
+    """Depletion paths dSh/dp and dSH/dp [1] (docs/derivations.md, sec. 2): ``depletion_path``, or the
     uniaxial-strain value alpha (1 - 2 nu)/(1 - nu); ``depletion_path_shmax`` defaults to it."""
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     biot = np.asarray(cols["biot"], dtype=float)
@@ -262,7 +262,7 @@ def cavity_radius(scenario: Scenario) -> float:
 def _cavity_inputs(cols: Mapping[str, Array], scenario: Scenario, local: st.LocalStress,
                    per_sample: Callable[[Array], Array], mb: Array, s: Array, a: Array
                    ) -> dict[str, Any]:
-    """Keyword arguments of the cavity model (MECHANICS.md 4.3): equivalent hydrostatic
+    """Keyword arguments of the cavity model (docs/derivations.md, sec. 5): equivalent hydrostatic
     in-plane stress (3 s1 - s3)/2 of each direction and stage, radii, elastic constants."""
     s1, s3 = st.in_plane_principal(local)
     n = np.asarray(cols["ucs"]).size
