@@ -161,7 +161,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import elementwise
 from scipy.special import wrightomega
 
-from risk.mechanics.criteria import hoek_brown_rock_mass
+from risk.mechanics.criteria import hoek_brown_rock_mass, passive_coefficient
 
 Array = NDArray[np.float64]
 Mask = NDArray[np.bool_]
@@ -319,12 +319,6 @@ def _check_hb(v: dict[str, Array]) -> None:
 def _flow_coefficient(psi: Array) -> Array:
     """K_psi = (1 + sin psi)/(1 - sin psi) [1]."""
     sp = np.sin(psi)
-    return (1.0 + sp) / (1.0 - sp)
-
-
-def _passive_coefficient(phi: Array) -> Array:
-    """q = (1 + sin phi)/(1 - sin phi) [1]."""
-    sp = np.sin(phi)
     return (1.0 + sp) / (1.0 - sp)
 
 
@@ -830,7 +824,7 @@ def mohr_coulomb_cavity(
     _check_common(v, with_wall_pressure=True)
     _check_mc(v)
     state = _mc_state(v["sigma0"], v["p_r"], v["p_w"], v["r_w"], v["r_e"], v["ucs"],
-                      _passive_coefficient(v["friction_angle"]),
+                      passive_coefficient(v["friction_angle"]),
                       _flow_coefficient(v["dilation_angle"]), v["young_modulus"],
                       v["poisson_ratio"], v["biot"])
     return _response(state, shape, v, sigma_axial)
@@ -1030,7 +1024,7 @@ def collapse_wall_pressure(
     if criterion == "mohr-coulomb":
         _check_mc(v)
         margin = _margin_mc
-        args = (*base, v["ucs"], _passive_coefficient(v["friction_angle"]), m, *elastic)
+        args = (*base, v["ucs"], passive_coefficient(v["friction_angle"]), m, *elastic)
         unconfined = v["ucs"]
     else:
         _check_hb(v)
