@@ -202,6 +202,7 @@ def test_identical_shots_give_no_preference(write, field_doc):
     assert "no preference" in st0["shot_note"]
 
 
+@pytest.mark.slow
 def test_correlated_inputs_never_get_cholesky_variable_indices():
     # With correlated inputs the Monte-Carlo pick-freeze fallback would index the hidden
     # independent variables; the run must use the surrogate or the given-data indices instead.

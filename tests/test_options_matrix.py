@@ -51,6 +51,7 @@ def test_runs_end_to_end(criterion, sampling, cavity):
         assert np.all(tc >= yo - 1e-9)
 
 
+@pytest.mark.slow
 def test_small_risk_starts_form_off_the_plateau():
     # Most samples never reach the effective-strength onset (a plateau at p_r), so FORM started
     # at the median point would find no gradient. Started from the run's most probable failing
