@@ -17,7 +17,7 @@ $(STAMP_RUN): pyproject.toml | $(BIN)/python
 	touch $@
 
 $(STAMP_TEST): pyproject.toml | $(BIN)/python
-	$(BIN)/python -m pip install --quiet -e ".[test]"
+	$(BIN)/python -m pip install --quiet -e ".[test,bench]"
 	touch $@ $(STAMP_RUN)
 
 demo: $(STAMP_RUN)

@@ -4,7 +4,7 @@
    (derived; f is a product of g_i = exp(b_i x_i)): with E_i = E[g_i] = (e^b_i - 1)/b_i and
    F_i = E[g_i^2] = (e^(2 b_i) - 1)/(2 b_i), V = prod F - prod E^2,
    S_i = (F_i - E_i^2) prod_{j != i} E_j^2 / V,  S_Ti = (F_i - E_i^2) prod_{j != i} F_j / V.
-   Target (design note UNCERTAINTY.md section 4): every first-order and total index within
+   Target (docs/derivations.md, sec. 8): every first-order and total index within
    0.01 with <= 1,024 model runs and <= 0.5 s of analysis. SALib (Saltelli sampling, Sobol
    analysis) is run at doubling sample sizes until it meets the same target.
 2. Indices from an already fitted expansion of ~500 terms (8 inputs, degree 4: 495 terms) in

@@ -96,10 +96,10 @@ def scipy_loop(case: dict[str, object], count: int) -> list[float]:
 
 def probe(case: dict[str, object]) -> tuple[np.ndarray, np.ndarray]:
     """Bare-arithmetic numpy evaluation of the same answer for these vertical wells: the
-    closed form of MECHANICS.md 4.1 for both the hoop and the axial branch (Mohr-Coulomb with
-    the radial stress as the minor one, valid as every wall here is compressive all round),
-    the outcome conventions (p_r: fails with no drawdown, -inf: never) and the worst angle
-    (Kirsch: where the hoop stress peaks). Nothing is checked or classified."""
+    closed form of docs/derivations.md sec. 3 for both the hoop and the axial branch
+    (Mohr-Coulomb with the radial stress as the minor one, valid as every wall here is
+    compressive all round), the outcome conventions (p_r: fails with no drawdown, -inf: never)
+    and the worst angle (Kirsch: where the hoop stress peaks). Nothing is checked or classified."""
     loc: st.LocalStress = case["loc"]  # type: ignore[assignment]
     ucs = np.asarray(case["ucs"])
     a, nu, p_r = 0.5, 0.25, 30.0

@@ -13,12 +13,14 @@ a file name taken from the user's input) is shown as a visible escape such as ``
 
 from __future__ import annotations
 
+import difflib
 import re
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from typing import Any, Final
 
 __all__ = ["Problem", "ScenarioError", "RiskError", "CONTROL_CHARACTERS", "MAX_LISTED",
-           "toml_key", "visible"]
+           "closest", "did_you_mean", "toml_key", "visible"]
 
 #: Characters that change how a terminal or a page shows the text around them: the C0 controls
 #: (U+0000-U+001F), DEL (U+007F), the C1 controls (U+0080-U+009F), the line and paragraph
@@ -37,6 +39,19 @@ def visible(text: str, keep: str = "") -> str:
     """
     return CONTROL_CHARACTERS.sub(
         lambda m: m.group() if m.group() in keep else repr(m.group())[1:-1], text)
+
+
+def closest(word: str, choices: Iterable[str]) -> str | None:
+    """The choice most like ``word`` (difflib ratio at least 0.6), or None: the one place that
+    decides what a typing error was meant to be."""
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
+    return close[0] if close else None
+
+
+def did_you_mean(word: str, choices: Iterable[str]) -> str:
+    """`` (did you mean 'x'?)`` for the :func:`closest` choice, or an empty string."""
+    close = closest(word, choices)
+    return f" (did you mean {close!r}?)" if close is not None else ""
 
 
 def toml_key(key: object) -> str:

@@ -16,7 +16,7 @@ Definitions (used everywhere in this module)
 
 The binomial statements (bands, lower bound, sample-size guide) assume independent samples
 (plain Monte Carlo). Scrambled Sobol' and Latin-hypercube samples estimate the same quantities
-with less variance (UNCERTAINTY.md, sec. 2), so for them the bands and bounds are conservative
+with less variance (docs/derivations.md, sec. 6), so for them the bands and bounds are conservative
 in practice, though not proven so.
 """
 
@@ -251,7 +251,8 @@ def convergence_warning(dc: ArrayLike, accepted_risk: float,
 
     The run resolves a probability ``p`` when its relative standard error
     ``sqrt((1 - p)/(n p))`` is at most ``rel_error`` (:func:`samples_needed`). For
-    scrambled Sobol' samples this is a conservative guide (they need fewer; UNCERTAINTY.md).
+    scrambled Sobol' samples this is a conservative guide (they need fewer;
+    docs/derivations.md, sec. 6).
 
     Parameters
     ----------

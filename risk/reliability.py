@@ -363,7 +363,7 @@ def compare(form_result: FormResult, pf_sorm: float, pf_is: float, cov_is: float
     Importance sampling is the reference: its band is ``pf_is (1 +- z cov_is)``. FORM and
     SORM are approximations without an error estimate; they are flagged when they lie outside
     the band widened by the relative allowance ``rel_tol`` (the SORM errors measured on curved
-    cases were +3.6%/+0.4%, FORM's +54%/-36%; UNCERTAINTY.md, sec. 2).
+    cases were +3.6%/+0.4%, FORM's +54%/-36%; docs/derivations.md, sec. 7).
 
     Parameters
     ----------

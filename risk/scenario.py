@@ -33,20 +33,21 @@ memo repeat.
 from __future__ import annotations
 
 import dataclasses
-import difflib
 import hashlib
 import math
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
+from types import MappingProxyType
 from typing import Any, Final
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, UNIT_SYSTEMS
-from risk.errors import Problem, ScenarioError, toml_key, visible
+from risk.errors import Problem, ScenarioError, closest, did_you_mean, toml_key, visible
 from risk.mechanics.criteria import CRITERIA
 from risk.uncertainty import (
     MAGNITUDE_TEXT,
+    RULES,
     Bounds,
     Marginal,
     is_plain_number,
@@ -76,7 +77,6 @@ __all__ = [
     "COMPLETION_KEYS",
     "PAIR_TAIL",
     "STAGE_ABOVE_PP",
-    "SAMPLING_RULES",
 ]
 
 MAX_SAMPLES: Final = 10_000_000
@@ -112,7 +112,6 @@ _OPERATING_POINT_KEYS: Final = ("reservoir_pressure", "drawdown", "wall_pressure
 PAIR_TAIL: Final = 1e-13
 #: A stage more than this fraction above the initial pore pressure gets a warning [-].
 STAGE_ABOVE_PP: Final = 0.01
-SAMPLING_RULES: Final = ("sobol", "lhs", "random")
 COMPLETIONS: Final = ("perforated", "openhole")
 STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
 
@@ -194,7 +193,10 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
     InputSpec("drainage_radius", "production", "length", _POS, False,
               "radius of the constant-pressure boundary of the steady inflow"),
 )
-_SPEC: Final = {s.name: s for s in INPUTS}
+#: Every input's specification by name (read-only): the public way to look one up.
+INPUT_SPECS: Final[Mapping[str, InputSpec]] = MappingProxyType({s.name: s for s in INPUTS})
+#: Former private name of :data:`INPUT_SPECS`, kept while modules still import it.
+_SPEC: Final = INPUT_SPECS
 
 _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
     "": ("title", "units", "well", "stress", "rock", "production", "analysis", "correlation",
@@ -296,15 +298,6 @@ class Scenario:
 
 
 # --------------------------------------------------------------------------------------------
-def _did_you_mean(word: str, choices: tuple[str, ...] | list[str]) -> str:
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
-    return f" (did you mean {close[0]!r}?)" if close else ""
-
-
-_is_number = is_plain_number
-_num_ok = is_real
-
-
 _key_text = toml_key
 
 
@@ -329,12 +322,12 @@ class _Collector:
             return None
         v = table[key]
         if integer:
-            if not isinstance(v, int) or isinstance(v, bool) or not _num_ok(v):
+            if not isinstance(v, int) or isinstance(v, bool) or not is_real(v):
                 self.add(full, v, expected)
                 return None
-        elif not _is_number(v):
+        elif not is_plain_number(v):
             self.add(full, v, expected if not isinstance(v, int | float) or isinstance(v, bool)
-                     or (_num_ok(v) and not math.isfinite(float(v)))
+                     or (is_real(v) and not math.isfinite(float(v)))
                      else f"{MAGNITUDE_TEXT}; {expected}")
             return None
         fv = float(v)
@@ -352,7 +345,7 @@ def _check_keys(c: _Collector, table: Mapping[str, Any], section: str) -> None:
             kind = "section" if not section and isinstance(table[key], dict) else "key"
             c.add(where, table[key],
                   f"a known {kind}{' in [' + section + ']' if section else ''}: "
-                  f"{', '.join(allowed)}{_did_you_mean(str(key), allowed)}",
+                  f"{', '.join(allowed)}{did_you_mean(str(key), allowed)}",
                   found_text=f"unknown {kind} {key!r}")
 
 
@@ -377,7 +370,7 @@ def _parse_completion(c: _Collector, w: Mapping[str, Any], prefix: str, units: s
     completion = w.get("completion")
     if not isinstance(completion, str) or completion not in COMPLETIONS:
         c.add(f"{prefix}.completion", completion, 'completion = "perforated" or "openhole"'
-              + (_did_you_mean(completion, list(COMPLETIONS))
+              + (did_you_mean(completion, list(COMPLETIONS))
                  if isinstance(completion, str) else ""),
               found_text="nothing (the key is missing)" if completion is None else None)
     shots: tuple[float, ...] = ()
@@ -390,7 +383,7 @@ def _parse_completion(c: _Collector, w: Mapping[str, Any], prefix: str, units: s
     if completion == "perforated":
         raw_shots = w.get("shot_angles")
         if (not isinstance(raw_shots, list) or not raw_shots
-                or not all(_is_number(a) for a in raw_shots)):
+                or not all(is_plain_number(a) for a in raw_shots)):
             c.add(f"{prefix}.shot_angles", raw_shots,
                   "a non-empty list of shot angles in degrees from the high side, "
                   "e.g. [0, 60, 120, 180, 240, 300]"
@@ -438,7 +431,7 @@ def _parse_phasings(c: _Collector, w: Mapping[str, Any]) -> tuple[float, ...]:
     if "phasings" not in w:
         return DEFAULT_PHASINGS
     raw = w["phasings"]
-    if not isinstance(raw, list) or not raw or not all(_is_number(v) for v in raw):
+    if not isinstance(raw, list) or not raw or not all(is_plain_number(v) for v in raw):
         c.add("well.phasings", raw, f"a non-empty list of {_PHASING_TEXT}")
         return DEFAULT_PHASINGS
     if len(raw) > MAX_PHASINGS:
@@ -473,8 +466,9 @@ def _table_keys(c: _Collector, table: Mapping[str, Any], key: str, allowed: tupl
         if k not in allowed:
             c.add(f"{key}.{_key_text(k)}", table[k],
                   f"a known key of {what}: {', '.join(allowed)}"
-                  f"{_did_you_mean(str(k), allowed)}", found_text=f"unknown key {k!r}")
-            suggested.update(difflib.get_close_matches(str(k), list(allowed), n=1, cutoff=0.6))
+                  f"{did_you_mean(str(k), allowed)}", found_text=f"unknown key {k!r}")
+            if (meant := closest(str(k), allowed)) is not None:
+                suggested.add(meant)
     return suggested
 
 
@@ -496,7 +490,7 @@ def _stage_rule(c: _Collector, rule: Mapping[str, Any], inputs: Mapping[str, Mar
     if isinstance(raw_from, str):
         if raw_from != "initial":
             c.add(f"{key}.from", raw_from, f'a first stage [{unit}] or "initial" (the initial '
-                  f"pore pressure){_did_you_mean(raw_from, ['initial'])}")
+                  f"pore pressure){did_you_mean(raw_from, ['initial'])}")
         elif depth is not None:
             pp = _central("pp", inputs, given, depth, disp, units)
             if pp is not None:
@@ -622,11 +616,11 @@ def _parse_options(c: _Collector, raw: Any, w: Mapping[str, Any], base_ok: bool,
         typo: set[str] = set()
         for k in opt:
             if k not in _OPTION_KEYS:
-                typo.update(difflib.get_close_matches(str(k), list(_OPTION_KEYS), n=1,
-                                                      cutoff=0.6))
+                if (meant := closest(str(k), _OPTION_KEYS)) is not None:
+                    typo.add(meant)
                 c.add(f"{key}.{_key_text(k)}", opt[k],
                       f"a known key in [[option]]: {', '.join(_OPTION_KEYS)}"
-                      f"{_did_you_mean(str(k), _OPTION_KEYS)}"
+                      f"{did_you_mean(str(k), _OPTION_KEYS)}"
                       + (" (phasings are given once, in [well])" if k == "phasings" else ""),
                       found_text=f"unknown key {k!r}")
         name = opt.get("name")
@@ -698,7 +692,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     if not isinstance(units, str) or units not in UNIT_SYSTEMS:
         c.add("units", units, 'units = "field" (psi, ft, in, degrees, psi/ft) or "si" '
               "(MPa, m, mm, degrees, kPa/m)"
-              + (_did_you_mean(units, list(UNIT_SYSTEMS)) if isinstance(units, str) else ""),
+              + (did_you_mean(units, list(UNIT_SYSTEMS)) if isinstance(units, str) else ""),
               found_text="nothing (the key is missing)" if units is None else None)
         raise ScenarioError(c.problems, source_name)
     conv = TO_INTERNAL[units]
@@ -764,13 +758,13 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     pr = sections["production"]
     stages_raw = pr.get("reservoir_pressure")
     stages: tuple[float, ...] = ()
-    if _is_number(stages_raw):
+    if is_plain_number(stages_raw):
         stages_raw = [stages_raw]
     if isinstance(stages_raw, dict):
         stages = _stage_rule(c, stages_raw, inputs, stress_given,
                              None if depth is None else depth * conv["length"], units)
     elif (not isinstance(stages_raw, list) or not stages_raw
-            or not all(_is_number(s) and s > 0 for s in stages_raw)):
+            or not all(is_plain_number(s) and s > 0 for s in stages_raw)):
         if "production" in doc:
             c.add("production.reservoir_pressure", stages_raw,
                   f"a list of reservoir pressures > 0 [{disp['pressure']}], one per depletion "
@@ -806,7 +800,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                 if point is not None:
                     ops.append(point)
             elif (isinstance(op, list) and len(op) == 2
-                    and all(_is_number(v) and v >= 0 for v in op)
+                    and all(is_plain_number(v) and v >= 0 for v in op)
                     and op[1] <= op[0]):
                 ops.append((float(op[0]) * conv["pressure"], float(op[1]) * conv["pressure"]))
             else:
@@ -821,7 +815,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
     if not isinstance(criterion, str) or criterion not in CRITERIA:
         names = sorted(CRITERIA)
         c.add("analysis.criterion", criterion, "one of " + ", ".join(names)
-              + (_did_you_mean(criterion, names) if isinstance(criterion, str) else ""))
+              + (did_you_mean(criterion, names) if isinstance(criterion, str) else ""))
     samples = c.number(an, "analysis", "samples", required=False, integer=True,
                        check=lambda v: 1 <= v <= MAX_SAMPLES,
                        expected=f"a whole number of samples from 1 to {MAX_SAMPLES:,}")
@@ -829,9 +823,9 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                     check=lambda v: 0 <= v < 2**63,
                     expected="a whole number >= 0 (the random seed)")
     sampling = an.get("sampling", "sobol")
-    if not isinstance(sampling, str) or sampling not in SAMPLING_RULES:
-        c.add("analysis.sampling", sampling, "one of " + ", ".join(SAMPLING_RULES)
-              + (_did_you_mean(sampling, list(SAMPLING_RULES))
+    if not isinstance(sampling, str) or sampling not in RULES:
+        c.add("analysis.sampling", sampling, "one of " + ", ".join(RULES)
+              + (did_you_mean(sampling, list(RULES))
                  if isinstance(sampling, str) else ""))
     cavity = an.get("effective_strength_cavity", "tunnel")
     if not isinstance(cavity, str) or cavity not in ("tunnel", "tip"):
@@ -862,7 +856,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         for i, pair in enumerate(pairs):
             if (not isinstance(pair, list) or len(pair) != 3 or not isinstance(pair[0], str)
                     or not isinstance(pair[1], str) or not isinstance(pair[2], int | float)
-                    or isinstance(pair[2], bool) or not _num_ok(pair[2])):
+                    or isinstance(pair[2], bool) or not is_real(pair[2])):
                 c.add(f"correlation.pairs[{i}]", pair,
                       '[name, name, rank correlation], e.g. ["ucs", "friction_angle", 0.5]')
             else:
@@ -929,7 +923,7 @@ MECHANISM_INPUTS: Final[dict[str, tuple[tuple[str, ...], tuple[str, ...]]]] = {
 
 
 def _given(sections: Mapping[str, Mapping[str, Any]], name: str) -> bool:
-    return name in sections.get(_SPEC[name].section, {})
+    return name in sections.get(INPUT_SPECS[name].section, {})
 
 
 def _mechanism_inputs(c: _Collector, sections: Mapping[str, Mapping[str, Any]],
@@ -942,7 +936,7 @@ def _mechanism_inputs(c: _Collector, sections: Mapping[str, Mapping[str, Any]],
         if any(_given(sections, k) for k in switches):
             for k in needs:
                 if not _given(sections, k):
-                    spec = _SPEC[k]
+                    spec = INPUT_SPECS[k]
                     c.add(f"{spec.section}.{k}", None,
                           f"the {spec.description} [{disp[spec.dimension]}], needed with "
                           f"{' or '.join(switches)}", found_text="nothing (the key is missing)")
@@ -1146,9 +1140,9 @@ def _input_warnings(sections: Mapping[str, Mapping[str, Any]], inputs: Mapping[s
     if "critical_plastic_strain" not in inputs:
         for name in ("young_modulus", "dilation_angle", "drainage_radius"):
             if name in inputs:
-                out.append(f"{_SPEC[name].section}.{name}: given, but only tunnel collapse uses "
-                           "it and tunnel collapse is off (no rock.critical_plastic_strain); it "
-                           "is ignored")
+                out.append(f"{INPUT_SPECS[name].section}.{name}: given, but only tunnel "
+                           "collapse uses it and tunnel collapse is off (no "
+                           "rock.critical_plastic_strain); it is ignored")
     if ("effective_strength_cavity" in sections.get("analysis", {})
             and "twc" not in inputs and "twc_ratio" not in inputs):
         out.append("analysis.effective_strength_cavity: given, but only the effective-strength "

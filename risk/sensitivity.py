@@ -122,7 +122,7 @@ def blas_single_thread() -> Iterator[None]:
     """Limit BLAS to one thread inside the block (threadpoolctl); a no-op when not installed.
 
     Small dense least-squares problems run several times slower with threaded BLAS on shared
-    cores (measured 3-56x, design note UNCERTAINTY.md section 3).
+    cores (measured 3-56x; docs/derivations.md, sec. 8).
     """
     try:
         from threadpoolctl import threadpool_limits

@@ -1,9 +1,9 @@
 """Small accepted risks: FORM, SORM and importance sampling at the drawdown limit.
 
 Plain sampling needs about (1 - p)/(p 0.1^2) runs to resolve a probability p to 10% (66,000 at
-p = 1.5e-3; UNCERTAINTY.md sec. 2). For accepted risks of 1% or less the orchestrator therefore
-also computes, for each mechanism and stage, the probability of failure at the sampled drawdown
-limit D* by
+p = 1.5e-3; derived, docs/derivations.md, sec. 6). For accepted risks of 1% or less the
+orchestrator therefore also computes, for each mechanism and stage, the probability of failure
+at the sampled drawdown limit D* by
 
 - FORM (improved HL-RF, :func:`risk.reliability.form`) on the limit state
   ``g(xi) = min(D_c(x(xi)), p_r) - D*`` in the independent standard-normal space behind the

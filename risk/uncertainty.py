@@ -41,7 +41,6 @@ the range to truncate explicitly). Between 0 and 1e-6, a sample outside the rang
 
 from __future__ import annotations
 
-import difflib
 import math
 import numbers
 import warnings
@@ -57,7 +56,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy import stats
 from scipy.stats import qmc
 
-from risk.errors import CONTROL_CHARACTERS, Problem, ScenarioError, toml_key
+from risk.errors import CONTROL_CHARACTERS, Problem, ScenarioError, did_you_mean, toml_key
 
 __all__ = [
     "KINDS",
@@ -153,11 +152,6 @@ def _fmt(value: float) -> str:
     return f"{value:.6g}"
 
 
-def _did_you_mean(word: str, choices: Sequence[str]) -> str:
-    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.6)
-    return f" (did you mean {close[0]!r}?)" if close else ""
-
-
 #: Plain numbers in a scenario must be 0 or of magnitude in [MIN_MAGNITUDE, MAX_MAGNITUDE]:
 #: wider values are typing errors, and they overflow or underflow the unit conversions.
 MAX_MAGNITUDE: Final = 1e12
@@ -174,9 +168,6 @@ def is_real(value: object) -> bool:
     except OverflowError:
         return False
     return True
-
-
-_is_number = is_real
 
 
 def is_plain_number(value: object) -> bool:
@@ -626,7 +617,7 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
             f"{key}.dist", table, f"a 'dist' entry, one of {', '.join(KINDS)}",
             found_text=f"a table without 'dist' (keys {sorted(map(str, table))})")
     if not isinstance(dist, str) or dist not in _PARAMS:
-        hint = _did_you_mean(dist, KINDS) if isinstance(dist, str) else ""
+        hint = did_you_mean(dist, KINDS) if isinstance(dist, str) else ""
         raise ScenarioError.single(f"{key}.dist", dist, f"one of {', '.join(KINDS)}{hint}")
 
     source = table.get("source")
@@ -642,11 +633,11 @@ def parse_input(key: str, raw: object, *, scale: float, bounds: Bounds = UNBOUND
         if name in _SCENARIO_EXTRA_KEYS:
             continue
         if name not in allowed:
-            hint = _did_you_mean(str(name), allowed)
+            hint = did_you_mean(str(name), allowed)
             problems.append(Problem(f"{key}.{toml_key(name)}", value,
                                     f"only parameters {', '.join(allowed)} for {dist}{hint}",
                                     found_text=f"unknown parameter {name!r} = {value!r}"))
-        elif not _is_number(value):
+        elif not is_real(value):
             problems.append(Problem(where(name), value,
                                     "a number" if not isinstance(value, numbers.Real)
                                     or isinstance(value, bool) else MAGNITUDE_TEXT))
@@ -852,7 +843,7 @@ def build_joint(names: Sequence[str], marginals: Sequence[Marginal],
                                         "correlated)", found_text=f"{where}: {name!r} is fixed"))
                 bad = True
             elif name not in index:
-                hint = _did_you_mean(name, list(names))
+                hint = did_you_mean(name, list(names))
                 problems.append(Problem(_PAIRS_KEY, pair, f"input names among {list(names)}{hint}",
                                         found_text=f"{where}: unknown input {name!r}"))
                 bad = True
@@ -860,7 +851,7 @@ def build_joint(names: Sequence[str], marginals: Sequence[Marginal],
             problems.append(Problem(_PAIRS_KEY, pair, "two different inputs",
                                     found_text=f"{where}: {a!r} paired with itself"))
             bad = True
-        if not _is_number(rho) or not math.isfinite(float(rho)):  # type: ignore[arg-type]
+        if not is_real(rho) or not math.isfinite(float(rho)):  # type: ignore[arg-type]
             problems.append(Problem(_PAIRS_KEY, pair, "a rank correlation, a number in (-1, 1)",
                                     found_text=f"{where}: correlation {rho!r}"))
             bad = True
@@ -939,7 +930,7 @@ class UnitSampler:
 
     def __init__(self, rule: str, d: int, rng: np.random.Generator) -> None:
         if rule not in RULES:
-            hint = _did_you_mean(str(rule), RULES)
+            hint = did_you_mean(str(rule), RULES)
             raise ScenarioError.single("sampling.rule", rule, f"one of {', '.join(RULES)}{hint}")
         if not isinstance(rng, np.random.Generator):
             raise TypeError("rng must be a numpy.random.Generator")

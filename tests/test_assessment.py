@@ -76,7 +76,7 @@ def test_same_seed_identical_other_seed_differs(write):
 
 
 def test_openhole_ucs_normal_gives_normal_critical_drawdown(write):
-    # With only UCS ~ N(70, 6) the closed form (MECHANICS.md 4.1, vertical well, Mohr-Coulomb)
+    # With only UCS ~ N(70, 6) the closed form (docs/derivations.md sec. 3, vertical well, MC)
     # makes D_c = p_r - (3 SH - Sh - UCS - A p_r)/(2 - A) normal with sd 6/(2 - A): the whole
     # failure curve is known. Tolerance: the 99.9% simultaneous band of the empirical CDF
     # (Dvoretzky-Kiefer-Wolfowitz inequality, Massart 1990): eps = sqrt(ln(2/0.001)/(2n)).
@@ -97,8 +97,9 @@ def test_openhole_ucs_normal_gives_normal_critical_drawdown(write):
 
 
 def test_small_risk_form_exact_on_linear_case(write):
-    # Only UCS ~ N(70, 6) and a vertical well: D_c is linear in UCS (MECHANICS.md 4.1), so the
-    # limit state is linear in the standard normal and FORM is exact (Hasofer & Lind 1974):
+    # Only UCS ~ N(70, 6) and a vertical well: D_c is linear in UCS (docs/derivations.md
+    # sec. 3), so the limit state is linear in the standard normal and FORM is exact
+    # (Hasofer & Lind 1974):
     # P(D_c <= D*) = Phi((D* - mean)/sd). Importance sampling must agree within 4 of its cov.
     doc = OPENHOLE_SI.replace("accepted_risk = 0.1", "accepted_risk = 0.005")
     sc = load_scenario(write(doc))
@@ -118,7 +119,7 @@ def test_small_risk_form_exact_on_linear_case(write):
 
 def test_sensitivity_linear_case_matches_analytic(write):
     # Vertical open hole, Mohr-Coulomb, interior critical drawdowns: D_c = p_r - (3 SH - Sh -
-    # UCS - A p_r)/(2 - A) is linear in UCS and SH (MECHANICS.md 4.1), so with independent
+    # UCS - A p_r)/(2 - A) is linear in UCS and SH (docs/derivations.md sec. 3), so with independent
     # normal inputs S_UCS = s_u^2 / (s_u^2 + 9 s_H^2) exactly (linear model; Saltelli et al.
     # 2008, sec. 1.2.5). Tolerance: 0.02, several bootstrap widths at 1024 runs.
     doc = (OPENHOLE_SI.replace("shmax = 48", 'shmax = { dist = "normal", mean = 48, sd = 1.0 }')
@@ -145,7 +146,7 @@ dilation_angle = 5""").replace('[production]', '[production]\ndrainage_radius = 
 
 
 def test_tunnel_collapse_never_before_yield_and_meets_it_at_zero_strain(write):
-    # MECHANICS.md 4.3 (issue checks): collapse never comes before yield onset; a vanishing
+    # Derived (docs/derivations.md, sec. 5): collapse never comes before yield onset; a vanishing
     # critical strain makes collapse coincide with yield onset (vertical hole, hoop stress the
     # major principal stress, so the Mohr-Coulomb onset is the hoop-only one; derived).
     a = assess(load_scenario(write(COLLAPSE.replace("CRIT", "0.02"))), samples=512)
@@ -201,6 +202,7 @@ def test_identical_shots_give_no_preference(write, field_doc):
     assert "no preference" in st0["shot_note"]
 
 
+@pytest.mark.slow
 def test_correlated_inputs_never_get_cholesky_variable_indices():
     # With correlated inputs the Monte-Carlo pick-freeze fallback would index the hidden
     # independent variables; the run must use the surrogate or the given-data indices instead.
@@ -227,7 +229,7 @@ def test_pore_collapse_sensitivity_output_is_clipped_to_p0():
 
 def test_separate_shmax_depletion_path(write):
     # Vertical well, Mohr-Coulomb, hoop major: SH and Sh follow their own paths, so at a
-    # depleted stage the closed form (MECHANICS.md 4.1) uses SH - gH dp and Sh - gh dp.
+    # depleted stage the closed form (docs/derivations.md sec. 3) uses SH - gH dp and Sh - gh dp.
     doc = OPENHOLE_SI.replace("depletion_path = 0.5",
                               "depletion_path = 0.5\ndepletion_path_shmax = 0.8")
     a = assess(load_scenario(write(doc)), samples=64)

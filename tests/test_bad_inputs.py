@@ -128,6 +128,7 @@ def test_cli_refuses(case, command, tmp_path):
 
 
 # a few corpus cases through the installed console script (about 1 s each)
+@pytest.mark.slow
 @pytest.mark.parametrize("file,command", [
     ("ucs_negative.toml", "check"),
     ("syntax_missing_equals.toml", "run"),
@@ -180,6 +181,7 @@ def test_folder_instead_of_file(command, tmp_path):
     assert sorted(tmp_path.iterdir()) == [folder]
 
 
+@pytest.mark.slow
 def test_missing_file_subprocess(tmp_path):
     proc = subprocess.run([str(EXE), "check", str(tmp_path / "nowhere.toml")],
                           capture_output=True, text=True, timeout=120)

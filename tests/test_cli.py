@@ -35,6 +35,7 @@ def test_run_writes_results(tmp_path, write, field_doc):
     assert "never_fraction" in stage
 
 
+@pytest.mark.slow
 def test_rerun_is_byte_identical(tmp_path):
     outs = []
     for name in ("a", "b"):
@@ -58,6 +59,7 @@ def test_bad_input_exit_2_no_traceback(args, fragment):
     assert "Traceback" not in r.output
 
 
+@pytest.mark.slow
 def test_bad_scenario_subprocess_exit_2(write, field_doc):
     # the installed console script, as an engineer runs it
     bad = write(field_doc.replace("ucs = 9000", "ucs = -9000"))
@@ -75,6 +77,7 @@ def test_out_is_a_file(tmp_path):
     assert r.exit_code == 2 and "--out" in r.output
 
 
+@pytest.mark.slow
 def test_json_flag(tmp_path):
     r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(tmp_path), "--samples", "64",
                             "--json"])
@@ -109,6 +112,7 @@ def test_templates_describe_the_same_well(tmp_path):
         assert a == pytest.approx(b, rel=0.01)
 
 
+@pytest.mark.slow
 def test_every_output_records_seed_version_and_hash(tmp_path):
     out = tmp_path / "o"
     r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(out), "--samples", "128",
@@ -125,6 +129,7 @@ def test_every_output_records_seed_version_and_hash(tmp_path):
         assert sha.encode() in data and b"seed 9" in data  # PNG tEXt chunk
 
 
+@pytest.mark.slow
 def test_memo_rerenders_without_recomputing(tmp_path):
     out = tmp_path / "run"
     r = RUNNER.invoke(app, ["run", str(EXAMPLE), "--out", str(out), "--samples", "128", "-q"])
@@ -140,6 +145,7 @@ def test_memo_rerenders_without_recomputing(tmp_path):
     assert r.exit_code == 2 and "results.json" in r.output and "Traceback" not in r.output
 
 
+@pytest.mark.slow
 def test_progress_display_path_gives_the_same_results(tmp_path):
     # the progress bar (a terminal nicety) must not change what is computed or written
     from risk.api import run_scenario

@@ -474,6 +474,7 @@ def _count(test: str) -> None:
     CALLS[test] = CALLS.get(test, 0) + 1
 
 
+@pytest.mark.slow
 @_fuzz_settings(2500)
 @given(st.lists(mutations(), min_size=1, max_size=5))
 def test_mutated_documents(edits):
@@ -484,6 +485,7 @@ def test_mutated_documents(edits):
         _count("mutated")
 
 
+@pytest.mark.slow
 @_fuzz_settings(1500)
 @given(inputs_as_distributions, st.sampled_from(["field", "field", "field", "si"]))
 def test_random_distributions(tables, units):
@@ -495,6 +497,7 @@ def test_random_distributions(tables, units):
         _count("distributions")
 
 
+@pytest.mark.slow
 @_fuzz_settings(1000)
 @given(uncertain_sets, pairs, extra_correlation_keys)
 def test_random_correlations(uncertain, pair_list, extra):
@@ -551,6 +554,7 @@ def file_contents(draw: Any) -> bytes:
     return text.encode(encoding, errors="replace")
 
 
+@pytest.mark.slow
 @_fuzz_settings(800)
 @given(data=file_contents())
 def test_raw_files(data, tmp_path_factory):
@@ -609,6 +613,7 @@ new_inputs = st.tuples(
     st.booleans())
 
 
+@pytest.mark.slow
 @_fuzz_settings(600)
 @given(new_inputs)
 def test_options_phasings_rules_and_points(edits):
@@ -629,6 +634,7 @@ def test_options_phasings_rules_and_points(edits):
             _count("issue 12")
 
 
+@pytest.mark.slow
 def test_fuzz_budget():
     # the three document fuzz tests above made at least 10^4 parse_scenario calls together
     if not {"mutated", "distributions", "correlations"} <= set(CALLS):

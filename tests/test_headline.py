@@ -26,6 +26,7 @@ def example(request, tmp_path_factory):
     return run_scenario(request.param, out=out, samples=512)
 
 
+@pytest.mark.slow
 def test_console_opens_with_the_sand_free_limit(example):
     s = example.summary
     buf = io.StringIO()
@@ -40,6 +41,7 @@ def test_console_opens_with_the_sand_free_limit(example):
     assert "yield" not in head.split(";")[0].lower()
 
 
+@pytest.mark.slow
 def test_memo_opens_with_the_sand_free_limit(example):
     s = example.summary
     html = (example.out_dir / "memo.html").read_text(encoding="utf-8")
@@ -58,6 +60,7 @@ def test_memo_opens_with_the_sand_free_limit(example):
     assert [float(c) for c in cells] == [st["drawdown_limit"] for st in s["sand_free"]["stages"]]
 
 
+@pytest.mark.slow
 def test_demo_shows_a_limit_that_falls_to_zero(tmp_path):
     # the shipped demo must show a decision: a positive limit that reaches zero in depletion
     demo = next(p for p in EXAMPLES if "r7" in p.stem)
@@ -67,6 +70,7 @@ def test_demo_shows_a_limit_that_falls_to_zero(tmp_path):
     assert s["sand_free"]["zero_limit"]["kind"] == "between"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("extra", ["", 'effective_strength_cavity = "tip"'])
 def test_opposite_shot_directions_always_tie(tmp_path, write, field_doc, extra):
     # Opposite tunnels see the same far-field stress (the stress tensor is centrosymmetric:
@@ -92,6 +96,7 @@ def test_opposite_shot_directions_always_tie(tmp_path, write, field_doc, extra):
                     assert len(st[key]) % 2 == 0, (key, st[key])  # opposite pairs together
 
 
+@pytest.mark.slow
 def test_no_sand_mechanism_is_said_plainly(tmp_path, write, field_doc):
     # the test document enables no sand-production mechanism: no sand-free limit, said so,
     # with the inputs that would enable one; first yield is never promoted to the headline

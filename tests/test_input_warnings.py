@@ -125,6 +125,7 @@ def test_risk_check_prints_warnings(write):
     assert "scenario is valid" in text
 
 
+@pytest.mark.slow
 def test_run_writes_warnings_everywhere_and_stays_byte_identical(tmp_path):
     scenario = tmp_path / "warned.toml"
     scenario.write_text(FIELD_DOC.replace("max_drawdown = 2500", "max_drawdown = 5000"),
@@ -145,6 +146,7 @@ def test_run_writes_warnings_everywhere_and_stays_byte_identical(tmp_path):
     assert "production.max_drawdown: 5000 psi is above the reservoir pressure" in html
 
 
+@pytest.mark.slow
 def test_results_carry_an_empty_warning_list(tmp_path):
     scenario = tmp_path / "clean.toml"
     scenario.write_text(FIELD_DOC, encoding="utf-8")

@@ -1,9 +1,9 @@
 """Every criterion, sampling rule and cavity option runs end to end (integration smoke test).
 
 Checks no exception escapes, the summary is strict JSON, and the physics orderings that hold
-whatever the option: collapse never before yield onset when both use Mohr-Coulomb (MECHANICS.md
-4.3), probabilities within [0, 1], limits within [0, p_r]. Scenario: tests/data/matrix_base.toml
-(invented).
+whatever the option: collapse never before yield onset when both use Mohr-Coulomb (derived,
+docs/derivations.md, sec. 5), probabilities within [0, 1], limits within [0, p_r]. Scenario:
+tests/data/matrix_base.toml (invented).
 """
 
 from __future__ import annotations
@@ -51,6 +51,7 @@ def test_runs_end_to_end(criterion, sampling, cavity):
         assert np.all(tc >= yo - 1e-9)
 
 
+@pytest.mark.slow
 def test_small_risk_starts_form_off_the_plateau():
     # Most samples never reach the effective-strength onset (a plateau at p_r), so FORM started
     # at the median point would find no gradient. Started from the run's most probable failing

@@ -158,6 +158,7 @@ def test_refused_run_leaves_no_folder_behind(tmp_path: Path, scenario: Path) -> 
 
 # ------------------------------------------------------------- reruns and manifest (item 1) ----
 
+@pytest.mark.slow
 def test_rerun_keeps_foreign_files_and_replaces_outputs(tmp_path: Path, scenario: Path) -> None:
     out = tmp_path / "r7"
     code, text = run("run", str(scenario), "--out", str(out), "--samples", "64", "--seed", "1")
@@ -267,6 +268,7 @@ def test_killed_at_every_step_of_the_swap(tmp_path: Path, step: str, expect: str
     assert sorted(p.name for p in (out / STATE_DIR).iterdir()) == ["lock", MANIFEST]
 
 
+@pytest.mark.slow
 def test_run_killed_in_the_swap_then_risk_memo_completes_it(tmp_path: Path,
                                                             scenario: Path) -> None:
     out = tmp_path / "r7"
@@ -284,6 +286,7 @@ def test_run_killed_in_the_swap_then_risk_memo_completes_it(tmp_path: Path,
                for rel, d in manifest.items())
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("sig", [signal.SIGINT, signal.SIGTERM])
 def test_sigint_and_sigterm_leave_the_previous_outputs(tmp_path: Path, scenario: Path,
                                                        sig: signal.Signals) -> None:
@@ -310,6 +313,7 @@ def test_sigint_and_sigterm_leave_the_previous_outputs(tmp_path: Path, scenario:
 
 # ------------------------------------------------------------------- concurrency (item 3) ----
 
+@pytest.mark.slow
 def test_second_process_on_a_held_folder_is_refused(tmp_path: Path, scenario: Path) -> None:
     out = tmp_path / "r7"
     code, text = run("run", str(scenario), "--out", str(out), "--samples", "32")
@@ -325,6 +329,7 @@ def test_second_process_on_a_held_folder_is_refused(tmp_path: Path, scenario: Pa
     assert tree(out) == before
 
 
+@pytest.mark.slow
 def test_two_concurrent_runs_leave_one_consistent_run(tmp_path: Path, scenario: Path) -> None:
     out = tmp_path / "r7"
     procs = [subprocess.Popen([RISK, "run", str(scenario), "--out", str(out), "--samples",
@@ -347,6 +352,7 @@ def test_two_concurrent_runs_leave_one_consistent_run(tmp_path: Path, scenario: 
 
 # ---------------------------------------------------------------------- risk memo (item 2) ----
 
+@pytest.mark.slow
 def test_memo_refuses_an_edited_results_json(tmp_path: Path, scenario: Path) -> None:
     out = tmp_path / "r7"
     code, text = run("run", str(scenario), "--out", str(out), "--samples", "32")
@@ -360,6 +366,7 @@ def test_memo_refuses_an_edited_results_json(tmp_path: Path, scenario: Path) -> 
     assert (out / "memo.html").read_bytes() == memo_before
 
 
+@pytest.mark.slow
 def test_control_characters_in_paths_never_reach_the_terminal(tmp_path: Path,
                                                              scenario: Path) -> None:
     # an ESC in a folder name (legal on Linux) is shown as \x1b, in every message

@@ -98,7 +98,7 @@ def test_band_coverage_by_simulation(method: str) -> None:
     exact = _exact_coverage(n, truth, method)
     se = math.sqrt(exact * (1 - exact) / reps)
     assert abs(hits / reps - exact) <= 3 * se, (hits / reps, exact)
-    assert exact >= 0.93  # UNCERTAINTY.md measured 93–99% at nominal 95%
+    assert exact >= 0.93  # measured 93-99% at nominal 95% (docs/derivations.md, sec. 6)
 
 
 def test_curve_vectorised_and_edge_values() -> None:

@@ -126,7 +126,7 @@ def test_paraboloid_form_sorm_is(d: int, beta: float, kappa: float) -> None:
     # Importance sampling: unbiased; within 4 of its own standard errors.
     pf_is, cov = importance_sampling(g, res.design_point, 2000, np.random.default_rng(d))
     assert abs(pf_is - exact) <= 4 * cov * pf_is
-    assert cov < 0.1  # a single design point: IS efficient (UNCERTAINTY.md: Pf 1e-3 in < 500 runs)
+    assert cov < 0.1  # a single design point: IS efficient (docs/derivations.md sec. 7: < 500 runs)
 
 
 def test_breitung_asymptotic_in_beta() -> None:

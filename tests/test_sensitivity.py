@@ -177,7 +177,7 @@ def test_ishigami_pce_legendre() -> None:
                           families=["legendre"] * 3, groups={"x1x2": ["x1", "x2"]})
     for which, want in (("first", ISH_FIRST), ("total", ISH_TOTAL)):
         tol = derived_tol(res, which)
-        assert np.all(tol < 0.01), tol  # the design target (UNCERTAINTY.md section 4)
+        assert np.all(tol < 0.01), tol  # the target of docs/derivations.md, sec. 8
         assert np.all(np.abs(getattr(res, which) - want) <= tol), (which, getattr(res, which))
         assert np.all(getattr(res, which + "_low") <= getattr(res, which + "_high"))
     # group {x1, x2}: closed first order (V1 + V2)/V, total (V1 + V2 + V13)/V (derived)

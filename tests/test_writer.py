@@ -47,6 +47,7 @@ def test_output_path_is_a_file(tmp_path):
         check_output_dir(f)
 
 
+@pytest.mark.slow
 def test_killed_run_leaves_previous_complete_outputs(tmp_path):
     # A first complete run, then a long run killed with SIGKILL part-way: the folder must
     # still hold the first run's complete results (or, at worst, nothing).

@@ -67,6 +67,24 @@ _FINE = 48  # intervals on the half circle for walls with a tensile sector (rare
 _STEP_F = math.pi / _FINE
 _COS_F = np.cos(np.arange(_FINE + 1) * _STEP_F)
 _SIN_F = np.sin(np.arange(_FINE + 1) * _STEP_F)
+
+# Positions in the packs the kernel passes around (module-level ints: numba compiles them in as
+# constants, so naming them costs nothing).
+# x[_X_*, r]: a block's gathered inputs, case r
+_X_SUM_XY, _X_DIFF_XY, _X_SXY, _X_SZZ, _X_SXZ, _X_SYZ = 0, 1, 2, 3, 4, 5
+_X_P_R, _X_A, _X_NU, _X_UCS = 6, 7, 8, 9
+_NX = 10
+# kk[_K_*][r]: F_a's per-case constants (k0 = sum_xy - A p_r, z0 = szz - A p_r, pp = 2 diff_xy,
+# qq = 4 sxy, w0, w1, w2 of the squared hoop-axial shear, bt = 2 - A, bz = 1 - A, nu, UCS, p_r)
+_K_K0, _K_Z0, _K_PP, _K_QQ, _K_W0, _K_W1, _K_W2 = 0, 1, 2, 3, 4, 5, 6
+_K_BT, _K_BZ, _K_NU, _K_UCS, _K_P_R = 7, 8, 9, 10, 11
+_NK = 12
+# geo[_G_*][r]: largest-u direction (cu, su), turning sign sg, mid-arc direction (cm, sm),
+# T = tan(d/4), and 1.0 where the wall is compressive all round at p_r
+_G_CU, _G_SU, _G_SG, _G_CM, _G_SM, _G_T, _G_COMP = 0, 1, 2, 3, 4, 5, 6
+# k[_C_*]: one case's constants in the tensile-sector pass: kk's first eleven (k0 ... UCS, same
+# positions), then q, T0 and p_r
+_C_UCS, _C_Q, _C_T0, _C_P_R = 10, 11, 12, 13
 # compiled once per machine (cached beside the module); numpy's error model: x/0 gives inf
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -155,7 +173,7 @@ def _smooth(which: int, c: float, s: float, p: float, k: tuple
     UCS at wall pressure p (which = 1), or -lo at p (which = 2)."""
     m, _, r = _block(c, s, p, k)
     if which == 1:
-        return m + r - k[11] * (m - r) - k[10]
+        return m + r - k[_C_Q] * (m - r) - k[_C_UCS]
     return r - m
 
 
@@ -321,7 +339,7 @@ def _tensile_side(best_a: float, x_a: float, cu: float, su: float, sg: float,
     it lies above F_a's, by the envelope iteration of the general solver on F_b alone
     (p_{k+1} = F_b's crossing at the angle maximising F_b at p_k; F_b's crossing in closed
     form). Returns the value (>= p_r: fails with no drawdown) and its offset."""
-    ucs, q, t0, p_r = k[10], k[11], k[12], k[13]
+    ucs, q, t0, p_r = k[_C_UCS], k[_C_Q], k[_C_T0], k[_C_P_R]
     if best_a >= p_r:
         return best_a, x_a  # F_a, hence F, is reached with no drawdown
     fb_max, lo_max = _bounds(p_r, k)
@@ -356,21 +374,20 @@ def _tensile_side(best_a: float, x_a: float, cu: float, su: float, sg: float,
 
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
 _ROUNDS = 6  # Anderson-Bjorck steps for every case (then the check, then Brent where needed)
-_NK = 12  # per-case constants of F_a
 
 
 @_jit
 def _setup_block(x: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarray, ...]]:
-    """Per-case constants for a block, from the gathered inputs x[0:10, r] (sum_xy, diff_xy,
-    sxy, szz, sxz, syz, p_r, A, nu, UCS): F_a's constants kk[0:12][r]; and geo[0:7][r]: the
+    """Per-case constants for a block, from the gathered inputs x[_X_*, r] (sum_xy, diff_xy,
+    sxy, szz, sxz, syz, p_r, A, nu, UCS): F_a's constants kk[_K_*][r]; and geo[_G_*][r]: the
     largest-u direction (cu, su), the turning sign sg towards the largest-w direction, the
     mid-arc direction (cm, sm), T = tan(d/4) with d in [0, pi] the angle between the two
     directions (0 where they coincide), and 1.0 where the wall is compressive all round at p_r
     (a sufficient test, see the module docstring). Branch-free, so the loop vectorises (the
     outputs are allocated here: the compiler then knows they alias nothing)."""
     cnt = x.shape[1]
-    x0, x1, x2, x3, x4, x5, x6, x7, x8, x9 = x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7], \
-        x[8], x[9]
+    x0, x1, x2, x3, x4 = x[_X_SUM_XY], x[_X_DIFF_XY], x[_X_SXY], x[_X_SZZ], x[_X_SXZ]
+    x5, x6, x7, x8, x9 = x[_X_SYZ], x[_X_P_R], x[_X_A], x[_X_NU], x[_X_UCS]
     # every output its own allocation: the compiler then knows no two alias (rows of one 2-D
     # array would need run-time alias checks, too many for it to vectorise the loop)
     o0, o1, o2, o3, o4, o5 = (np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt),
@@ -417,6 +434,7 @@ def _setup_block(x: np.ndarray) -> tuple[tuple[np.ndarray, ...], tuple[np.ndarra
         g4[r] = su * ch + cu * sg * sh
         g5[r] = sh / (1.0 + ch)  # T = tan(d/4)
         g6[r] = 1.0 if comp else 0.0
+    # o<i> is kk[i] and g<i> is geo[i]: the order of the _K_* and _G_* constants
     return (o0, o1, o2, o3, o4, o5, o6, o7, o8, o9, o10, o11), (g0, g1, g2, g3, g4, g5, g6)
 
 
@@ -426,8 +444,10 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
     """Brent's zero finder (Brent 1973, ch. 4, 'zeroin') on F_a's slope in t over a bracket
     [a, b] of its root, keeping the largest value seen. The fallback of the vectorised
     steps."""
-    k0, z0, pp, qq, w0, w1 = kk[0][r], kk[1][r], kk[2][r], kk[3][r], kk[4][r], kk[5][r]
-    w2, bt, bz, nu, ucs, p_r = kk[6][r], kk[7][r], kk[8][r], kk[9][r], kk[10][r], kk[11][r]
+    k0, z0, pp, qq = kk[_K_K0][r], kk[_K_Z0][r], kk[_K_PP][r], kk[_K_QQ][r]
+    w0, w1, w2 = kk[_K_W0][r], kk[_K_W1][r], kk[_K_W2][r]
+    bt, bz, nu = kk[_K_BT][r], kk[_K_BZ][r], kk[_K_NU][r]
+    ucs, p_r = kk[_K_UCS][r], kk[_K_P_R][r]
     va, fa = _fa_tan(a, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
     vb, fb = _fa_tan(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, ucs, p_r)
     # the bracket keeps slope >= 0 at a and <= 0 at b; zeros (stationary ends, rounding) get
@@ -621,12 +641,13 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
         cnt = min(_BLOCK, total - first)
         i, rem = first // (n1 * n2), first % (n1 * n2)
         j, m = rem // n2, rem % n2
-        x = np.empty((10, cnt))
+        x = np.empty((_NX, cnt))
         for r in range(cnt):
-            x[0, r], x[1, r], x[2, r] = sum_xy[i, j, m], diff_xy[i, j, m], sxy[i, j, m]
-            x[3, r], x[4, r], x[5, r] = szz[i, j, m], sxz[i, j, m], syz[i, j, m]
-            x[6, r], x[7, r], x[8, r], x[9, r] = p_r[i, j, m], big_a[i, j, m], nu[i, j, m], \
-                ucs[i, j, m]
+            x[_X_SUM_XY, r], x[_X_DIFF_XY, r] = sum_xy[i, j, m], diff_xy[i, j, m]
+            x[_X_SXY, r], x[_X_SZZ, r] = sxy[i, j, m], szz[i, j, m]
+            x[_X_SXZ, r], x[_X_SYZ, r] = sxz[i, j, m], syz[i, j, m]
+            x[_X_P_R, r], x[_X_A, r] = p_r[i, j, m], big_a[i, j, m]
+            x[_X_NU, r], x[_X_UCS, r] = nu[i, j, m], ucs[i, j, m]
             m += 1
             if m == n2:
                 m = 0
@@ -635,11 +656,12 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
                     j = 0
                     i += 1
         kk, geo = _setup_block(x)
-        lo = -geo[5]
-        hi = geo[5].copy()
+        lo = -geo[_G_T]
+        hi = geo[_G_T].copy()
         bv, bx, g_last = np.empty(cnt), np.empty(cnt), np.empty(cnt)
-        _search_block(kk[0], kk[1], kk[2], kk[3], kk[4], kk[5], kk[6], kk[7], kk[8], kk[9],
-                      kk[10], kk[11], geo[3], geo[4], geo[2], lo, hi, bv, bx, g_last)
+        _search_block(kk[_K_K0], kk[_K_Z0], kk[_K_PP], kk[_K_QQ], kk[_K_W0], kk[_K_W1],
+                      kk[_K_W2], kk[_K_BT], kk[_K_BZ], kk[_K_NU], kk[_K_UCS], kk[_K_P_R],
+                      geo[_G_CM], geo[_G_SM], geo[_G_SG], lo, hi, bv, bx, g_last)
         op = out_p[first:first + cnt]
         oc = out_c[first:first + cnt]
         os_ = out_s[first:first + cnt]
@@ -650,25 +672,26 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
             # maximum to g^2/(2|v''|), 5e-13 MPa for |v''| >= 1); else Brent's method from
             # the bracket (rare)
             if hi[r] - lo[r] > 1e-7 and g_last[r] > 1e-6:
-                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], geo[3][r], geo[4][r],
-                                          geo[2][r], kk, r)
+                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], geo[_G_CM][r],
+                                          geo[_G_SM][r], geo[_G_SG][r], kk, r)
         for r in range(cnt):
             tb = bx[r]
             inv = 1.0 / (1.0 + tb * tb)
-            cx, sx = (1.0 - tb * tb) * inv, geo[2][r] * 2.0 * tb * inv
-            oc[r] = geo[3][r] * cx - geo[4][r] * sx
-            os_[r] = geo[4][r] * cx + geo[3][r] * sx
+            cx, sx = (1.0 - tb * tb) * inv, geo[_G_SG][r] * 2.0 * tb * inv
+            oc[r] = geo[_G_CM][r] * cx - geo[_G_SM][r] * sx
+            os_[r] = geo[_G_SM][r] * cx + geo[_G_CM][r] * sx
             op[r] = bv[r]
         # walls with a tensile sector: a scalar pass (inputs read again at their indices)
         for r in range(cnt):
-            if geo[6][r] == 0.0:
+            if geo[_G_COMP][r] == 0.0:
                 flat = first + r
                 i, rem = flat // (n1 * n2), flat % (n1 * n2)
                 j, m = rem // n2, rem % n2
-                cu, su, sg = geo[0][r], geo[1][r], geo[2][r]
-                k = (kk[0][r], kk[1][r], kk[2][r], kk[3][r], kk[4][r], kk[5][r], kk[6][r],
-                     kk[7][r], kk[8][r], kk[9][r], kk[10][r],
-                     _passive(phi[i, j, m]), t0[i, j, m], kk[11][r])
+                cu, su, sg = geo[_G_CU][r], geo[_G_SU][r], geo[_G_SG][r]
+                # the order of the _C_* constants
+                k = (kk[_K_K0][r], kk[_K_Z0][r], kk[_K_PP][r], kk[_K_QQ][r], kk[_K_W0][r],
+                     kk[_K_W1][r], kk[_K_W2][r], kk[_K_BT][r], kk[_K_BZ][r], kk[_K_NU][r],
+                     kk[_K_UCS][r], _passive(phi[i, j, m]), t0[i, j, m], kk[_K_P_R][r])
                 c, s = oc[r], os_[r]
                 # offsets on the half circle are measured from the largest-u direction
                 xo = math.atan2(sg * (cu * s - su * c), cu * c + su * s)
@@ -678,7 +701,7 @@ def mohr_coulomb_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, 
                 op[r] = best
         # outcome conventions
         for r in range(cnt):
-            p_res = kk[11][r]
+            p_res = kk[_K_P_R][r]
             never = op[r] < 0.0
             op[r] = p_res if op[r] >= p_res else (-math.inf if never else op[r])
             os_[r] = math.nan if never else os_[r]

@@ -57,7 +57,7 @@ thermoelastic analogy; Timoshenko & Goodier 1970, thermal stresses in a long cyl
     B(r) = (sigma0 - s_R) R^2 - A int_R^r rho dp(rho) d rho,   A = alpha (1 - 2 nu)/(1 - nu)
 
 At the wall of an elastic cavity this is the hoop stress ``2 sigma0 - p_w - A (p_r - p_w)`` of
-MECHANICS.md sec. 2, whatever the pressure profile.
+docs/derivations.md, sec. 1, whatever the pressure profile.
 
 *Elastic-plastic radius.* Continuity of ``s_r`` and ``p`` at ``R`` and the yield condition on
 the elastic side give ``s'_theta(R) - s'_r(R) = 2(sigma0 - p_R) - A(p_r - p_R) - 2 s'_r(R)``. For
@@ -79,8 +79,8 @@ plastic strain below 1e-10 for strains below 1, checked against a 48-point rule;
 needed for psi = 0). This assumes monotonic loading: the plastic zone only grows as the
 drawdown grows.
 
-Decisions on the open points of MECHANICS.md sec. 6
----------------------------------------------------
+Decisions on the open points (docs/derivations.md, sec. 5)
+----------------------------------------------------------
 *Elastic strain in the plastic zone:* Hooke's law applied to the actual stress change
 (``e^e = C^-1 (s'' - s''_0)``, plane strain, Biot effective stress), not the frozen
 elastic-plastic-boundary strain of Brown et al. (1983). This is the small-strain choice of
@@ -161,7 +161,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import elementwise
 from scipy.special import wrightomega
 
-from risk.mechanics.criteria import hoek_brown_rock_mass
+from risk.mechanics.criteria import hoek_brown_rock_mass, passive_coefficient
 
 Array = NDArray[np.float64]
 Mask = NDArray[np.bool_]
@@ -319,12 +319,6 @@ def _check_hb(v: dict[str, Array]) -> None:
 def _flow_coefficient(psi: Array) -> Array:
     """K_psi = (1 + sin psi)/(1 - sin psi) [1]."""
     sp = np.sin(psi)
-    return (1.0 + sp) / (1.0 - sp)
-
-
-def _passive_coefficient(phi: Array) -> Array:
-    """q = (1 + sin phi)/(1 - sin phi) [1]."""
-    sp = np.sin(phi)
     return (1.0 + sp) / (1.0 - sp)
 
 
@@ -830,7 +824,7 @@ def mohr_coulomb_cavity(
     _check_common(v, with_wall_pressure=True)
     _check_mc(v)
     state = _mc_state(v["sigma0"], v["p_r"], v["p_w"], v["r_w"], v["r_e"], v["ucs"],
-                      _passive_coefficient(v["friction_angle"]),
+                      passive_coefficient(v["friction_angle"]),
                       _flow_coefficient(v["dilation_angle"]), v["young_modulus"],
                       v["poisson_ratio"], v["biot"])
     return _response(state, shape, v, sigma_axial)
@@ -965,7 +959,7 @@ def collapse_wall_pressure(
     margin [1]: the plastic strain minus its critical value, continued into the elastic range
     by ``(1 + nu)(s'_theta - UCS)/E`` and jumping to "collapsed" below the seepage limit
     ``p_seep`` (:func:`seepage_limit_wall_pressure`). Collapse cannot precede first yield,
-    ``p_y = p_r - (UCS - 2(sigma0 - p_r))/(2 - A)`` (MECHANICS.md sec. 4.1), and the wall is
+    ``p_y = p_r - (UCS - 2(sigma0 - p_r))/(2 - A)`` (docs/derivations.md, sec. 3), and the wall is
     unstable below ``p_seep``; so: never if ``p_y < 0``; ``p_y`` if ``p_seep >= p_y``; else
     ``p_seep`` if the margin is still negative just above it, otherwise a vectorised bracketed
     root (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``) between
@@ -1030,7 +1024,7 @@ def collapse_wall_pressure(
     if criterion == "mohr-coulomb":
         _check_mc(v)
         margin = _margin_mc
-        args = (*base, v["ucs"], _passive_coefficient(v["friction_angle"]), m, *elastic)
+        args = (*base, v["ucs"], passive_coefficient(v["friction_angle"]), m, *elastic)
         unconfined = v["ucs"]
     else:
         _check_hb(v)
@@ -1040,7 +1034,7 @@ def collapse_wall_pressure(
 
     # Collapse never precedes first yield (the margin is the negative elastic hoop margin
     # before it), so the search runs between the seepage limit and the first-yield pressure
-    # p_y = p_r - (UCS - 2(sigma0 - p_r))/(2 - A) (MECHANICS.md sec. 4.1, derived). Below p_y
+    # p_y = p_r - (UCS - 2(sigma0 - p_r))/(2 - A) (derived, docs/derivations.md, sec. 3). Below p_y
     # the wall is yielded, so below the seepage limit p_seep it is unstable.
     p_r_all = v["p_r"]
     nu = v["poisson_ratio"]

@@ -5,7 +5,7 @@ P* measured in hydrostatic tests (the cap of the yield surface; Fjaer et al. 200
 ch. 12). Terzaghi effective stress, compression positive.
 
 Far field, with the horizontal stresses on the depletion path S_h(p_r) = S_h0 - g (p0 - p_r)
-and S_v constant (MECHANICS.md sec. 3)::
+and S_v constant (docs/derivations.md, sec. 2)::
 
     p'(p_r) = (S_v + S_H0 + S_h0 - 2 g (p0 - p_r)) / 3 - p_r
     p'(p_rc) = P*  =>  p_rc = ((S_v + S_H0 + S_h0 - 2 g p0)/3 - P*) / (1 - 2 g / 3)

@@ -12,7 +12,7 @@ Cylindrical cavity (tunnel or open hole), the shear stress along the axis ignore
     =>  p_wc = (3 s1 - s3 - U - A p_r) / (2 - A)
 
 with s1 >= s3 the in-plane principal far-field total stresses in the cavity frame
-(MECHANICS.md sec. 2 and 4.2). Spherical perforation tip in an equivalent hydrostatic stress s
+(docs/derivations.md, sec. 1 and 4). Spherical perforation tip in an equivalent hydrostatic stress s
 (Lame's sphere: s_t = (3 s - p_w)/2 at the wall, inflow term as for the cylinder; derived)::
 
     p_wc = (3 s - 2 U - 2 A p_r) / (3 - 2 A)
@@ -77,7 +77,8 @@ def tip_onset_wall_pressure(
     """Wall pressure [MPa] at which the effective hoop stress at a spherical tip reaches U.
 
     ``sigma`` is the equivalent hydrostatic far-field total stress [MPa] (the caller uses the
-    mean total stress). Derived from Lame's sphere with the inflow term (MECHANICS.md sec. 4.2).
+    mean total stress). Derived from Lame's sphere with the inflow term (docs/derivations.md,
+    sec. 4).
     """
     a = np.asarray(poro_coefficient, dtype=float)
     return ((3.0 * np.asarray(sigma) - 2.0 * np.asarray(strength)

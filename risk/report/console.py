@@ -17,7 +17,7 @@ from rich.text import Text
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
 from risk.report.text import safe
-from risk.scenario import _SPEC, Scenario, Well
+from risk.scenario import INPUT_SPECS, Scenario, Well
 
 __all__ = ["print_scenario", "print_summary", "print_answer", "angle_reference"]
 
@@ -94,7 +94,7 @@ def print_scenario(sc: Scenario, console: Console | None = None) -> None:
         con.print(t)
     t = _key_table("input", "distribution; meaning; source")
     for name, m in sc.inputs.items():
-        spec = _SPEC[name]
+        spec = INPUT_SPECS[name]
         scale = conv[spec.dimension]
         unit = disp[spec.dimension]
         cell = Text.assemble(safe(m.describe(scale, unit)), "\n", safe(spec.description, "dim"))

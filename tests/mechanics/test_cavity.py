@@ -11,7 +11,7 @@ Independent references used here:
   wall displacement as printed by Hoek (from memory; the same expressions appear in public
   tunnel-design code found with the search tool), Carranza-Torres & Fairhurst (1999) for
   Hoek-Brown with a = 1/2 (from memory), the Kirsch wall hoop stress with the inflow term
-  (MECHANICS.md sec. 2 and 4.1), and the Hoek, Carranza-Torres & Corkum (2002) worked example;
+  (docs/derivations.md, sec. 1 and 3), and the Hoek, Carranza-Torres & Corkum (2002) worked example;
 - brute-force scans of the wall pressure for the collapse root.
 """
 
@@ -200,8 +200,9 @@ def test_elastic_zone_matches_shooting_solution(a_hole, sigma_a, r_e):
 
 
 def test_elastic_wall_matches_kirsch_with_inflow():
-    # MECHANICS.md sec. 2 (Fjaer et al. 2008): hoop 2 sigma0 - p_w - A (p_r - p_w) at the wall of
-    # an equivalent hydrostatic stress; Kirsch (1898) wall convergence (1 + nu)(sigma0 - p_w) r/E;
+    # docs/derivations.md sec. 1 (Fjaer et al. 2008): hoop 2 sigma0 - p_w - A (p_r - p_w) at
+    # the wall of an equivalent hydrostatic stress; Kirsch (1898) wall convergence
+    # (1 + nu)(sigma0 - p_w) r/E;
     # axial sigma_zz - A (p_r - p_w) in plane strain (the deviatoric term vanishes)
     kw = {**BASE, "p_w": 20.0, "r_e": 1.0}
     res = mohr_coulomb_cavity(**kw, ucs=60.0, friction_angle=30 * DEG, dilation_angle=0.0,
@@ -322,7 +323,7 @@ MC_KW = {"r_w": 0.0075, "r_e": 2.0, "dilation_angle": 8 * DEG, "young_modulus": 
 
 
 def first_yield_mc(sigma0, p_r, ucs, biot, nu):
-    """MECHANICS.md sec. 4.1 (Kirsch with inflow): p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A)
+    """docs/derivations.md, sec. 3 (Kirsch with inflow): p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A)
     with 3 s1 - s3 = 2 sigma0."""
     big_a = poro_a(biot, nu)
     return (2 * sigma0 - ucs - big_a * p_r) / (2 - big_a)
@@ -331,7 +332,7 @@ def first_yield_mc(sigma0, p_r, ucs, biot, nu):
 @pytest.mark.parametrize(("sigma0", "p_r", "ucs"), [(40.0, 25.0, 35.0), (50.0, 28.0, 50.0),
                                                     (42.0, 30.0, 30.0)])
 def test_zero_critical_strain_is_first_yield(sigma0, p_r, ucs):
-    # MECHANICS.md sec. 4.1: first yield at the wall, sigma'_theta = UCS with sigma'_r = 0
+    # docs/derivations.md, sec. 3: first yield at the wall, sigma'_theta = UCS with sigma'_r = 0
     p_wc = collapse_wall_pressure(criterion="mohr-coulomb", critical_plastic_strain=0.0,
                                   sigma0=sigma0, p_r=p_r, ucs=ucs, **MC_KW)
     p_y = first_yield_mc(sigma0, p_r, ucs, MC_KW["biot"], MC_KW["poisson_ratio"])

@@ -1,9 +1,10 @@
 """Effective-strength onset and pore collapse.
 
 Sources: Willson et al. (2002) SPE 78168 and Bellarby (2009) ch. 3 (cylinder formula,
-MECHANICS.md sec. 4.2); the spherical tip form is derived from Lame's thick sphere
+docs/derivations.md, sec. 4); the spherical tip form is derived from Lame's thick sphere
 (Timoshenko & Goodier 1970, sec. 141: hoop stress at the wall (3 s - p_w)/2 for a cavity in an
-infinite body); pore collapse per MECHANICS.md sec. 4.4 (derived from the depletion path).
+infinite body); pore collapse derived from the depletion path (docs/derivations.md,
+sec. 2; risk/mechanics/compaction.py).
 """
 
 from __future__ import annotations
@@ -35,7 +36,7 @@ def test_reduces_to_mohr_coulomb_onset_when_u_equals_ucs():
 
 
 def test_cylinder_formula_hand_value():
-    # (3*60 - 40 - 90 - 0.6*30)/(2 - 0.6) = 32/1.4 (MECHANICS.md 4.2; arithmetic by hand)
+    # (3*60 - 40 - 90 - 0.6*30)/(2 - 0.6) = 32/1.4 (docs/derivations.md sec. 4; by hand)
     pw = sanding.cylinder_onset_wall_pressure(sigma_1=60.0, sigma_3=40.0, strength=90.0,
                                               reservoir_pressure=30.0, poro_coefficient=0.6)
     assert pw == pytest.approx(32.0 / 1.4)

@@ -2,7 +2,7 @@
 
 Checks against things outside the solver:
 - the closed form p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A) for a vertical well under
-  Mohr-Coulomb with the hoop stress as the major principal stress (MECHANICS.md sec. 4.1, from
+  Mohr-Coulomb with the hoop stress as the major principal stress (docs/derivations.md, sec. 3, from
   the Kirsch solution with the inflow term of Willson et al. 2002, SPE 78168; Bellarby 2009);
 - an independent brute force for deviated wells and tunnels and every criterion: principal
   stresses by numpy.linalg.eigvalsh of the full wall stress tensor, the worst angle by a dense
@@ -81,7 +81,7 @@ def _solve(local, *, p_r, A, nu, strength, t0, criterion):
 
 
 def test_vertical_well_closed_form():
-    # MECHANICS.md sec. 4.1: p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A), vertical well, MC,
+    # docs/derivations.md, sec. 3: p_wc = (3 s1 - s3 - UCS - A p_r)/(2 - A), vertical well, MC,
     # hoop stress the major principal stress at failure (Sv chosen low enough for that).
     rng = np.random.default_rng(11)
     for _ in range(30):

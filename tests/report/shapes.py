@@ -111,14 +111,14 @@ def augment(results: dict[str, Any], a: Any) -> dict[str, Any]:
     out = copy.deepcopy(results)
     sc = a.scenario
     from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
-    from risk.scenario import _SPEC
+    from risk.scenario import INPUT_SPECS
 
     disp, to_int = DISPLAY_UNITS[sc.units], TO_INTERNAL[sc.units]
     uncertain = [n for n in a.uncertain if n in a.inputs]
     if "inputs" not in out:
         items = []
         for name, marg in sc.inputs.items():
-            spec = _SPEC[name]
+            spec = INPUT_SPECS[name]
             scale, unit = to_int[spec.dimension], disp[spec.dimension]
             v = np.asarray(a.inputs[name], dtype=float) / scale
             q = np.quantile(v, [0.1, 0.5, 0.9])

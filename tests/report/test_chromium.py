@@ -30,6 +30,7 @@ def _chromium() -> str | None:
     return shutil.which("chromium")
 
 
+@pytest.mark.slow
 def test_memo_renders_in_headless_chromium(tmp_path, perforated_memo):
     exe = _chromium()
     if exe is None:
@@ -91,6 +92,7 @@ def _memos(example_runs, perforated_memo) -> dict[str, str]:
     return out
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("paper", list(PAGE_WIDTHS))
 def test_nothing_overflows_the_page_width(tmp_path, example_runs, perforated_memo, paper):
     """Every memo (each shipped example and the fixture) in a window as wide as the paper:

@@ -55,6 +55,7 @@ def _image_boxes(reader: PdfReader, content: Any, resources: Any, ctm: list[floa
                 yield from _image_boxes(reader, x, x.get("/Resources", resources), _mul(m, ctm))
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", [p.stem for p in EXAMPLES])
 def test_every_figure_inside_the_printable_area(example_runs, name):
     folder: Path = example_runs[name]
@@ -93,6 +94,7 @@ def _code_only(element: Any) -> bool:
     return not "".join(element.itertext()).replace("".join(code.itertext()), "").strip()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", [p.stem for p in EXAMPLES])
 def test_no_word_broken_in_table_cells(example_runs, name):
     """A line break inside a table cell falls at a space or after a hyphen, never inside a

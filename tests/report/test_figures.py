@@ -74,6 +74,7 @@ def test_absent_sections_are_skipped(results):
     assert figures.render_all(results) == {}
 
 
+@pytest.mark.slow
 def test_same_results_give_identical_png(perforated, perforated_figures):
     # regression check of determinism: a second rendering is byte-identical
     for name in ("failure_probability", "shot_directions", "input_correlation"):
@@ -169,6 +170,7 @@ def test_input_label():
 
 # --------------------------------------------------------------------------- issue 12 defects
 
+@pytest.mark.slow
 def test_every_figure_fits_a_page(perforated, openhole):
     # derived: MAX_HEIGHT leaves room for the caption on the printable A4 area (memo.css)
     for results in (perforated, openhole):
@@ -226,6 +228,7 @@ def _extents(fig: Figure, texts: list[Any]) -> list[Any]:
             if t.get_visible() and t.get_text().strip()]
 
 
+@pytest.mark.slow
 def test_polar_labels_do_not_overlap(perforated):
     # derived: labels whose boxes intersect print over each other
     fig = figures.plot_shot_directions(perforated)

@@ -207,6 +207,7 @@ def test_rendering_is_pure_and_repeatable(perforated, perforated_figures, perfor
     assert perforated["run_date"] not in html and "date of the run" not in html
 
 
+@pytest.mark.slow
 def test_oldest_results_shape_renders_with_notes(legacy):
     m = memo.build_memo(legacy)
     assert dataclasses.is_dataclass(m)
@@ -254,6 +255,7 @@ def pages(perforated_memo) -> list[str]:
     return _page_texts(perforated_memo.html)
 
 
+@pytest.mark.slow
 def test_pdf_header_and_page_count(perforated_memo, pages):
     assert perforated_memo.pdf.startswith(PDF_MAGIC)
     assert _pdf_page_objects(perforated_memo.pdf) == len(pages)
