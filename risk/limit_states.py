@@ -88,8 +88,9 @@ def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, 
 
 
 def depletion_paths(cols: Mapping[str, Array]) -> tuple[Array, Array]:
-    """Depletion paths dSh/dp and dSH/dp [1] (docs/derivations.md, sec. 2): ``depletion_path``, or the
-    uniaxial-strain value alpha (1 - 2 nu)/(1 - nu); ``depletion_path_shmax`` defaults to it."""
+    """Depletion paths dSh/dp and dSH/dp [1] (docs/derivations.md, sec. 2):
+    ``depletion_path``, or the uniaxial-strain value alpha (1 - 2 nu)/(1 - nu);
+    ``depletion_path_shmax`` defaults to it."""
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     biot = np.asarray(cols["biot"], dtype=float)
     path = (np.asarray(cols["depletion_path"], dtype=float) if "depletion_path" in cols
