@@ -19,7 +19,7 @@ from risk.assessment import MECHANISMS, Assessment
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
 from risk.result import GRID_POINTS, PoreCollapse, Result, StageResult
 from risk.result import summarize as summarize_result
-from risk.scenario import _SPEC
+from risk.scenario import INPUT_SPECS
 
 __all__ = ["summarize", "GRID_POINTS", "rounded"]
 
@@ -187,7 +187,7 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
     for key, swings in a.tornado.items():
         rows: list[dict[str, Any]] = []
         for name, (xl, xh, yl, yh) in swings.items():
-            spec = _SPEC[name]
+            spec = INPUT_SPECS[name]
             scale = TO_INTERNAL[a.scenario.units][spec.dimension]
             rows.append({"input": name, "unit": DISPLAY_UNITS[a.scenario.units][spec.dimension],
                          "low_value": rounded(xl / scale), "high_value": rounded(xh / scale),
@@ -247,7 +247,7 @@ def _inputs(a: Assessment) -> list[dict[str, Any]]:
     sc = a.scenario
     rows = []
     for name, m in sc.inputs.items():
-        spec = _SPEC[name]
+        spec = INPUT_SPECS[name]
         scale = TO_INTERNAL[sc.units][spec.dimension]
         unit = DISPLAY_UNITS[sc.units][spec.dimension]
         vals = np.asarray(a.inputs[name]) / scale
