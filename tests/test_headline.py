@@ -17,6 +17,8 @@ from risk.api import run_scenario
 from risk.report.console import print_summary
 from risk.report.figures import format_value
 
+pytestmark = pytest.mark.slow  # runs every example end to end
+
 EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.toml"))
 
 

@@ -14,6 +14,8 @@ import pytest
 
 import risk
 
+pytestmark = pytest.mark.slow  # runs the examples end to end
+
 EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
 
 
