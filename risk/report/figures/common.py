@@ -69,13 +69,6 @@ def _drawdown_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[
     return out
 
 
-def _stage_pressures(results: Mapping[str, Any]) -> list[float]:
-    mechs = _drawdown_mechanisms(results)
-    if not mechs:
-        return []
-    return [_f(s["reservoir_pressure"]) for s in mechs[0][1]["stages"]]
-
-
 def _grid(n: int, max_cols: int) -> tuple[int, int]:
     ncols = min(n, max_cols)
     if n == 4 and max_cols >= 2:
