@@ -78,8 +78,8 @@ def test_absent_sections_are_skipped(results):
 def test_same_results_give_identical_png(perforated, perforated_figures):
     # regression check of determinism: a second rendering is byte-identical
     for name in ("failure_probability", "shot_directions", "input_correlation"):
-        again = figures._png(_figure(figures.FIGURES[name](perforated)),
-                             figures.provenance_text(perforated))
+        again = figures.render._png(_figure(figures.FIGURES[name](perforated)),
+                                    figures.provenance_text(perforated))
         assert again == perforated_figures[name], name
 
 
@@ -217,7 +217,7 @@ def test_no_best_direction_where_no_direction_differs(perforated, value):
 def _renderer(fig: Figure) -> Any:
     """The figure laid out and drawn (as when saved), and its renderer."""
     canvas = FigureCanvasAgg(fig)
-    with figures._styled():
+    with figures.common._styled():
         canvas.draw()
     return canvas.get_renderer()
 

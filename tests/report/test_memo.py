@@ -320,5 +320,6 @@ def test_scenario_settings_once_each_with_units(openhole):
 def test_distribution_text_keeps_units_whole():
     # derived: a no-break space ties a number to its unit, a word joiner (U+2060) forbids a
     # break after the slash of psi/ft (Unicode UAX #14, class WJ)
-    text = memo._distribution("lognormal(median 2600 psi, cov 0.2), normal(mean 0.98 psi/ft)")
+    text = memo.sections._distribution(
+        "lognormal(median 2600 psi, cov 0.2), normal(mean 0.98 psi/ft)")
     assert "2,600\u00a0psi" in text and "psi/\u2060ft" in text and "0.2)" in text

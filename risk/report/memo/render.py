@@ -1,0 +1,157 @@
+"""The memo rendered: the template's context (:func:`memo_context`), the HTML page, its PDF and
+:func:`build_memo` (figures, HTML and PDF from a results dict)."""
+
+from __future__ import annotations
+
+import base64
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Final
+
+from jinja2 import Environment, FileSystemLoader, StrictUndefined
+from markupsafe import Markup
+
+from risk.errors import visible
+from risk.report.figures import DPI, render_all
+from risk.report.memo.common import _angle_reference, _punit
+from risk.report.memo.opening import _answer, _summary
+from risk.report.memo.sections import (
+    _mechanism_sections,
+    _operating_points,
+    _pore_section,
+    _reproducibility,
+    _scenario,
+    _sensitivity,
+)
+from risk.report.memo.texts import ASSUMPTIONS, CAPTIONS, CAUTIONS, SECTIONS
+
+TEMPLATES: Final = Path(__file__).resolve().parent.parent / "templates"
+
+#: Where each figure sits in the memo (numbering follows this order).
+_FIGURE_ORDER: Final = ("sand_free", "input_histograms", "input_correlation", "failure_probability",
+                        "envelope", "shot_directions", "tunnel_collapse", "pore_collapse",
+                        "sensitivity", "tornado")
+
+
+@dataclass(frozen=True)
+class Memo:
+    """A rendered memo: the HTML page, its PDF and the figures' PNG bytes by name."""
+
+    html: str
+    pdf: bytes
+    figures: dict[str, bytes]
+
+
+def _data_uri(png: bytes) -> str:
+    return "data:image/png;base64," + base64.b64encode(png).decode("ascii")
+
+
+def _png_width_in(png: bytes) -> str:
+    """The printed width [in] of a PNG drawn at :data:`~risk.report.figures.DPI`, so every
+    figure keeps its design size (and its fonts their point size) in the memo."""
+    if png[:8] != b"\x89PNG\r\n\x1a\n" or len(png) < 24:
+        return "100%"
+    return f"{int.from_bytes(png[16:20], 'big') / DPI:.3f}in"
+
+
+def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> dict[str, Any]:
+    """The template's view of the results: every number formatted with its unit."""
+    numbered: dict[str, dict[str, Any]] = {}
+    for name in [*_FIGURE_ORDER, *(n for n in figures if n not in _FIGURE_ORDER)]:
+        if name in figures:
+            caption = CAPTIONS.get(name, name.replace("_", " ")).replace(
+                "{angles}", _angle_reference(results))
+            if name == "envelope" and results.get("operating_points"):
+                caption += " Crosses are the planned operating points."
+            numbered[name] = {"number": len(numbered) + 1, "uri": _data_uri(figures[name]),
+                              "caption": caption,
+                              "name": name, "width": _png_width_in(figures[name])}
+    scenario = _scenario(results)
+    assumptions = list(ASSUMPTIONS)
+    if scenario["log_based"]:
+        assumptions.append("In this scenario these inputs rest at least partly on log "
+                           "correlations, with the scatter stated above: "
+                           + "; ".join(scenario["log_based"]) + ".")
+    return {
+        "angle_reference": _angle_reference(results),
+        "title": str(results.get("title") or "Untitled scenario"),
+        "unit": _punit(results),
+        "sections": SECTIONS,
+        "summary": _summary(results),
+        "answer": _answer(results),
+        "scenario": scenario,
+        "mechanisms": _mechanism_sections(results),
+        "pore": _pore_section(results),
+        "operating_points": _operating_points(results),
+        "has_profile": bool(((results.get("mechanisms") or {}).get("tunnel_collapse") or {})
+                            .get("profile")),
+        "sensitivity": _sensitivity(results),
+        "assumptions": assumptions,
+        "input_warnings": [str(w) for w in results.get("warnings") or ()],
+        "cautions": CAUTIONS,
+        "reproducibility": _reproducibility(results),
+        "figures": numbered,
+        "run_date": str(results["run_date"]) if results.get("run_date") else None,
+        "samples": (f"{int(results['samples']):,}" if results.get("samples") is not None
+                    else "–"),
+        "deterministic": bool(results.get("deterministic")),
+    }
+
+
+def _shown(value: Any) -> Any:
+    """Every expression a template prints: texts with their control characters made visible
+    (markup built here keeps its type; the replacement holds no HTML special character)."""
+    if isinstance(value, str):
+        text = visible(value, keep="\t\n\r")
+        return Markup(text) if isinstance(value, Markup) else text
+    return value
+
+
+def _environment() -> Environment:
+    return Environment(loader=FileSystemLoader(str(TEMPLATES)), autoescape=True,
+                       undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True,
+                       finalize=_shown)
+
+
+def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> str:
+    """The memo as one self-contained HTML page (figures as data URIs, CSS inline).
+
+    Parameters
+    ----------
+    results : mapping
+        The parsed ``results.json`` of a run.
+    figures : mapping of str to bytes
+        PNG bytes by figure name (:func:`risk.report.figures.render_all`); figures missing
+        here are left out of the memo.
+    """
+    return _environment().get_template("memo.html.j2").render(memo_context(results, figures))
+
+
+def render_pdf(html: str) -> bytes:
+    """The PDF of a memo page (WeasyPrint; A4, page numbers in the footer)."""
+    from weasyprint import HTML
+
+    fetcher: Any
+    try:  # WeasyPrint >= 66: a fetcher object that can refuse protocols
+        from weasyprint import URLFetcher
+
+        fetcher = URLFetcher(allowed_protocols=("data",))
+    except ImportError:  # pragma: no cover - older WeasyPrint: a fetcher function
+        from weasyprint import default_url_fetcher
+
+        def fetcher(url: str, *args: Any, **kwargs: Any) -> Any:
+            if not url.startswith("data:"):
+                raise ValueError(f"the memo loads no external resource ({url[:60]!r})")
+            return default_url_fetcher(url, *args, **kwargs)
+
+    # the memo is self-contained: anything but an embedded data URI is refused
+    pdf = HTML(string=html, url_fetcher=fetcher).write_pdf()
+    return bytes(pdf) if pdf is not None else b""
+
+
+def build_memo(results: Mapping[str, Any]) -> Memo:
+    """Figures, HTML and PDF of a run's memo, from its results dict alone."""
+    figures = render_all(results)
+    html = render_html(results, figures)
+    return Memo(html=html, pdf=render_pdf(html), figures=dict(figures))
