@@ -451,7 +451,7 @@ def test_correlated_random_orderings_within_permutation_error(
     y = np.einsum("ni,ij,nj->n", z, a_mat, z) + z @ b
     (exp,) = sa.fit_pce(np.linalg.solve(np.linalg.cholesky(corr), z.T).T, y, max_degree=2,
                         method="ols")
-    monkeypatch.setattr(sa, "MAX_EXACT_SHAPLEY_INPUTS", 3)
+    monkeypatch.setattr(sa.shapley, "MAX_EXACT_SHAPLEY_INPUTS", 3)
     with pytest.raises(ValueError):
         sa.correlated_indices(exp, corr)  # needs a generator above the exact limit
     out = sa.correlated_indices(exp, corr, rng=rng, n_orderings=400, groups=[[0, 1]])

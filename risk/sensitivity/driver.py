@@ -1,0 +1,167 @@
+"""The entry points that pick the method: :func:`sobol_pce` (the expansion) and
+:func:`sensitivity` (expansion, or Monte Carlo when its leave-one-out error is high)."""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+import numpy as np
+import scipy.linalg
+from numpy.typing import ArrayLike
+
+from risk.errors import ScenarioError
+from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, blas_single_thread
+from risk.sensitivity.indices import _group_positions, _interval, independent_indices
+from risk.sensitivity.montecarlo import mc_sobol
+from risk.sensitivity.pce import Family, _bootstrap_coefficients, _check_xy, design_matrix, fit_pce
+from risk.sensitivity.result import SensitivityResult, _frozen
+from risk.sensitivity.shapley import _blocks_of, _check_corr, correlated_indices
+
+# ---------------------------------------------------------------------------------------------
+# Public PCE entry point
+# ---------------------------------------------------------------------------------------------
+
+
+def sobol_pce(
+    z: ArrayLike,
+    y: ArrayLike,
+    *,
+    names: Sequence[str],
+    rng: np.random.Generator,
+    corr: ArrayLike | None = None,
+    groups: Mapping[str, Sequence[int | str]] | None = None,
+    max_degree: int | None = None,
+    q: float = 1.0,
+    method: Method = "omp",
+    families: Sequence[Family] | None = None,
+    n_bootstrap: int = 200,
+    confidence: float = 0.95,
+) -> list[SensitivityResult]:
+    """Sobol indices, Shapley effects and their bootstrap intervals from a Hermite expansion.
+
+    The outputs are expanded in the independent variables ``xi = L^-1 z`` (:func:`fit_pce`); the
+    indices come from the squared coefficients (Sudret 2008) for independent inputs
+    (:func:`independent_indices`) and from exact conditional variances for correlated ones
+    (:func:`correlated_indices`). Bootstrap: the chosen basis of each output is refitted on
+    ``n_bootstrap`` resamples of the rows and every index recomputed; intervals are the
+    percentiles at ``confidence``. Needs no model runs beyond ``y``.
+
+    Parameters
+    ----------
+    z : correlated standard normals of the inputs (n, d) [1] (= xi when corr is None)
+    y : model outputs (n,) or (n, k) [unit of y]; finite (cap "never" values first)
+    names : input names (d)
+    rng : seeded generator for the bootstrap
+    corr : normal-space correlation matrix C (d, d) [1]; None = independent
+    groups : named blocks of inputs (names or positions), e.g. ``{"stresses": ["SH", "Sh"]}``
+    max_degree : highest total degree [1] (default from the sample size, see :func:`fit_pce`)
+    q : hyperbolic truncation exponent [1]
+    method : ``"omp"`` (sparse, default) or ``"ols"`` (full basis, degree chosen by LOO)
+    families : per input ``"hermite"`` (default) or ``"legendre"`` (a uniform marginal: the
+        output is then polynomial in the input itself); Legendre only for inputs not
+        correlated with any other
+    n_bootstrap : bootstrap refits [1] (0 = no intervals)
+    confidence : two-sided level of the percentile intervals [1]
+
+    Returns
+    -------
+    one :class:`SensitivityResult` per output column
+    """
+    z_arr, y2 = _check_xy(z, y)
+    n, d = z_arr.shape
+    if len(names) != d:
+        raise ScenarioError.single("sensitivity.names", list(names), f"{d} input names")
+    group_names, group_pos = _group_positions(groups, names)
+    c_mat = _check_corr(corr, d)
+    correlated = not np.array_equal(c_mat, np.eye(d))
+    lmat = np.linalg.cholesky(c_mat)
+    xi = scipy.linalg.solve_triangular(lmat, z_arr.T, lower=True).T if correlated else z_arr
+    if families is not None:
+        coupled = {int(j) for blk in _blocks_of(c_mat) for j in blk}
+        bad = [names[j] for j, f in enumerate(families) if f != "hermite" and j in coupled]
+        if bad:
+            raise ScenarioError.single("sensitivity.families", bad,
+                                       "Hermite polynomials for correlated inputs")
+    results = []
+    with blas_single_thread():
+        expansions = fit_pce(xi, y2, max_degree=max_degree, q=q, method=method,
+                             families=families)
+        for col, exp in enumerate(expansions):
+            coef = exp.coefficients[:, None]
+            if n_bootstrap > 0:
+                psi = design_matrix(xi, exp.indices, families)
+                boot = _bootstrap_coefficients(psi, y2[:, col], rng, n_bootstrap)
+                coef = np.concatenate([coef, boot], axis=1)
+            if correlated:
+                ind = correlated_indices(exp, c_mat, coefficients=coef, groups=group_pos,
+                                         rng=rng)
+                first, total = ind["full_first"], ind["independent_total"]
+            else:
+                ind = independent_indices(exp.indices, coef, group_pos)
+                first, total = ind["first"], ind["total"]
+            shap = ind["shapley"]
+            f_lo, f_hi = _interval(first[:, 1:], confidence)
+            t_lo, t_hi = _interval(total[:, 1:], confidence)
+            s_lo, s_hi = _interval(shap[:, 1:], confidence)
+            results.append(SensitivityResult(
+                names=tuple(names),
+                first=_frozen(first[:, 0]), total=_frozen(total[:, 0]),
+                first_low=_frozen(f_lo), first_high=_frozen(f_hi),
+                total_low=_frozen(t_lo), total_high=_frozen(t_hi),
+                shapley=_frozen(shap[:, 0]),
+                shapley_low=_frozen(s_lo), shapley_high=_frozen(s_hi),
+                full_first=_frozen(first[:, 0]), independent_total=_frozen(total[:, 0]),
+                loo_error=exp.loo_error, method="pce", n_runs=n, output=col,
+                mean=exp.mean, variance=exp.variance, confidence=confidence,
+                n_bootstrap=n_bootstrap, n_terms=len(exp.indices), degree=exp.degree,
+                correlated=correlated, group_names=group_names,
+                group_first=_frozen(ind["group_first"][:, 0].reshape(-1)),
+                group_total=_frozen(ind["group_total"][:, 0].reshape(-1)),
+                group_shapley=_frozen(ind["group_shapley"][:, 0].reshape(-1)),
+            ))
+    return results
+
+
+def sensitivity(
+    z: ArrayLike,
+    y: ArrayLike,
+    *,
+    names: Sequence[str],
+    rng: np.random.Generator,
+    model: Callable[[Array], ArrayLike] | None = None,
+    corr: ArrayLike | None = None,
+    groups: Mapping[str, Sequence[int | str]] | None = None,
+    loo_threshold: float = LOO_THRESHOLD,
+    mc_n: int = 1024,
+    **pce_options: Any,
+) -> list[SensitivityResult]:
+    """Indices per output: the expansion when it fits, Monte Carlo on the model when not.
+
+    Each output whose corrected leave-one-out error exceeds ``loo_threshold``
+    (:data:`LOO_THRESHOLD`, see there for the bound it implies) is recomputed by
+    :func:`mc_sobol` with ``mc_n (d + 2)`` runs of ``model`` (which maps ``xi`` to all outputs);
+    without a model the expansion's result is kept and its ``loo_error`` says how far to trust
+    it. With correlated inputs the fallback's indices are those of the independent Cholesky
+    variables ``xi`` in the given order (no full/independent split, no Shapley effects).
+
+    Parameters
+    ----------
+    z, y, names, rng, corr, groups : as for :func:`sobol_pce`
+    model : maps independent standard normals xi (N, d) [1] to outputs (N,) or (N, k)
+    loo_threshold : relative corrected LOO error above which to fall back [1]
+    mc_n : base sample of the fallback [1]
+    pce_options : passed to :func:`sobol_pce`
+
+    Returns
+    -------
+    one :class:`SensitivityResult` per output column
+    """
+    res = sobol_pce(z, y, names=names, rng=rng, corr=corr, groups=groups, **pce_options)
+    bad = [r.output for r in res if not r.loo_error <= loo_threshold]
+    if not bad or model is None:
+        return res
+    mc = mc_sobol(model, len(names), mc_n, rng, names=names,
+                  n_bootstrap=pce_options.get("n_bootstrap", 200),
+                  confidence=pce_options.get("confidence", 0.95))
+    return [mc[r.output] if r.output in bad else r for r in res]
