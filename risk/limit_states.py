@@ -100,6 +100,20 @@ def depletion_paths(cols: Mapping[str, Array]) -> tuple[Array, Array]:
     return path, path_big
 
 
+def depleted_far_field(*, sv: Array, shmax: Array, shmin: Array, pore_pressure: Array,
+                       path: Array, path_shmax: Array, shmax_azimuth: Array,
+                       reservoir_pressure: Array | float) -> Array:
+    """Far-field total stress tensor [MPa] once the reservoir is at ``reservoir_pressure``:
+    both horizontal stresses follow their depletion paths from their initial values, S_v stays
+    (docs/derivations.md, sec. 2); the one place this is written."""
+    big = st.depleted_stress(initial=shmax, initial_pore_pressure=pore_pressure,
+                             reservoir_pressure=reservoir_pressure, path=path_shmax)
+    small = st.depleted_stress(initial=shmin, initial_pore_pressure=pore_pressure,
+                               reservoir_pressure=reservoir_pressure, path=path)
+    return np.asarray(st.far_field_tensor(shmax=big, shmin=small, sv=sv,
+                                          shmax_azimuth=shmax_azimuth))
+
+
 def _frames(scenario: Scenario) -> Array:
     w = scenario.well
     if w.completion == "openhole":
@@ -133,12 +147,10 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     big_a = st.poroelastic_coefficient(biot=biot, poisson_ratio=nu)
     path, path_big = depletion_paths(cols)
     p0 = phys["pp"][:, None]
-    sh_max = st.depleted_stress(initial=phys["shmax"][:, None], initial_pore_pressure=p0,
-                                reservoir_pressure=stages, path=path_big[:, None])
-    sh_min = st.depleted_stress(initial=phys["shmin"][:, None], initial_pore_pressure=p0,
-                                reservoir_pressure=stages, path=path[:, None])
-    tensor = st.far_field_tensor(shmax=sh_max, shmin=sh_min, sv=phys["sv"][:, None],
-                                 shmax_azimuth=np.asarray(cols["shmax_azimuth"])[:, None])
+    tensor = depleted_far_field(
+        sv=phys["sv"][:, None], shmax=phys["shmax"][:, None], shmin=phys["shmin"][:, None],
+        pore_pressure=p0, path=path[:, None], path_shmax=path_big[:, None],
+        shmax_azimuth=np.asarray(cols["shmax_azimuth"])[:, None], reservoir_pressure=stages)
     frames = _frames(scenario)  # (m, 3, 3)
     local = st.local_stress(tensor[:, None], frames[None, :, None])  # (n, m, k)
 
@@ -219,12 +231,10 @@ def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
         mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
     out = []
     for k, p_r in enumerate(stages):
-        big = st.depleted_stress(initial=phys["shmax"], initial_pore_pressure=phys["pp"],
-                                 reservoir_pressure=p_r, path=path_big)
-        small = st.depleted_stress(initial=phys["shmin"], initial_pore_pressure=phys["pp"],
-                                   reservoir_pressure=p_r, path=path)
-        t = st.far_field_tensor(shmax=big, shmin=small, sv=phys["sv"],
-                                shmax_azimuth=np.asarray(cols["shmax_azimuth"]))
+        t = depleted_far_field(
+            sv=phys["sv"], shmax=phys["shmax"], shmin=phys["shmin"], pore_pressure=phys["pp"],
+            path=path, path_shmax=path_big, shmax_azimuth=np.asarray(cols["shmax_azimuth"]),
+            reservoir_pressure=p_r)
         frame = frames[worst[:, k]]  # (n, 3, 3)
         loc = st.local_stress(t, frame)
         loc = st.LocalStress(*(np.asarray(c)[:, None] for c in loc))  # (n, 1)
@@ -299,11 +309,8 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
 
     def wall_excess(p_r: Array, *args: Array) -> Array:
         sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar = args
-        big = st.depleted_stress(initial=sh_max0, initial_pore_pressure=p0,
-                                 reservoir_pressure=p_r, path=g_big)
-        small = st.depleted_stress(initial=sh_min0, initial_pore_pressure=p0,
-                                   reservoir_pressure=p_r, path=g)
-        t = st.far_field_tensor(shmax=big, shmin=small, sv=sv, shmax_azimuth=az)
+        t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
+                               path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
         loc = st.local_stress(t[..., None, :, :], frames)
         m = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
                                            poisson_ratio=nu_[..., None])
