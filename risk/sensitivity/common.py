@@ -39,3 +39,12 @@ def blas_single_thread() -> Iterator[None]:
         return
     with threadpool_limits(limits=1, user_api="blas"):
         yield
+
+
+def bad_argument(key: str, value: object, expected: str, found_text: str | None = None
+                 ) -> ValueError:
+    """A wrong argument in a library call (a programmer error, not bad scenario input): a
+    ValueError whose text names the argument, the value found and what is expected."""
+    from risk.errors import Problem
+
+    return ValueError(str(Problem(key, value, expected, found_text)))

@@ -10,8 +10,7 @@ import numpy as np
 import scipy.linalg
 from numpy.typing import ArrayLike
 
-from risk.errors import ScenarioError
-from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, blas_single_thread
+from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, bad_argument, blas_single_thread
 from risk.sensitivity.indices import _group_positions, _interval, independent_indices
 from risk.sensitivity.montecarlo import mc_sobol
 from risk.sensitivity.pce import Family, _bootstrap_coefficients, _check_xy, design_matrix, fit_pce
@@ -71,7 +70,7 @@ def sobol_pce(
     z_arr, y2 = _check_xy(z, y)
     n, d = z_arr.shape
     if len(names) != d:
-        raise ScenarioError.single("sensitivity.names", list(names), f"{d} input names")
+        raise bad_argument("sensitivity.names", list(names), f"{d} input names")
     group_names, group_pos = _group_positions(groups, names)
     c_mat = _check_corr(corr, d)
     correlated = not np.array_equal(c_mat, np.eye(d))
@@ -81,7 +80,7 @@ def sobol_pce(
         coupled = {int(j) for blk in _blocks_of(c_mat) for j in blk}
         bad = [names[j] for j, f in enumerate(families) if f != "hermite" and j in coupled]
         if bad:
-            raise ScenarioError.single("sensitivity.families", bad,
+            raise bad_argument("sensitivity.families", bad,
                                        "Hermite polynomials for correlated inputs")
     results = []
     with blas_single_thread():

@@ -13,8 +13,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from numpy.typing import ArrayLike
 
-from risk.errors import ScenarioError
-from risk.sensitivity.common import Array, IntArray
+from risk.sensitivity.common import Array, IntArray, bad_argument
 
 # ---------------------------------------------------------------------------------------------
 # Indices from coefficients: independent variables
@@ -95,16 +94,16 @@ def _group_positions(groups: Mapping[str, Sequence[int | str]] | None,
         for m in members:
             if isinstance(m, str):
                 if m not in pos:
-                    raise ScenarioError.single(f"sensitivity.groups.{gname}", m,
+                    raise bad_argument(f"sensitivity.groups.{gname}", m,
                                                f"one of the inputs {list(names)}")
                 idx.append(pos[m])
             elif isinstance(m, int | np.integer) and 0 <= int(m) < len(names):
                 idx.append(int(m))
             else:
-                raise ScenarioError.single(f"sensitivity.groups.{gname}", m,
+                raise bad_argument(f"sensitivity.groups.{gname}", m,
                                            f"an input name or a position 0..{len(names) - 1}")
         if len(set(idx)) != len(idx) or not idx:
-            raise ScenarioError.single(f"sensitivity.groups.{gname}", list(members),
+            raise bad_argument(f"sensitivity.groups.{gname}", list(members),
                                        "distinct inputs, at least one")
         out.append(idx)
     return tuple(groups), out

@@ -16,8 +16,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.special import ndtri
 from scipy.stats import qmc
 
-from risk.errors import ScenarioError
-from risk.sensitivity.common import Array
+from risk.sensitivity.common import Array, bad_argument
 from risk.sensitivity.indices import _interval
 from risk.sensitivity.result import SensitivityResult, _frozen
 
@@ -159,7 +158,7 @@ def mc_sobol(
     """
     names = tuple(names) if names is not None else tuple(f"x{j + 1}" for j in range(d))
     if len(names) != d:
-        raise ScenarioError.single("sensitivity.names", list(names), f"{d} input names")
+        raise bad_argument("sensitivity.names", list(names), f"{d} input names")
     if n < 2:
         raise ValueError(f"n must be >= 2, got {n}")
     if rule == "sobol":

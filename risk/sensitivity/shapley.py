@@ -20,8 +20,7 @@ import scipy.sparse
 from numpy.typing import ArrayLike, NDArray
 from scipy.sparse.csgraph import connected_components
 
-from risk.errors import ScenarioError
-from risk.sensitivity.common import Array, IntArray
+from risk.sensitivity.common import Array, IntArray, bad_argument
 from risk.sensitivity.pce import PolynomialChaos, hermite_orthonormal
 
 #: Up to this many inputs, Shapley effects with correlated inputs come from all 2**d subsets
@@ -410,14 +409,14 @@ def _check_corr(corr: ArrayLike | None, d: int) -> Array:
         return np.eye(d)
     c = np.asarray(corr, dtype=float)
     if c.shape != (d, d):
-        raise ScenarioError.single("correlation", c.shape, f"a {d} x {d} matrix")
+        raise bad_argument("correlation", c.shape, f"a {d} x {d} matrix")
     if not (np.allclose(c, c.T, atol=1e-12) and np.allclose(np.diag(c), 1.0, atol=1e-12)):
-        raise ScenarioError.single("correlation", "matrix", "symmetric with a unit diagonal",
+        raise bad_argument("correlation", "matrix", "symmetric with a unit diagonal",
                                    found_text="a non-symmetric matrix or diagonal != 1")
     try:
         np.linalg.cholesky(c)
     except np.linalg.LinAlgError:
-        raise ScenarioError.single(
+        raise bad_argument(
             "correlation", "matrix", "positive definite",
             found_text=f"smallest eigenvalue {np.linalg.eigvalsh(c).min():.3g}") from None
     return c
