@@ -34,7 +34,7 @@ from risk.limit_states import (
 )
 from risk.scenario import Scenario
 from risk.small_risk import SMALL_RISK, reliability_at_limit
-from risk.uncertainty import UnitSampler, build_joint, input_columns, to_inputs
+from risk.uncertainty import UnitSampler, build_joint, input_columns, rng_stream, to_inputs
 
 Array = NDArray[np.float64]
 Progress = Callable[[int, int], None]
@@ -173,7 +173,7 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     if joint.d < 2 or n_all < 64:
         return {}, {}, {}
     m = min(SENSITIVITY_RUNS, n_all)
-    rng = np.random.default_rng([seed_, 2])
+    rng = rng_stream(seed_, "sensitivity")
     head = {k: MechanismResult(k, r.by_direction[:m], r.theta[:m]) for k, r in mechanisms.items()}
     comp_head = (CompactionResult(compaction_all.far_field[:m], compaction_all.wall[:m],
                                   None if compaction_all.initial is None
@@ -357,7 +357,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                 reliability[(key, stage)] = reliability_at_limit(
                     model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
                     sampling_p=float(np.mean(dc <= limit)), n_samples=n,
-                    rng=np.random.default_rng([seed_, 1, stage]), start=start)
+                    rng=rng_stream(seed_, "reliability", stage), start=start)
     if step is not None:
         step("sensitivity indices")
     sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)

@@ -66,7 +66,7 @@ from risk.uncertainty.parse import (
     parse_input,
     text_problem,
 )
-from risk.uncertainty.sampling import RULES, UnitSampler
+from risk.uncertainty.sampling import RULES, STREAMS, UnitSampler, rng_stream
 
 __all__ = [
     "KINDS",
@@ -75,6 +75,8 @@ __all__ = [
     "OUTSIDE_TOLERANCE",
     "PERT_LAMBDA",
     "RULES",
+    "STREAMS",
+    "rng_stream",
     "U_MAX",
     "U_MIN",
     "Bounds",

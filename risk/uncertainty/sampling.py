@@ -93,3 +93,17 @@ class UnitSampler:
         """What a result must record to be rerun bit for bit (plus the seed it was built with)."""
         return {"rule": self.rule, "d": self.d, "n_drawn": self.n_drawn,
                 "numpy": np.__version__, "scipy": scipy.__version__}
+
+
+#: Named random streams of a run. Each stream's generator is seeded from the run's seed and
+#: the stream's fixed key (numpy's SeedSequence of ``[seed, key, *index]``), so the streams are
+#: independent of each other and of the sampling stream (``default_rng(seed)``), and adding a
+#: stream never changes the others. The keys are part of the reproducibility promise: changing
+#: one changes that stream's results.
+STREAMS: Final[dict[str, int]] = {"reliability": 1, "sensitivity": 2}
+
+
+def rng_stream(seed: int, name: str, *index: int) -> np.random.Generator:
+    """The generator of the named stream ``name`` (``STREAMS``) for the run's ``seed``, with an
+    optional index (e.g. the depletion stage) [NumPy SeedSequence entropy lists]."""
+    return np.random.default_rng([seed, STREAMS[name], *index])
