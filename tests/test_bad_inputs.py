@@ -267,6 +267,22 @@ def test_unreadable_file(tmp_path):
         f.chmod(0o600)
 
 
+def test_unreadable_file_simulated(tmp_path, monkeypatch):
+    # what a non-root user meets with a chmod 000 file, simulated where root reads anything:
+    # opening the file fails with EACCES, as open(2) does (errno 13, "Permission denied")
+    f = tmp_path / "secret.toml"
+    f.write_text(FIELD_DOC, encoding="utf-8")
+    real_open = Path.open
+
+    def fake_open(self: Path, *args: Any, **kwargs: Any) -> Any:
+        if self == f:
+            raise PermissionError(13, "Permission denied", str(self))
+        return real_open(self, *args, **kwargs)
+
+    monkeypatch.setattr(Path, "open", fake_open)
+    _refused(["check", str(f)], "scenario", "Permission denied", "a readable file")
+
+
 @pytest.mark.parametrize("option,value", [
     ("--samples", "0"),
     ("--samples", "-3"),

@@ -381,3 +381,42 @@ def test_control_characters_in_paths_never_reach_the_terminal(tmp_path: Path,
     f = tmp_path / "new\x07.toml"
     code, text = run("new", str(f))
     assert code == 0 and "\x07" not in text and "\\x07" in text
+
+
+def test_recovery_never_touches_files_put_there_after_a_kill(tmp_path: Path) -> None:
+    # A swap decided (journal written) and killed; before the next process opens the folder a
+    # user puts files at a name the swap installs and at a name it removes. Recovery must
+    # keep both (derived from rule 1: a file the tool did not write is never replaced).
+    out = tmp_path / "o"
+    subprocess.run([sys.executable, "-c", _PUBLISH, str(out), "old"], check=True)
+    proc = subprocess.run([sys.executable, "-c", _PUBLISH, str(out), "new"],
+                          env={**os.environ, "RISK_TEST_KILL_AT": "journal"})
+    assert proc.returncode == -signal.SIGKILL
+    (out / "figures" / "b.png").write_text("the user's plot")   # installed by the swap
+    (out / "memo.html").write_text("the user's memo")           # removed by the swap
+    with pytest.raises(ScenarioError, match="not written by risk"):
+        with OutputFolder(out, create=False):
+            pass
+    assert (out / "figures" / "b.png").read_text() == "the user's plot"
+    assert (out / "memo.html").read_text() == "the user's memo"
+
+
+def test_foreign_state_folder_and_forged_journal_are_never_acted_on(tmp_path: Path) -> None:
+    # a .risk folder the tool did not make (entries not of its shapes) makes the folder
+    # foreign; a journal naming paths outside the folder is not a journal of this tool
+    out = tmp_path / "o"
+    (out / STATE_DIR / "staging-notes").mkdir(parents=True)
+    (out / STATE_DIR / "staging-notes" / "keep.txt").write_text("mine")
+    with pytest.raises(ScenarioError, match="did not write"):
+        check_output_dir(out)
+    assert (out / STATE_DIR / "staging-notes" / "keep.txt").read_text() == "mine"
+    out2 = tmp_path / "o2"
+    publish(out2, {"a.txt": "1"})
+    victim = tmp_path / "victim.txt"
+    victim.write_text("outside")
+    (out2 / STATE_DIR / "journal.json").write_text(json.dumps(
+        {"tool": "risk", "staging": "staging-1-0000abcd", "install": [],
+         "remove": ["../victim.txt"], "manifest": {}}))
+    with OutputFolder(out2, create=False):
+        pass
+    assert victim.read_text() == "outside" and (out2 / "a.txt").read_text() == "1"

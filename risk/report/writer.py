@@ -42,6 +42,7 @@ import hashlib
 import json
 import os
 import pwd
+import re
 import secrets
 import shutil
 import signal
@@ -210,12 +211,18 @@ def _inspect(folder: Path) -> _State | None:
     return _State(owned, foreign, edited)
 
 
+# Names the tool gives its own entries in .risk: staging folders and temporary files. Only
+# entries of exactly these shapes are ever removed from there.
+_STAGING_NAME = re.compile(r"staging-\d+-[0-9a-f]{8}")
+_TMP_NAME = re.compile(r"\.(?:manifest|journal)\.json\.tmp-[0-9a-f]{8}")
+
+
 def _only_lock(folder: Path) -> bool:
     """The tool's state folder holds nothing but what a process killed before its first swap
     leaves (its lock, staging folders, temporary files)."""
     state = folder / STATE_DIR
     return state.is_dir() and not state.is_symlink() and all(
-        p.name == LOCK or p.name.startswith("staging-") or ".tmp-" in p.name
+        p.name == LOCK or _STAGING_NAME.fullmatch(p.name) or _TMP_NAME.fullmatch(p.name)
         for p in state.iterdir())
 
 
@@ -517,9 +524,9 @@ def _discard_staging(folder: Path) -> None:
     journal = _read_journal(folder)
     live = journal.get("staging") if journal else None
     for p in state.iterdir():
-        if p.name.startswith("staging-") and p.name != live:
+        if _STAGING_NAME.fullmatch(p.name) and p.name != live and not p.is_symlink():
             shutil.rmtree(p, ignore_errors=True)
-        elif p.name.startswith(".") and ".tmp-" in p.name:
+        elif _TMP_NAME.fullmatch(p.name):
             p.unlink(missing_ok=True)
 
 
@@ -530,7 +537,13 @@ def _read_journal(folder: Path) -> dict[str, Any] | None:
         return None
     except (OSError, UnicodeDecodeError, json.JSONDecodeError):
         return None  # cannot happen with the atomic write; treated as no decision
-    return data if isinstance(data, dict) and data.get("tool") == "risk" else None
+    if not (isinstance(data, dict) and data.get("tool") == "risk"
+            and isinstance(data.get("staging"), str) and _STAGING_NAME.fullmatch(data["staging"])
+            and all(isinstance(r, str) and _safe_rel(r)
+                    for key in ("install", "remove") for r in data.get(key) or [])
+            and isinstance(data.get("manifest"), dict)):
+        return None  # not a journal of this tool: never acted on
+    return data
 
 
 def recover(folder: str | Path) -> bool:
@@ -556,9 +569,11 @@ def _apply(folder: Path, journal: Mapping[str, Any]) -> None:
     file that is gone was already renamed into place.
     """
     staging = folder / STATE_DIR / str(journal["staging"])
+    seen = journal.get("remove_digests") or {}
     for rel in journal["remove"]:
         target = folder / rel
-        if target.is_symlink() or target.is_file():
+        # only the file as it was when the swap was decided (a file put there since is kept)
+        if (target.is_symlink() or target.is_file()) and _file_digest(target) == seen.get(rel):
             target.unlink()
             _prune(folder, target.parent)
     _kill_point("removed")
@@ -566,6 +581,11 @@ def _apply(folder: Path, journal: Mapping[str, Any]) -> None:
         src = staging / rel
         if src.exists():
             dest = folder / rel
+            before = (journal.get("replaced") or {}).get(rel)
+            if (dest.is_symlink() or dest.is_file()) and _file_digest(dest) not in (
+                    before, _file_digest(src)):
+                # a file appeared at an output name after the swap was decided: never replaced
+                raise _clash(("--out", folder), [rel])
             dest.parent.mkdir(parents=True, exist_ok=True)
             if dest.is_dir() and not dest.is_symlink():
                 # an empty folder of the old run in the way (nothing in it: checked before)
@@ -640,6 +660,10 @@ def _swap(where: tuple[str, str | Path], folder: Path, files: Mapping[str, str |
         _kill_point("staged")
         journal = {"tool": "risk", "staging": stage_name, "install": sorted(files),
                    "remove": sorted(rel for rel in state.owned if rel not in manifest),
+                   "remove_digests": {rel: _file_digest(folder / rel) for rel in state.owned
+                                      if rel not in manifest},
+                   "replaced": {rel: _file_digest(folder / rel) for rel in sorted(files)
+                                if rel in state.owned},
                    "manifest": dict(sorted(manifest.items()))}
         with _signals_held():
             _write_atomic(folder / STATE_DIR / JOURNAL, dumps(journal).encode())
