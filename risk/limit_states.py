@@ -123,7 +123,8 @@ def _frames(scenario: Scenario) -> Array:
 
 
 def evaluate(cols: Mapping[str, Array], scenario: Scenario,
-             only: set[str] | None = None) -> dict[str, MechanismResult]:
+             only: set[str] | None = None, *,
+             reservoir_pressure: Array | None = None) -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
     Parameters
@@ -134,6 +135,9 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     only : set of mechanism keys, optional
         Evaluate only these (yield onset is always computed when asked for or when ``only`` is
         None).
+    reservoir_pressure : ndarray (n, n_stages), optional
+        Stage pressures of each sample [MPa] in place of ``scenario.reservoir_pressure``
+        (samples at different depths of a log interval, :mod:`risk.logs.depth`).
 
     Returns
     -------
@@ -141,7 +145,8 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     """
     phys = physical_inputs(cols, scenario)
     n = phys["sv"].size
-    stages = np.asarray(scenario.reservoir_pressure)[None, :]  # (1, k)
+    stages = (np.asarray(scenario.reservoir_pressure)[None, :] if reservoir_pressure is None
+              else np.asarray(reservoir_pressure, dtype=float))  # (1 or n, k)
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     biot = np.asarray(cols["biot"], dtype=float)
     big_a = st.poroelastic_coefficient(biot=biot, poisson_ratio=nu)
