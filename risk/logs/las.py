@@ -82,7 +82,7 @@ CURVE_UNITS: Final[Mapping[str, Mapping[str, float]]] = MappingProxyType({
 })
 #: Physical range of each role [internal units]: a value outside is a unit or data error.
 PHYSICAL: Final[Mapping[str, tuple[float, float, str]]] = MappingProxyType({
-    "dt": (130.0, 720.0, "130 to 720 us/m (40 to 220 us/ft)"),
+    "dt": (100.0, 720.0, "100 to 720 us/m (30 to 220 us/ft)"),
     "dts": (160.0, 1700.0, "160 to 1,700 us/m (50 to 520 us/ft)"),
     "rhob": (1000.0, 3300.0, "1,000 to 3,300 kg/m3 (1.0 to 3.3 g/cm3)"),
     "phi": (0.0, 0.6, "0 to 0.6 v/v (0 to 60 %)"),
@@ -206,6 +206,13 @@ def _find(las: Any, role: str, named: str | None, key: str) -> str | None:
     return None
 
 
+def _null_value(las: Any) -> float | None:
+    try:
+        return float(las.well["NULL"].value)
+    except (KeyError, TypeError, ValueError):
+        return None
+
+
 def _runs(mask: NDArray[np.bool_]) -> list[tuple[int, int]]:
     """(start, stop) index pairs of the True runs of ``mask``."""
     m = np.concatenate(([False], mask, [False])).astype(np.int8)
@@ -270,6 +277,9 @@ def read_las(path: str | Path, *, top: float, base: float,
                                    found_text="no data rows (the ~A section is missing or "
                                    "empty)")
     depth = _curve_values(las, index.mnemonic, f"{key} (depth curve {index.mnemonic})")
+    null_value = _null_value(las)
+    if null_value is not None:
+        depth = np.where(depth == null_value, np.nan, depth)
     depth = depth * DEPTH_UNITS[d_unit]
     notes: list[str] = []
     if not np.all(np.isfinite(depth)):
@@ -348,8 +358,8 @@ def read_las(path: str | Path, *, top: float, base: float,
         z = depth[sel]
         null = ~np.isfinite(values)
         if null.all():
-            problems.append(Problem(f"{ckey} ({mn})", las.well.NULL.value if "NULL" in las.well
-                                    else None, f"{ROLE_NAMES[role]} values in the interval",
+            problems.append(Problem(f"{ckey} ({mn})", _null_value(las),
+                                    f"{ROLE_NAMES[role]} values in the interval",
                                     found_text="only null values in the interval"))
             continue
         low, high, text = PHYSICAL[role]
