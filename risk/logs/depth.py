@@ -155,7 +155,7 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     rng = np.random.default_rng(seed_)
     sampler = UnitSampler(sc.sampling, joint.d, rng)
     k_st = len(sc.reservoir_pressure)
-    sc_abs = dataclasses.replace(sc, stress_given={k: "absolute" for k in sc.stress_given})
+    sc_abs = dataclasses.replace(sc, stress_given=dict.fromkeys(sc.stress_given, "absolute"))
     sv_log = (overburden(depth=tvd, density=curves["rhob"],
                          top_stress=ls.overburden_gradient_above * tvd[0])
               if ls.overburden == "density" else None)

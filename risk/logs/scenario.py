@@ -220,8 +220,14 @@ def load_log_scenario(path: str | Path) -> LogScenario:
     base = {k: (dict(v) if isinstance(v, dict) else v) for k, v in doc.items() if k != "logs"}
     for key in given:
         sec, vals = _PLACEHOLDERS[key]
+        val: Any = vals[0] if units == "field" else vals[1]
+        # uncertain when the transform's error is, so that correlation pairs stay valid
+        if key == "ucs" and logs.get("ucs_cov", 0.0) > 0:
+            val = {"dist": "lognormal", "median": val, "cov": logs["ucs_cov"]}
+        if key == "friction_angle" and logs.get("friction_sd", 0.0) > 0:
+            val = {"dist": "normal", "mean": val, "sd": math.degrees(logs["friction_sd"])}
         if isinstance(base.get(sec), dict):
-            base[sec].setdefault(key, vals[0] if units == "field" else vals[1])
+            base[sec].setdefault(key, val)
     if isinstance(base.get("stress"), dict):
         if logs.get("overburden") == "density":
             base["stress"].setdefault("sv_gradient", 1.0)

@@ -1,0 +1,198 @@
+"""Risk over depth: constant logs equal the single-interval run; depth correlation of the
+transform error; the perforation plan against a brute force."""
+
+from __future__ import annotations
+
+import itertools
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from risk.assessment import assess
+from risk.conventions import PSI_TO_MPA
+from risk.logs.depth import ar1_normals, assess_depth
+from risk.logs.interval import (
+    failing,
+    independent_probability,
+    interval_probability,
+    plan_perforations,
+)
+from risk.logs.scenario import load_log_scenario
+from risk.logs.transforms import mcnally_1987
+from risk.scenario import load_scenario
+
+BASE = """
+title = "Ravenmoor test well (fictional)"
+units = "field"
+[well]
+depth = 7850
+inclination = 0
+azimuth = 0
+completion = "perforated"
+shot_angles = [0, 90]
+tunnel_diameter = 0.5
+[stress]
+sv = 7700
+shmax = 6900
+shmin = { dist = "normal", mean = 5700, sd = 150 }
+shmax_azimuth = 40
+pp = 3450
+[rock]
+friction_angle = { dist = "normal", mean = 32, sd = 2 }
+tensile_strength = 100
+poisson_ratio = 0.25
+biot = 0.9
+twc_ratio = { dist = "uniform", low = 1.1, high = 1.7 }
+[production]
+reservoir_pressure = [3450, 2800]
+max_drawdown = 2000
+accepted_risk = 0.1
+[analysis]
+samples = 256
+seed = 5
+[correlation]
+pairs = [["ucs", "friction_angle", 0.4]]
+"""
+LAS_HEAD = """~VERSION INFORMATION
+ VERS.   2.0 : CWLS LOG ASCII STANDARD - VERSION 2.0
+ WRAP.   NO  : ONE LINE PER DEPTH STEP
+~WELL INFORMATION
+ NULL.    -999.25 : NULL VALUE
+ WELL.    RAVENMOOR T-1 : WELL
+~CURVE INFORMATION
+ DEPT.FT     : DEPTH
+ DT  .US/FT  : SONIC
+~A
+"""
+
+
+def _las(path: Path, dts: list[float]) -> None:
+    rows = "".join(f"{7840.0 + 0.5 * i} {dt}\n" for i, dt in enumerate(dts))
+    path.write_text(LAS_HEAD + rows)
+
+
+def _logs_table(length: str) -> str:
+    return f"""
+[logs]
+file = "t.las"
+top = 7840
+base = 7844
+ucs_transform = "mcnally_1987"
+ucs_cov = 0.3
+correlation_length = {length}
+planned_drawdown = 400
+"""
+
+
+def test_constant_logs_equal_single_interval(tmp_path: Path) -> None:
+    # the same inputs at every depth, the transform error fully correlated: every depth must
+    # reproduce the single-interval scenario run with UCS = lognormal(median = McNally(dt))
+    # on the same seed (independent check: the existing single-interval path)
+    dt = 100.0
+    _las(tmp_path / "t.las", [dt] * 9)
+    (tmp_path / "logs.toml").write_text(BASE + _logs_table('"inf"'))
+    median_psi = float(mcnally_1987(dt=dt)) / PSI_TO_MPA
+    single = BASE.replace("[rock]\n", f"[rock]\nucs = {{ dist = \"lognormal\", median = "
+                                      f"{median_psi!r}, cov = 0.3 }}\n")
+    (tmp_path / "single.toml").write_text(single)
+    res = assess_depth(load_log_scenario(tmp_path / "logs.toml"))
+    ref = assess(load_scenario(tmp_path / "single.toml"))
+    assert res.depth.size == 9
+    for key, mech in ref.mechanisms.items():
+        for d in range(res.depth.size):
+            np.testing.assert_allclose(res.dc[key][d], mech.well, rtol=2e-6, atol=1e-6)
+
+
+def test_ar1_correlation() -> None:
+    # exponential correlation exp(-dz/L) (Ornstein-Uhlenbeck on its grid): lag-one sample
+    # correlation within 5 standard errors (1/sqrt(n)) of exp(-0.5/2)
+    rng = np.random.default_rng(1)
+    n = 20_000
+    e = ar1_normals(first=rng.standard_normal(n), depth=np.arange(0.0, 5.0, 0.5), length=2.0,
+                    rng=rng)
+    r = np.corrcoef(e[3], e[4])[0, 1]
+    assert abs(r - math.exp(-0.25)) < 5.0 / math.sqrt(n)
+    assert abs(np.std(e[-1]) - 1.0) < 5.0 / math.sqrt(2 * n)
+    same = ar1_normals(first=e[0], depth=np.arange(3.0), length=math.inf, rng=rng)
+    assert np.array_equal(same[2], e[0])
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.lists(st.floats(20.0, 60.0), min_size=3, max_size=12), st.floats(0.1, 0.6),
+       st.floats(0.2, 20.0), st.integers(0, 2**31))
+def test_interval_probability_property(strength: list[float], cov: float, length: float,
+                                       seed: int) -> None:
+    # UCS(z) = T(z) x lognormal error; a depth fails when UCS < 30 MPa. Fully correlated
+    # error: the interval fails exactly when its weakest depth does (nested events).
+    # Independent: 1 - prod(1 - p_i) (probability of a union of independent events), within
+    # 5 binomial standard errors. In between: between the two.
+    rng = np.random.default_rng(seed)
+    t = np.asarray(strength)
+    z = np.arange(t.size) * 0.5
+    n = 4000
+    s = math.sqrt(math.log1p(cov * cov))
+    first = rng.standard_normal(n)
+
+    def fail(ell: float) -> np.ndarray:
+        e = ar1_normals(first=first, depth=z, length=ell, rng=rng)
+        return failing(t[:, None] * np.exp(s * e), 30.0)
+
+    full = fail(math.inf)
+    assert interval_probability(full) == pytest.approx(float(np.max(full.mean(axis=1))))
+    ind = fail(0.0)
+    p_ind = interval_probability(ind)
+    target = independent_probability(ind)
+    assert abs(p_ind - target) <= 5.0 * math.sqrt(max(target * (1 - target), 1e-4) / n) + 0.01
+    mid = interval_probability(fail(length))
+    worst = float(np.max(full.mean(axis=1)))
+    tol = 5.0 * math.sqrt(0.25 / n)
+    assert worst - tol <= mid <= p_ind + tol
+
+
+def _brute(zf: np.ndarray, lengths: np.ndarray, cand: np.ndarray, risk: float,
+           min_run: float) -> float:
+    nz, n = zf.shape
+    best = 0.0
+    for bits in itertools.product([False, True], repeat=nz):
+        pick = np.array(bits)
+        if np.any(pick & ~cand):
+            continue
+        if pick.any() and np.mean(np.any(zf[pick], axis=0)) > risk + 1e-12:
+            continue
+        run, ok = 0.0, True
+        for j in range(nz + 1):
+            if j < nz and pick[j]:
+                run += lengths[j]
+            else:
+                if 0.0 < run < min_run - 1e-9:
+                    ok = False
+                run = 0.0
+        if ok:
+            best = max(best, float(np.sum(lengths[pick])))
+    return best
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.integers(1, 10), st.integers(0, 2**31), st.floats(0.02, 0.3),
+       st.sampled_from([0.0, 1.0, 2.0, 3.5]))
+def test_plan_equals_brute_force(nz: int, seed: int, risk: float, min_run: float) -> None:
+    # independent check: enumeration of all 2^nz plans
+    rng = np.random.default_rng(seed)
+    n = 200
+    zf = rng.random((nz, n)) < rng.uniform(0.0, 0.15, size=(nz, 1))
+    lengths = rng.choice([0.5, 1.0, 1.5], size=nz)
+    cand = rng.random(nz) < 0.85
+    chosen, count, finished, _ = plan_perforations(
+        zone_fail=zf, zone_length=lengths, candidate=cand, accepted_risk=risk,
+        min_interval=min_run)
+    assert finished
+    assert float(np.sum(lengths[chosen])) == pytest.approx(_brute(zf, lengths, cand, risk,
+                                                                  min_run))
+    if chosen.any():
+        assert np.mean(np.any(zf[chosen], axis=0)) <= risk + 1e-12
+        assert count == int(np.sum(np.any(zf[chosen], axis=0)))
+    assert not np.any(chosen & ~cand)
