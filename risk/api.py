@@ -56,6 +56,10 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
         For any bad input (the file, the overrides or the output folder).
     """
     n_samples, n_seed = _check_overrides(samples, seed)
+    from risk.logs.scenario import has_logs
+
+    if has_logs(path):  # a log scenario: risk over depth (risk.logs)
+        return _run_logs(path, out, n_samples, n_seed, force)
     scenario = load_scenario(path)
     from risk.report.writer import OutputFolder
 
@@ -63,6 +67,24 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     with OutputFolder(out, force=force, inputs=[path]) as folder:
         summary, files = _compute(scenario, path, n_samples, n_seed, show_progress)
         kept = folder.publish(files)
+    return RunResult(summary, folder.path, tuple(kept))
+
+
+def _run_logs(path: str | Path, out: str | Path, n_samples: int | None, n_seed: int | None,
+              force: bool) -> RunResult:
+    """A scenario with a ``[logs]`` table: every mechanism over the log interval."""
+    from risk.logs.depth import assess_depth
+    from risk.logs.scenario import load_log_scenario
+    from risk.logs.summary import summarize_depth
+    from risk.report.depth_outputs import log_output_files
+    from risk.report.writer import OutputFolder
+
+    ls = load_log_scenario(path)
+    with OutputFolder(out, force=force, inputs=[path]) as folder:
+        res = assess_depth(ls, samples=n_samples, seed=n_seed)
+        summary = summarize_depth(res)
+        del res
+        kept = folder.publish(log_output_files(summary, _run_info(path, summary)))
     return RunResult(summary, folder.path, tuple(kept))
 
 
@@ -108,6 +130,11 @@ def _output_files(summary: dict[str, Any], run_info: dict[str, Any]
 
 
 def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, str | bytes]:
+    if summary.get("kind") == "logs":
+        from risk.report.depth_outputs import log_output_files
+
+        files = log_output_files(summary, run_info)
+        return {k: v for k, v in files.items() if k not in ("results.json", "run.json")}
     from risk.report import memo_files
 
     return memo_files(summary, run_info)

@@ -127,12 +127,28 @@ def new(
 def check(file: Annotated[Path, typer.Argument(help="Scenario file (TOML).", metavar="FILE")]
           ) -> None:
     """Validate a scenario and print its inputs in its own units."""
+    from risk.logs.scenario import has_logs
     from risk.scenario import load_scenario
 
+    if has_logs(file):  # a log scenario: the scenario, then its logs
+        from risk.logs.scenario import load_log_scenario
+
+        ls = _guard(load_log_scenario, file)
+        typer.echo(f"logs: {_plain(ls.logs.source)}, {ls.logs.depth.size:,} depths, curves "
+                   + ", ".join(f"{r} = {_plain(m)}" for r, m in ls.logs.mnemonics.items()))
+        for note in ls.logs.notes:
+            typer.echo(f"note: {_plain(note)}")
+        _guard(_print_scenario, ls.scenario)
+        return
+
     scenario = _guard(load_scenario, file)
+    _guard(_print_scenario, scenario)
+
+
+def _print_scenario(scenario: Any) -> None:
     from risk.report.console import print_scenario
 
-    _guard(print_scenario, scenario)
+    print_scenario(scenario)
 
 
 @app.command()

@@ -240,6 +240,9 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
                   ) -> None:
     """A compact table per mechanism: limits and critical values per depletion stage."""
     con = console or Console()
+    if summary.get("kind") == "logs":
+        _print_log_summary(con, summary, out_dir)
+        return
     u = summary["units"]["pressure"]
     con.print(Text.assemble(
         safe(summary["title"], "bold"),
@@ -300,3 +303,34 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
     con.print(Text.assemble("results: ", safe(out_dir / "results.json")))
     if (out_dir / "memo.html").exists():
         con.print(Text.assemble("memo: ", safe(out_dir / "memo.html"), " (and memo.pdf)"))
+
+
+def _print_log_summary(con: Console, s: dict[str, Any], out_dir: Path) -> None:
+    """A log run: the interval's sanding probability per stage and the perforation plan."""
+    pu, lu = s["units"]["pressure"], s["units"]["length"]
+    con.print(Text.assemble(
+        safe(s["title"], "bold"),
+        safe(f" - {s['las']['depths']:,} depths x {s['samples']:,} samples ({s['sampling']}), "
+             f"seed {s['seed']}")))
+    _print_warnings(con, s.get("warnings"))
+    plan = s.get("plan")
+    if plan is None:
+        con.print("No sand-production mechanism switched on: first yield only.")
+    else:
+        iv = s["interval"]
+        table = Table(title=f"At the planned drawdown of {s['planned_drawdown']:,.0f} {pu}")
+        for col in ("stage", f"p_r [{pu}]", "P(interval sands)", "if independent",
+                    f"limit whole [{pu}]", f"limit plan [{pu}]"):
+            table.add_column(col, justify="right")
+        for k, st in enumerate(s["stages"]):
+            lim = plan["sand_free_limit"][k]
+            whole = iv["sand_free_limit_whole"][k]
+            table.add_row(str(k + 1), f"{st:,.0f}", f"{iv['probability_whole'][k]:.3f}",
+                          f"{iv['probability_if_independent'][k]:.3f}",
+                          "never" if whole is None else f"{whole:,.0f}",
+                          "never" if lim is None else f"{lim:,.0f}")
+        con.print(table)
+        runs = ", ".join(f"{a:,.1f}-{b:,.1f}" for a, b in plan["runs"]) or "nothing"
+        con.print(safe(f"plan: perforate {runs} {lu} ({plan['length']:,.1f} {lu}), "
+                       f"P(interval sands) {plan['probability']:.3f}"))
+    con.print(safe(f"outputs in {out_dir}"))
