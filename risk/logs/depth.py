@@ -140,6 +140,15 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                                    "a transform that gives a positive UCS over the interval",
                                    found_text=f"{ls.ucs_transform.name}: UCS "
                                    f"{t_ucs[i]:.3g} MPa at {depth[i]:.2f} m")
+    notes: list[str] = []
+    if ls.core:
+        zc = np.array([c[0] for c in ls.core])
+        ratio = np.array([c[1] for c in ls.core]) / np.interp(zc, depth, t_ucs)
+        factor = float(np.exp(np.mean(np.log(ratio))))
+        t_ucs = t_ucs * factor
+        notes.append(f"logs.core: the transform is calibrated by a factor {factor:.3f} (geometric"
+                     f" mean of {zc.size} core/transform ratio(s), "
+                     f"{float(ratio.min()):.2f} to {float(ratio.max()):.2f})")
     names = list(sc.inputs)
     marg = dict(sc.inputs)
     s_ucs = math.sqrt(math.log1p(ls.ucs_cov ** 2))
@@ -183,7 +192,10 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                     else cols["pp_gradient"] * datum)
         sv = (np.broadcast_to(sv_log[:, None], (nd, m)) if sv_log is not None
               else _stress_field(ls, "sv", cols, tvd))
-        if ls.horizontal == "poroelastic":
+        if ls.horizontal == "ratio":  # effective-stress ratios (Zoback 2007, sec. 1.2)
+            shmin = ls.k_min * (sv - pp) + pp
+            shmax = ls.k_max * (sv - pp) + pp
+        elif ls.horizontal == "poroelastic":
             e_mod = cols.get("young_modulus", np.zeros(m))[None, :]
             shmin, shmax = poroelastic_horizontal(
                 sv=sv, pore_pressure=pp, poisson_ratio=cols["poisson_ratio"][None, :],
@@ -231,4 +243,4 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     return DepthResult(ls=ls, depth=depth, stages=tuple(sc.reservoir_pressure), samples=n,
                        seed=seed_, dc=dc, sand=sand, ucs=ucs_all, ucs_transform=t_ucs,
                        friction=np.asarray(fric), profile=prof_acc,
-                       warnings=tuple(ls.warnings) + tuple(warn) + ls.logs.notes)
+                       warnings=tuple(ls.warnings) + tuple(warn) + ls.logs.notes + tuple(notes))

@@ -9,12 +9,12 @@ The plan: the interval is cut into zones of a fixed thickness (the plan's unit).
 weak when its own sanding probability at the planned drawdown, at any stage, exceeds the
 accepted risk; zones closer than the stand-off to a weak zone are not perforated, and nor are
 zones holding unassessed depths. Among the remaining zones, the plan is the set of largest
-total length whose interval probability at the planned drawdown is at most the accepted risk
-at every stage, with every perforated run (consecutive perforated zones) at least the minimum
-interval long. It is found by a depth-first search over the zones in depth order with two
-exact prunings (a set over the risk makes every superset over it, since the probability of a
-union only grows; a branch that cannot beat the best length is dropped), so it is the optimum
-unless the node budget runs out, which the result says.
+total length whose probability that the interval sands at the planned drawdown at some stage
+of depletion is at most the accepted risk, with every perforated run (consecutive perforated
+zones) at least the minimum interval long. It is found by a depth-first search over the
+zones in depth order with two exact prunings (a set over the risk makes every superset over
+it, since the probability of a union only grows; a branch that cannot beat the best length is
+dropped), so it is the optimum unless the node budget runs out, which the result says.
 """
 
 from __future__ import annotations
@@ -30,7 +30,7 @@ from numpy.typing import NDArray
 from risk import probability
 
 __all__ = ["failing", "interval_probability", "independent_probability", "zones_of",
-           "Plan", "plan_perforations", "plan_limit", "NODE_BUDGET"]
+           "Plan", "plan_perforations", "plan_limit", "NODE_BUDGET", "zones_by_breaks", "plan_for"]
 
 Array = NDArray[np.float64]
 NODE_BUDGET: Final = 2_000_000
@@ -63,6 +63,22 @@ def zones_of(depth: Array, thickness: float) -> NDArray[np.int64]:
     raw = np.floor((z - z[0]) / thickness + 1e-9).astype(np.int64)
     _, idx = np.unique(raw, return_inverse=True)
     return np.asarray(idx, dtype=np.int64)
+
+
+def zones_by_breaks(values: Array, depth: Array, *, threshold: float, thickness: float
+                    ) -> NDArray[np.int64]:
+    """Zone index of each depth: a new zone starts where ``values`` differ from the zone's
+    first value by more than ``threshold`` (relative) or the zone reaches ``thickness`` [m]."""
+    v = np.asarray(values, dtype=float)
+    z = np.asarray(depth, dtype=float)
+    out = np.zeros(z.size, dtype=np.int64)
+    j, start = 0, 0
+    for i in range(1, z.size):
+        if (abs(v[i] - v[start]) > threshold * abs(v[start])
+                or z[i] - z[start] >= thickness - 1e-9):
+            j, start = j + 1, i
+        out[i] = j
+    return out
 
 
 @dataclass(frozen=True)
@@ -174,11 +190,14 @@ def plan_limit(sand: NDArray[np.floating], mask: NDArray[np.bool_], accepted_ris
 
 def plan_for(*, depth: Array, sand: NDArray[np.floating], drawdown: float,
              accepted_risk: float, zone_thickness: float, min_interval: float,
-             standoff: float, assessed: Sequence[bool] | None = None) -> Plan:
-    """The plan of a depth result (see the module docstring)."""
+             standoff: float, assessed: Sequence[bool] | None = None,
+             zone: NDArray[np.int64] | None = None) -> Plan:
+    """The plan of a depth result (see the module docstring); ``zone`` gives each depth's
+    zone (default :func:`zones_of` with ``zone_thickness``)."""
     z = np.asarray(depth, dtype=float)
     fail_any = np.any(np.asarray(sand) <= drawdown, axis=2)  # (d, n): fails at any stage
-    zone = zones_of(z, zone_thickness)
+    if zone is None:
+        zone = zones_of(z, zone_thickness)
     nz = int(zone.max()) + 1
     step = float(np.median(np.diff(z))) if z.size > 1 else zone_thickness
     top = np.array([z[zone == j].min() for j in range(nz)])

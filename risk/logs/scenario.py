@@ -15,6 +15,12 @@
     overburden = "density"             # or "scenario" ([stress] sv / sv_gradient)
     overburden_gradient_above = 0.95   # Sv at the log top = gradient x top [gradient]
     horizontal = "poroelastic"         # or "scenario"; tectonic strains strain_min/max [-]
+                                       # or "ratio": S_h = k (Sv - Pp) + Pp, k_min, k_max [-]
+    step = 0.5                         # optional: resample the logs to this step [length]
+    core = [[7841, 2900], [7866, 5200]]   # optional: core UCS tests [length, pressure] that
+                                       # calibrate the transform (one factor, geometric mean)
+    zoning = "fixed"                   # plan zones: "fixed" thickness, or "breaks" where the
+    zone_break = 0.2                   # transform's UCS changes by more than this fraction
     planned_drawdown = 500             # [pressure]
     zone_thickness = 2                 # plan unit [length]
     min_interval = 6  standoff = 2     # perforated run at least; distance from weak zones
@@ -48,7 +54,8 @@ __all__ = ["LogScenario", "load_log_scenario", "has_logs", "parse_log_section", 
 LOG_KEYS: Final = ("file", "top", "base", "curves", "max_gap", "ucs_transform", "ucs_cov",
                    "correlation_length", "friction_transform", "friction_sd", "overburden",
                    "overburden_gradient_above", "horizontal", "strain_min", "strain_max",
-                   "planned_drawdown", "zone_thickness", "min_interval", "standoff")
+                   "planned_drawdown", "zone_thickness", "min_interval", "standoff", "step",
+                   "k_min", "k_max", "core", "zoning", "zone_break")
 
 
 @dataclass(frozen=True)
@@ -72,6 +79,11 @@ class LogScenario:
     min_interval: float  # [m]
     standoff: float  # [m]
     warnings: tuple[str, ...] = field(default=())
+    k_min: float = math.nan  # effective-stress ratios of horizontal = "ratio" [-]
+    k_max: float = math.nan
+    core: tuple[tuple[float, float], ...] = ()  # (depth [m], UCS [MPa]) core tests
+    zoning: str = "fixed"  # "fixed" or "breaks"
+    zone_break: float = 0.2  # relative change of the transform's UCS that starts a zone [-]
 
 
 def has_logs(path: str | Path) -> bool:
@@ -151,8 +163,9 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
     out["friction_transform"] = FRICTION_TRANSFORMS.get(fname) if isinstance(fname, str) else None
     out["friction_sd"] = math.radians(_num(t, "friction_sd", p, "a scatter >= 0 [deg]", 0.0))
     for key, opts in (("overburden", ("scenario", "density")),
-                      ("horizontal", ("scenario", "poroelastic"))):
-        v = t.get(key, "scenario")
+                      ("horizontal", ("scenario", "poroelastic", "ratio")),
+                      ("zoning", ("fixed", "breaks"))):
+        v = t.get(key, opts[0])
         if v not in opts:
             p.append(Problem(f"logs.{key}", v, " or ".join(f'"{o}"' for o in opts)))
         out[key] = v
@@ -172,6 +185,26 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
                                  0.6096 / L, inclusive=False) * L
     out["min_interval"] = _num(t, "min_interval", p, length, 0.0) * L
     out["standoff"] = _num(t, "standoff", p, length, 0.0) * L
+    out["step"] = (_num(t, "step", p, f"a resampling step > 0 [{disp['length']}]",
+                        inclusive=False) * L if "step" in t else None)
+    for key in ("k_min", "k_max"):
+        out[key] = (_num(t, key, p, "an effective-stress ratio S'h/S'v > 0 [-]", low=0.0,
+                         inclusive=False) if out["horizontal"] == "ratio" else math.nan)
+    out["zone_break"] = _num(t, "zone_break", p, "a relative change > 0 [-]", 0.2,
+                             inclusive=False)
+    core = t.get("core", [])
+    pairs: list[tuple[float, float]] = []
+    if not isinstance(core, list):
+        core = [core]
+    for i, row in enumerate(core):
+        if (isinstance(row, list) and len(row) == 2 and all(
+                isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+                and v > 0 for v in row)):
+            pairs.append((float(row[0]) * L, float(row[1]) * P))
+        else:
+            p.append(Problem(f"logs.core[{i}]", row, f"[depth, UCS] > 0 [{disp['length']}, "
+                             f"{disp['pressure']}]"))
+    out["core"] = tuple(pairs)
     return out, p
 
 
@@ -210,7 +243,7 @@ def load_log_scenario(path: str | Path) -> LogScenario:
                                     "(logs.ucs_transform / logs.friction_transform)"))
     if isinstance(stress, dict):
         over = (["sv"] if logs.get("overburden") == "density" else []) + (
-            ["shmin", "shmax"] if logs.get("horizontal") == "poroelastic" else [])
+            ["shmin", "shmax"] if logs.get("horizontal") in ("poroelastic", "ratio") else [])
         for s in over:
             for k in (s, f"{s}_gradient"):
                 if k in stress:
@@ -231,7 +264,7 @@ def load_log_scenario(path: str | Path) -> LogScenario:
     if isinstance(base.get("stress"), dict):
         if logs.get("overburden") == "density":
             base["stress"].setdefault("sv_gradient", 1.0)
-        if logs.get("horizontal") == "poroelastic":
+        if logs.get("horizontal") in ("poroelastic", "ratio"):
             base["stress"].setdefault("shmin_gradient", 0.7)
             base["stress"].setdefault("shmax_gradient", 0.8)
     try:
@@ -256,8 +289,28 @@ def load_log_scenario(path: str | Path) -> LogScenario:
                   required=tuple(sorted(needs)),
                   optional=tuple(r for r in ("rhob", "phi", "gr", "vsh") if r not in needs),
                   max_gap=logs["max_gap"], depth_unit_out="ft" if units == "field" else "m")
-    kw = {k: v for k, v in logs.items() if k not in ("file", "top", "base", "curves", "max_gap")}
+    conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
+    if logs["step"] is not None:
+        ls = resample(ls, logs["step"], shown=f"{logs['step'] / conv['length']:g} "
+                      f"{disp['length']}")
+    for i, (z, _) in enumerate(logs["core"]):
+        if not logs["top"] <= z <= logs["base"]:
+            raise ScenarioError.single(f"logs.core[{i}]", z / conv["length"],
+                                       "a core depth within logs.top to logs.base", name)
+    kw = {k: v for k, v in logs.items()
+          if k not in ("file", "top", "base", "curves", "max_gap", "step")}
     return LogScenario(scenario=sc, logs=ls, warnings=sc.warnings, **kw)
+
+
+def resample(ls: LogSet, step: float, *, shown: str = "") -> LogSet:
+    """The logs linearly interpolated onto a regular grid of ``step`` [m] from the top."""
+    import numpy as np
+
+    z = np.arange(ls.depth[0], ls.depth[-1] + 1e-9, step)
+    curves = {r: np.interp(z, ls.depth, v) for r, v in ls.curves.items()}
+    note = f"logs resampled to a {shown or f'{step:g} m'} step by linear interpolation"
+    return LogSet(z, curves, ls.mnemonics, ls.units, well=ls.well, source=ls.source,
+                  notes=(*ls.notes, note))
 
 
 def _fail(doc: Mapping[str, Any], name: str) -> LogScenario:

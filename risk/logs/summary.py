@@ -19,6 +19,7 @@ from risk.logs.interval import (
     interval_probability,
     plan_for,
     plan_limit,
+    zones_by_breaks,
     zones_of,
 )
 
@@ -116,10 +117,12 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
         probs.append(pk)
         whole.append(interval_probability(fk))
         indep.append(independent_probability(fk))
+    zone = (zones_by_breaks(res.ucs_transform, res.depth, threshold=ls.zone_break,
+                            thickness=ls.zone_thickness) if ls.zoning == "breaks"
+            else zones_of(res.depth, ls.zone_thickness))
     plan = plan_for(depth=res.depth, sand=res.sand, drawdown=dd, accepted_risk=risk_,
                     zone_thickness=ls.zone_thickness, min_interval=ls.min_interval,
-                    standoff=ls.standoff)
-    zone = zones_of(res.depth, ls.zone_thickness)
+                    standoff=ls.standoff, zone=zone)
     mask = plan.perforated[zone]
     table["perforated [-]"] = [bool(v) for v in mask]
     table["weak zone [-]"] = [bool(v) for v in plan.weak[zone]]
@@ -138,6 +141,9 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
         "rule": ("longest perforated length with P(interval sands at the planned drawdown at "
                  "any stage) <= accepted risk; weak zones (own P > accepted risk) and zones "
                  "within the stand-off excluded; every perforated run >= the minimum interval"),
+        "zoning": (ls.zoning if ls.zoning == "fixed" else
+                   f"breaks where the transform's UCS changes by more than "
+                   f"{100 * ls.zone_break:.0f}%, at most the zone thickness"),
         "zone_thickness": _num(ls.zone_thickness, 1 / l_scale, 3),
         "min_interval": _num(ls.min_interval, 1 / l_scale, 3),
         "standoff": _num(ls.standoff, 1 / l_scale, 3),

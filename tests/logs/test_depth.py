@@ -196,3 +196,26 @@ def test_plan_equals_brute_force(nz: int, seed: int, risk: float, min_run: float
         assert np.mean(np.any(zf[chosen], axis=0)) <= risk + 1e-12
         assert count == int(np.sum(np.any(zf[chosen], axis=0)))
     assert not np.any(chosen & ~cand)
+
+
+def test_ratio_stresses_core_calibration_and_resampling(tmp_path: Path) -> None:
+    # S_h = k (Sv - Pp) + Pp (effective-stress ratio; Zoback 2007, sec. 1.2, common practice);
+    # core calibration: one factor, the geometric mean of core/transform ratios (here both 2x);
+    # resampling to 0.25 ft by linear interpolation of the logs.
+    _las(tmp_path / "t.las", [90.0, 92.0, 94.0, 96.0, 98.0, 100.0, 102.0, 104.0, 106.0])
+    t_mpa = float(mcnally_1987(dt=92.0))
+    t2_mpa = float(mcnally_1987(dt=102.0))
+    doc = (BASE.replace("shmax = 6900\n", "").replace(
+        'shmin = { dist = "normal", mean = 5700, sd = 150 }\n', "")
+        + _logs_table("2") + 'horizontal = "ratio"\nk_min = 0.6\nk_max = 0.8\nstep = 0.25\n'
+        + f"core = [[7840.5, {2 * t_mpa / PSI_TO_MPA!r}], [7843.0, {2 * t2_mpa / PSI_TO_MPA!r}]]\n")
+    (tmp_path / "logs.toml").write_text(doc)
+    ls = load_log_scenario(tmp_path / "logs.toml")
+    assert ls.logs.depth.size == 17
+    np.testing.assert_allclose(ls.logs.curves["dt"][1] * 0.3048, 91.0)  # halfway 90 -> 92
+    res = assess_depth(ls, samples=64)
+    np.testing.assert_allclose(res.ucs_transform[2], 2 * t_mpa, rtol=1e-9)
+    sv, pp = 7700 * PSI_TO_MPA, 3450 * PSI_TO_MPA
+    np.testing.assert_allclose(res.profile["shmin"], 0.6 * (sv - pp) + pp, rtol=1e-12)
+    np.testing.assert_allclose(res.profile["shmax"], 0.8 * (sv - pp) + pp, rtol=1e-12)
+    assert any("calibrated by a factor 2.000" in w for w in res.warnings)
