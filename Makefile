@@ -6,7 +6,7 @@ STAMP_RUN  := $(VENV)/.installed-run
 STAMP_TEST := $(VENV)/.installed-test
 DEMO   := examples/ravenmoor_r7_openhole.toml
 
-.PHONY: demo test lint bench clean
+.PHONY: demo demo-logs test lint bench clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -22,6 +22,9 @@ $(STAMP_TEST): pyproject.toml | $(BIN)/python
 
 demo: $(STAMP_RUN)
 	$(BIN)/risk run $(DEMO) --out reports/demo --force
+
+demo-logs: $(STAMP_RUN)
+	$(BIN)/risk run examples/logs/ravenmoor_r9_logs.toml --out reports/demo-logs --force
 
 test: $(STAMP_TEST)
 	$(BIN)/ruff check risk tests benchmarks examples

@@ -80,7 +80,7 @@ def _run_logs(path: str | Path, out: str | Path, n_samples: int | None, n_seed: 
     from risk.report.writer import OutputFolder
 
     ls = load_log_scenario(path)
-    with OutputFolder(out, force=force, inputs=[path]) as folder:
+    with OutputFolder(out, force=force, inputs=[path, ls.las_path]) as folder:
         res = assess_depth(ls, samples=n_samples, seed=n_seed)
         summary = summarize_depth(res)
         del res

@@ -84,6 +84,7 @@ class LogScenario:
     core: tuple[tuple[float, float], ...] = ()  # (depth [m], UCS [MPa]) core tests
     zoning: str = "fixed"  # "fixed" or "breaks"
     zone_break: float = 0.2  # relative change of the transform's UCS that starts a zone [-]
+    las_path: str = ""  # the LAS file as found (an input: its folder is never an output)
 
 
 def has_logs(path: str | Path) -> bool:
@@ -287,7 +288,8 @@ def load_log_scenario(path: str | Path) -> LogScenario:
         file = p.parent / file
     ls = read_las(file, top=logs["top"], base=logs["base"], curves=logs["curves"],
                   required=tuple(sorted(needs)),
-                  optional=tuple(r for r in ("rhob", "phi", "gr", "vsh") if r not in needs),
+                  optional=tuple(r for r in ("rhob", "phi", "gr", "vsh", "dts", "cali")
+                                 if r not in needs),
                   max_gap=logs["max_gap"], depth_unit_out="ft" if units == "field" else "m")
     conv, disp = TO_INTERNAL[units], DISPLAY_UNITS[units]
     if logs["step"] is not None:
@@ -299,7 +301,7 @@ def load_log_scenario(path: str | Path) -> LogScenario:
                                        "a core depth within logs.top to logs.base", name)
     kw = {k: v for k, v in logs.items()
           if k not in ("file", "top", "base", "curves", "max_gap", "step")}
-    return LogScenario(scenario=sc, logs=ls, warnings=sc.warnings, **kw)
+    return LogScenario(scenario=sc, logs=ls, warnings=sc.warnings, las_path=str(file), **kw)
 
 
 def resample(ls: LogSet, step: float, *, shown: str = "") -> LogSet:

@@ -15,7 +15,7 @@ from risk.cli import app
 
 RUNNER = CliRunner()
 ROOT = Path(__file__).resolve().parents[2]
-EXAMPLE = ROOT / "examples" / "ravenmoor_r9_logs.toml"
+EXAMPLE = ROOT / "examples" / "logs" / "ravenmoor_r9_logs.toml"
 BAD = ROOT / "tests" / "data" / "las" / "bad"
 CASES = tomllib.loads((BAD / "expected.toml").read_text())
 
@@ -94,3 +94,15 @@ def test_log_example_outputs_and_rerun(tmp_path: Path) -> None:
     assert "Safety cautions" in memo and "Assumptions and limitations" in memo
     r = RUNNER.invoke(app, ["memo", str(a)])
     assert r.exit_code == 0, r.output
+
+
+def test_output_into_the_las_folder_refused(tmp_path: Path) -> None:
+    # the folder holding an input (the scenario or its LAS file) is never an output folder
+    las_dir = tmp_path / "las"
+    las_dir.mkdir()
+    las = las_dir / "r9.las"
+    las.write_bytes((EXAMPLE.parent / "ravenmoor_r9_logs.las").read_bytes())
+    sc = _scenario(tmp_path, las)
+    r = RUNNER.invoke(app, ["run", str(sc), "--out", str(las_dir), "--samples", "8"])
+    assert r.exit_code == 2, r.output
+    assert sorted(p.name for p in las_dir.iterdir()) == ["r9.las"]
