@@ -238,8 +238,13 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
             else np.full(nd, sc.inputs["friction_angle"].median))
     from risk.logs.transforms import range_warnings
 
-    warn = range_warnings(ls.ucs_transform, curves, depth, t_ucs,
-                          show_depth=lambda z: f"{z:,.2f} m")
+    def shown(z: float) -> str:
+        return f"{sc.to_display(z, 'length'):,.1f} {sc.display_unit('length')}"
+
+    warn = range_warnings(ls.ucs_transform, curves, depth, t_ucs, show_depth=shown)
+    if ls.friction_transform is not None and t_fric is not None:
+        warn += range_warnings(ls.friction_transform, curves, depth,
+                               np.degrees(t_fric), show_depth=shown, key="logs.friction_transform")
     return DepthResult(ls=ls, depth=depth, stages=tuple(sc.reservoir_pressure), samples=n,
                        seed=seed_, dc=dc, sand=sand, ucs=ucs_all, ucs_transform=t_ucs,
                        friction=np.asarray(fric), profile=prof_acc,

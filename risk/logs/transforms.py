@@ -239,7 +239,8 @@ FRICTION_TRANSFORMS: Final[Mapping[str, Transform]] = MappingProxyType({
 
 
 def range_warnings(t: Transform, curves: Mapping[str, Array], depth: Array,
-                   value: Array, *, show_depth: Callable[[float], str]) -> list[str]:
+                   value: Array, *, show_depth: Callable[[float], str],
+                   key: str = "logs.ucs_transform") -> list[str]:
     """One warning per calibration range the logs (or the value) leave, with the share of
     depths outside and the first depth where it happens."""
     out: list[str] = []
@@ -249,9 +250,9 @@ def range_warnings(t: Transform, curves: Mapping[str, Array], depth: Array,
         if np.any(bad):
             i = int(np.nonzero(bad)[0][0])
             what = "its value" if role == "value" else f"the {role} log"
-            out.append(f"logs.ucs_transform: {t.name} ({t.source}) applied outside its "
+            out.append(f"{key}: {t.name} ({t.source}) applied outside its "
                        f"published range at {100.0 * bad.mean():.0f}% of the depths (first at "
                        f"{show_depth(float(depth[i]))}): {what} should be {text}")
     if not math.isfinite(float(np.min(value))) or float(np.min(value)) <= 0.0:
-        out.append(f"logs.ucs_transform: {t.name} gives no positive strength at some depths")
+        out.append(f"{key}: {t.name} gives no positive value at some depths")
     return out

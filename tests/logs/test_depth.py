@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 
 from risk.assessment import assess
 from risk.conventions import PSI_TO_MPA
+from risk.errors import ScenarioError
 from risk.logs.depth import ar1_normals, assess_depth
 from risk.logs.interval import (
     failing,
@@ -219,3 +220,44 @@ def test_ratio_stresses_core_calibration_and_resampling(tmp_path: Path) -> None:
     np.testing.assert_allclose(res.profile["shmin"], 0.6 * (sv - pp) + pp, rtol=1e-12)
     np.testing.assert_allclose(res.profile["shmax"], 0.8 * (sv - pp) + pp, rtol=1e-12)
     assert any("calibrated by a factor 2.000" in w for w in res.warnings)
+
+
+def test_depth_percentiles_match_probability_percentiles() -> None:
+    # the per-depth quantiles use the definition of risk.probability.percentiles (inverted
+    # empirical CDF, +inf kept); checked row by row against it
+    from risk import probability
+    from risk.logs.summary import depth_percentiles
+
+    rng = np.random.default_rng(4)
+    a = rng.gamma(2.0, 3.0, size=(7, 101))
+    a[2, :30] = np.inf
+    got = depth_percentiles(a, (0.1, 0.5, 0.9))
+    for i in range(a.shape[0]):
+        np.testing.assert_array_equal(got[i], probability.percentiles(a[i], [0.1, 0.5, 0.9]))
+
+
+def test_range_warning_reaches_the_run(tmp_path: Path) -> None:
+    # McNally (1987) is used here outside the 60-150 us/ft span written in its entry
+    _las(tmp_path / "t.las", [100.0, 170.0, 100.0, 100.0, 100.0, 100.0, 100.0, 100.0, 100.0])
+    (tmp_path / "logs.toml").write_text(BASE + _logs_table("2"))
+    res = assess_depth(load_log_scenario(tmp_path / "logs.toml"), samples=16)
+    assert any("outside its published range" in w and "7,840.5 ft" in w for w in res.warnings)
+
+
+def test_friction_transform_over_depth(tmp_path: Path) -> None:
+    # Weingarten & Perkins (1995): friction angle = 57.8 - 105 phi [deg] (from memory); the
+    # rock.friction_angle of the scenario is then refused as given twice
+    head = LAS_HEAD.replace(" DT  .US/FT  : SONIC\n", " DT  .US/FT  : SONIC\n NPHI.V/V : POR\n")
+    rows = "".join(f"{7840.0 + 0.5 * i} 100 {0.15 + 0.01 * i}\n" for i in range(9))
+    (tmp_path / "t.las").write_text(head + rows)
+    doc = BASE.replace('friction_angle = { dist = "normal", mean = 32, sd = 2 }\n', "")
+    doc = doc.replace('pairs = [["ucs", "friction_angle", 0.4]]', "pairs = []")
+    (tmp_path / "logs.toml").write_text(doc + _logs_table("2")
+                                        + 'friction_transform = "weingarten_perkins_1995"\n')
+    res = assess_depth(load_log_scenario(tmp_path / "logs.toml"), samples=16)
+    phi = 0.15 + 0.01 * np.arange(9)
+    np.testing.assert_allclose(np.degrees(res.friction), 57.8 - 105.0 * phi, rtol=1e-12)
+    (tmp_path / "twice.toml").write_text(BASE + _logs_table("2")
+                                         + 'friction_transform = "weingarten_perkins_1995"\n')
+    with pytest.raises(ScenarioError, match="rock.friction_angle"):
+        load_log_scenario(tmp_path / "twice.toml")
