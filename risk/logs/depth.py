@@ -40,7 +40,8 @@ __all__ = ["DepthResult", "assess_depth", "ar1_normals", "LOG_STREAM", "ROWS"]
 #: Key of the transform-error stream (numpy SeedSequence entropy [seed, key, chunk]); kept
 #: apart from :data:`risk.uncertainty.STREAMS` keys so that no other stream changes.
 LOG_STREAM: Final = 16
-assert LOG_STREAM not in STREAMS.values()  # noqa: S101 - a module invariant
+if LOG_STREAM in STREAMS.values():  # pragma: no cover - a module invariant
+    raise RuntimeError("risk.logs.depth.LOG_STREAM collides with a key of uncertainty.STREAMS")
 CHUNK: Final = 4096  # samples per chunk, as in risk.assessment
 ROWS: Final = 32_768  # (depth x sample) rows per evaluate call
 
@@ -53,7 +54,8 @@ class DepthResult:
     dc : mechanism -> (d, n, k) well-level critical drawdown [MPa], float32, +inf = never
     sand : (d, n, k) earliest sand-production mechanism per sample, or None
     ucs : (d, n) sampled UCS [MPa], float32; ucs_transform : (d,) the transform's median [MPa]
-    profile : per-depth medians of the stresses [MPa] (sv, shmin, shmax, pp)
+    profile : per-depth medians of the stresses [MPa] (sv, shmin, shmax, pp) over the first
+        chunk of samples
     warnings : calibration-range and data warnings
     """
 
@@ -108,6 +110,28 @@ def _stress_field(ls: LogScenario, name: str, cols: Mapping[str, Array], tvd: Ar
     if sc.stress_given[name] == "absolute":
         return np.broadcast_to(cols[name][None, :], (tvd.size, cols[name].size))
     return np.asarray(tvd[:, None] * cols[f"{name}_gradient"][None, :])
+
+
+def _stresses(ls: LogScenario, cols: Mapping[str, Array], tvd: Array,
+              sv_log: Array | None) -> dict[str, Array]:
+    """Sv, Shmin, SHmax and Pp [MPa] of a block of depths (b, n)."""
+    m = next(iter(cols.values())).size
+    pp = _stress_field(ls, "pp", cols, tvd)
+    sv = (np.broadcast_to(sv_log[:, None], (tvd.size, m)) if sv_log is not None
+          else _stress_field(ls, "sv", cols, tvd))
+    if ls.horizontal == "ratio":  # effective-stress ratios (Zoback 2007, sec. 1.2)
+        shmin = ls.k_min * (sv - pp) + pp
+        shmax = ls.k_max * (sv - pp) + pp
+    elif ls.horizontal == "poroelastic":
+        shmin, shmax = poroelastic_horizontal(
+            sv=sv, pore_pressure=pp, poisson_ratio=cols["poisson_ratio"][None, :],
+            biot=cols["biot"][None, :],
+            young_modulus=cols.get("young_modulus", np.zeros(m))[None, :],
+            strain_min=ls.strain_min, strain_max=ls.strain_max)
+    else:
+        shmin = _stress_field(ls, "shmin", cols, tvd)
+        shmax = _stress_field(ls, "shmax", cols, tvd)
+    return {"sv": sv, "shmin": shmin, "shmax": shmax, "pp": pp}
 
 
 def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | None = None,
@@ -184,40 +208,27 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
         first = (np.log(cols["ucs"]) / s_ucs if ls.ucs_cov > 0 else np.zeros(m))
         eps = ar1_normals(first=first, depth=depth, length=ls.correlation_length,
                           rng=np.random.default_rng([seed_, LOG_STREAM, chunk_no]))
-        ucs = (t_ucs[:, None] * np.exp(s_ucs * eps)) if ls.ucs_cov > 0 else (
-            np.broadcast_to(t_ucs[:, None] * cols["ucs"][None, :], (nd, m)))
-        ucs_all[:, done:done + m] = ucs
-        pp = _stress_field(ls, "pp", cols, tvd)
         pp_datum = (cols["pp"] if sc.stress_given["pp"] == "absolute"
                     else cols["pp_gradient"] * datum)
-        sv = (np.broadcast_to(sv_log[:, None], (nd, m)) if sv_log is not None
-              else _stress_field(ls, "sv", cols, tvd))
-        if ls.horizontal == "ratio":  # effective-stress ratios (Zoback 2007, sec. 1.2)
-            shmin = ls.k_min * (sv - pp) + pp
-            shmax = ls.k_max * (sv - pp) + pp
-        elif ls.horizontal == "poroelastic":
-            e_mod = cols.get("young_modulus", np.zeros(m))[None, :]
-            shmin, shmax = poroelastic_horizontal(
-                sv=sv, pore_pressure=pp, poisson_ratio=cols["poisson_ratio"][None, :],
-                biot=cols["biot"][None, :], young_modulus=e_mod, strain_min=ls.strain_min,
-                strain_max=ls.strain_max)
-        else:
-            shmin = _stress_field(ls, "shmin", cols, tvd)
-            shmax = _stress_field(ls, "shmax", cols, tvd)
-        if done == 0:
-            for key, arr in (("sv", sv), ("shmin", shmin), ("shmax", shmax), ("pp", pp)):
-                prof_acc[key] = np.median(arr, axis=1)
         for d0 in range(0, nd, block):
             d1 = min(nd, d0 + block)
             nb = d1 - d0
+            ucs = (t_ucs[d0:d1, None] * np.exp(s_ucs * eps[d0:d1])) if ls.ucs_cov > 0 else (
+                np.broadcast_to(t_ucs[d0:d1, None] * cols["ucs"][None, :], (nb, m)))
+            ucs_all[d0:d1, done:done + m] = ucs
+            fields = _stresses(ls, cols, tvd[d0:d1],
+                               None if sv_log is None else sv_log[d0:d1])
+            if done == 0:
+                for key, arr in fields.items():
+                    prof_acc.setdefault(key, np.empty(nd))[d0:d1] = np.median(arr, axis=1)
             flat = {k: np.tile(v, nb) for k, v in cols.items()}
-            flat["ucs"] = np.ascontiguousarray(ucs[d0:d1]).ravel()
+            flat["ucs"] = np.ascontiguousarray(ucs).ravel()
             if t_fric is not None:
                 flat["friction_angle"] = (t_fric[d0:d1, None] + cols["friction_angle"][None, :]
                                           ).ravel()
-            for key, arr in (("sv", sv), ("shmin", shmin), ("shmax", shmax), ("pp", pp)):
-                flat[key] = np.ascontiguousarray(arr[d0:d1]).ravel()
-            shift = (pp[d0:d1] - pp_datum[None, :]).ravel()
+            for key, arr in fields.items():
+                flat[key] = np.ascontiguousarray(arr).ravel()
+            shift = (fields["pp"] - pp_datum[None, :]).ravel()
             p_r = stages[None, :] + shift[:, None]
             out = evaluate(flat, sc_abs, reservoir_pressure=p_r)
             for key, res in out.items():
