@@ -261,3 +261,60 @@ def test_friction_transform_over_depth(tmp_path: Path) -> None:
                                          + 'friction_transform = "weingarten_perkins_1995"\n')
     with pytest.raises(ScenarioError, match="rock.friction_angle"):
         load_log_scenario(tmp_path / "twice.toml")
+
+
+SI = """
+title = "Ravenmoor SI test well (fictional)"
+units = "si"
+[well]
+depth = 2393
+inclination = 0
+azimuth = 0
+completion = "openhole"
+hole_diameter = 216
+[stress]
+sv_gradient = 22.6
+shmax_gradient = 19.0
+shmin_gradient = 16.3
+shmax_azimuth = 40
+pp_gradient = 10.0
+[rock]
+friction_angle = 32
+tensile_strength = 1
+poisson_ratio = 0.25
+biot = 0.9
+twc_ratio = 1.4
+[production]
+reservoir_pressure = [23.9]
+max_drawdown = 14
+accepted_risk = 0.1
+[analysis]
+samples = 64
+seed = 2
+[logs]
+file = "si.las"
+top = 2390
+base = 2392
+ucs_transform = "chang_2006_porosity"
+ucs_cov = 0.3
+correlation_length = 1
+planned_drawdown = 3
+zone_thickness = 0.5
+"""
+
+
+def test_si_units_through_the_summary(tmp_path: Path) -> None:
+    # SI in, SI out: metres, kg/m3, v/v; Chang et al. (2006) porosity transform 277 exp(-10 phi)
+    head = LAS_HEAD.replace("DEPT.FT", "DEPT.M").replace(" DT  .US/FT  : SONIC\n",
+                                                           " PHIT.V/V : POR\n")
+    rows = "".join(f"{2390.0 + 0.25 * i} 0.25\n" for i in range(9))
+    (tmp_path / "si.las").write_text(head + rows)
+    (tmp_path / "si.toml").write_text(SI)
+    from risk.logs.summary import summarize_depth
+
+    s = summarize_depth(assess_depth(load_log_scenario(tmp_path / "si.toml")))
+    assert s["units"] == {"pressure": "MPa", "length": "m"}
+    assert s["table"]["depth [m]"][0] == 2390.0
+    assert s["table"]["ucs transform [MPa]"][0] == pytest.approx(277.0 * math.exp(-2.5),
+                                                                 abs=0.01)
+    assert s["plan"]["probability"] <= 0.1
