@@ -13,14 +13,14 @@ directions (the first tunnel to fail).
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Final
 
 import numpy as np
 from numpy.typing import NDArray
 from scipy.optimize import elementwise
 
-from risk.mechanics import cavity, compaction, sanding
+from risk.mechanics import cavity, compaction, root, sanding, tip
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
 from risk.mechanics.yield_onset import critical_wall_pressure
@@ -55,6 +55,11 @@ class MechanismResult:
     name: str
     by_direction: Array
     theta: Array
+    #: the parts the governing result is the worst of, same shape as by_direction: for a
+    #: perforated well's effective-strength onset "far_field" (the tunnel in the far-field
+    #: stress) and "root" (in the wellbore's field at its root and along its first wellbore
+    #: radii, risk.mechanics.root); empty when there is one part only
+    parts: Mapping[str, Array] = field(default_factory=dict)
 
     @property
     def well(self) -> Array:
@@ -123,7 +128,8 @@ def _frames(scenario: Scenario) -> Array:
 
 
 def evaluate(cols: Mapping[str, Array], scenario: Scenario,
-             only: set[str] | None = None) -> dict[str, MechanismResult]:
+             only: set[str] | None = None, *, parts: bool = False
+             ) -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
     Parameters
@@ -134,6 +140,9 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     only : set of mechanism keys, optional
         Evaluate only these (yield onset is always computed when asked for or when ``only`` is
         None).
+    parts : bool
+        Also return the parts a result is the worst of (MechanismResult.parts), computed
+        when they govern anyway: the tunnel-root check of a perforated well.
 
     Returns
     -------
@@ -180,10 +189,11 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
                else np.asarray(cols["twc_ratio"]) * np.asarray(cols["ucs"]))
         factor = np.asarray(cols.get("twc_factor", np.full(n, DEFAULT_TWC_FACTOR)))
         u = per_sample(sanding.effective_strength(twc=twc, factor=factor))
+        es_parts: dict[str, Array] = {}
         if scenario.effective_strength_cavity == "tip":
-            mean_total = (local.sxx + local.syy + local.szz) / 3.0
-            pw = sanding.tip_onset_wall_pressure(sigma=mean_total, strength=u,
-                                                 reservoir_pressure=p_r,
+            # the full spherical-cavity concentration (Goodier 1933), maximised over the tip
+            eq = tip.equivalent_mean_stress(tensor, poisson_ratio=nu[:, None])[:, None, :]
+            pw = sanding.tip_onset_wall_pressure(sigma=eq, strength=u, reservoir_pressure=p_r,
                                                  poro_coefficient=per_sample(big_a))
         else:
             s1, s3 = st.in_plane_principal(local)
@@ -197,8 +207,18 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
             th_es = np.mod(0.5 * (np.arctan2(4.0 * local.sxy, 2.0 * (local.sxx - local.syy))
                                   + np.pi), np.pi)
             th_es = np.where(np.isinf(dc_es), np.nan, np.broadcast_to(th_es, dc_es.shape))
+        root_governs = scenario.tunnel_stress == "root-and-far-field"
+        if (scenario.effective_strength_cavity == "tunnel"
+                and scenario.well.completion == "perforated" and (parts or root_governs)):
+            dc_root, th_root = _root_onset(tensor, nu, u, p_r, per_sample(big_a), scenario)
+            if parts:
+                es_parts = {"far_field": dc_es, "root": dc_root}
+            if root_governs:
+                worse = dc_root < dc_es
+                th_es = np.where(worse, th_root, th_es)
+                dc_es = np.where(worse, dc_root, dc_es)
         out["effective_strength_onset"] = MechanismResult("effective_strength_onset", dc_es,
-                                                          th_es)
+                                                          th_es, es_parts)
     if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
         kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a)
         p_wc = cavity.collapse_wall_pressure(
@@ -207,6 +227,39 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
                                                  np.full(dc_tc.shape, np.nan))
     return out
+
+
+def _root_onset(tensor: Array, nu: Array, u: Array, p_r: Array, big_a: Array,
+                scenario: Scenario) -> tuple[Array, Array]:
+    """Effective-strength onset of each tunnel in the wellbore's field, the worst over the
+    root and the first wellbore radii (risk.mechanics.root): critical drawdown [MPa] and wall
+    angle [rad], (n, n_directions, n_stages)."""
+    w = scenario.well
+    well_frame = st.cavity_frame(w.inclination, w.azimuth)
+    shots = np.asarray(w.shot_angles)
+    # G = F W^T B^T per shot: cylindrical components of the wellbore -> tunnel frame
+    rot = _frames(scenario) @ well_frame.T @ np.swapaxes(root.cylindrical_basis(shots), -1, -2)
+    rot = rot[None, :, None]  # (1, m, 1, 3, 3)
+    local_w = root.well_local(tensor, well_frame)  # (n, k)
+    local_w = st.LocalStress(*(c[:, None, :] for c in local_w))  # (n, 1, k)
+    zero = st.LocalStress(*(np.zeros((1, 1, 1)) for _ in range(6)))
+    th_shot = shots[None, :, None]
+    nu3 = nu[:, None, None]
+    best = np.full(np.broadcast(local_w.sxx, th_shot).shape, np.inf)
+    theta = np.full(best.shape, np.nan)
+    for ratio in root.ROOT_RADII:
+        f0 = root.wellbore_field(local_w, theta=th_shot, radius_ratio=ratio, wall_pressure=0.0,
+                                 poisson_ratio=nu3)
+        f1 = root.wellbore_field(zero, theta=th_shot, radius_ratio=ratio, wall_pressure=1.0,
+                                 poisson_ratio=0.0)
+        pw, th = root.onset_wall_pressure(root.tunnel_local(f0, rot), root.tunnel_local(f1, rot),
+                                          strength=u, reservoir_pressure=p_r,
+                                          poro_coefficient=big_a)
+        dc = sanding.classify_wall_pressure(pw, p_r)
+        worse = dc < best
+        theta = np.where(worse, th, theta)
+        best = np.where(worse, dc, best)
+    return best, theta
 
 
 def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,

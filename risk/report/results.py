@@ -17,6 +17,7 @@ import numpy as np
 from risk import decision
 from risk.assessment import MECHANISMS, Assessment
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
+from risk.report.extensions import extensions
 from risk.result import GRID_POINTS, PoreCollapse, Result, StageResult
 from risk.result import summarize as summarize_result
 from risk.scenario import INPUT_SPECS
@@ -439,4 +440,5 @@ def summarize(run: Assessment | Result) -> dict[str, Any]:
         "sensitivity_by_stage": sens_stage,
         "tornado": tornado,
         "provenance": dict(a.provenance),
+        **extensions(a),
     }

@@ -45,6 +45,7 @@ PAIR_TAIL: Final = 1e-13
 #: A stage more than this fraction above the initial pore pressure gets a warning [-].
 STAGE_ABOVE_PP: Final = 0.01
 COMPLETIONS: Final = ("perforated", "openhole")
+TUNNEL_STRESS: Final = ("far-field", "root-and-far-field")
 STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
 
 
@@ -114,6 +115,11 @@ class Scenario:
     warnings: tuple[str, ...] = ()
     options: tuple[CompletionOption, ...] = ()
     phasings: tuple[float, ...] = DEFAULT_PHASINGS
+    #: which stress governs a perforation tunnel's effective-strength onset: "far-field" (the
+    #: default, the stress the TWC factor is calibrated with) or "root-and-far-field" (the
+    #: worse of the far field and the wellbore's field at the tunnel root and along its first
+    #: wellbore radii). The root result is computed and reported either way.
+    tunnel_stress: str = "far-field"
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property

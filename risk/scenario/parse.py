@@ -27,6 +27,7 @@ from risk.scenario.model import (
     MAX_STAGES,
     MAX_TITLE_CHARS,
     STRESS_NAMES,
+    TUNNEL_STRESS,
     CompletionOption,
     Scenario,
     Well,
@@ -209,6 +210,14 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         c.add("analysis.effective_strength_cavity", cavity,
               '"tunnel" (cylindrical tunnel or open-hole wall) or "tip" (spherical perforation '
               "tip)")
+    tunnel_stress = an.get("tunnel_stress", TUNNEL_STRESS[0])
+    if not isinstance(tunnel_stress, str) or tunnel_stress not in TUNNEL_STRESS:
+        c.add("analysis.tunnel_stress", tunnel_stress,
+              '"far-field" (a perforation tunnel\'s sanding onset governed by the far-field '
+              'stress, the default) or "root-and-far-field" (the worse of the far field and '
+              'the wellbore\'s stress field at the tunnel root)'
+              + (did_you_mean(tunnel_stress, list(TUNNEL_STRESS))
+                 if isinstance(tunnel_stress, str) else ""))
     if criterion == "hoek-brown" and "hb_mi" not in inputs and "hb_mi" not in sections["rock"]:
         c.add("rock.hb_mi", None, "the Hoek-Brown m_i of the intact rock (needed by "
               'criterion = "hoek-brown")', found_text="nothing (the key is missing)")
@@ -277,7 +286,7 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         warnings=_input_warnings(sections, inputs, stress_given, depth * conv["length"],
                                  stages, max_dd * conv["pressure"], str(criterion), units)
         + _option_warnings(w, well, options),
-        options=options, phasings=phasings,
+        options=options, phasings=phasings, tunnel_stress=str(tunnel_stress),
     )
     _cavity_checks(scenario)
     if corr:

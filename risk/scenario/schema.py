@@ -105,7 +105,8 @@ _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
     "rock": tuple(s.name for s in INPUTS if s.section == "rock"),
     "production": ("reservoir_pressure", "max_drawdown", "accepted_risk", "operating_points",
                    "drainage_radius"),
-    "analysis": ("criterion", "samples", "seed", "sampling", "effective_strength_cavity"),
+    "analysis": ("criterion", "samples", "seed", "sampling", "effective_strength_cavity",
+                 "tunnel_stress"),
     "correlation": ("pairs",),
 }
 
