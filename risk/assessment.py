@@ -293,6 +293,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     far_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     p0_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
+    mean_far_all: Array | None = None  # mean-stress far field when the cap governs
+    wall_dd_all: Array = np.empty((n, n_stage) if with_compaction else (0, 0), dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
     options = scenario.options
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
@@ -333,6 +335,12 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             far_all[rows] = comp.far_field
             wall_all[rows] = comp.wall
             p0_all[rows] = comp.initial
+            if comp.far_field_mean_stress is not None:
+                if mean_far_all is None:
+                    mean_far_all = np.empty(n, dtype=dtype)
+                mean_far_all[rows] = comp.far_field_mean_stress
+            if comp.wall_at_max_drawdown is not None:
+                wall_dd_all[rows] = comp.wall_at_max_drawdown
         if h:
             for k in names:
                 col_head[k][done:done + h] = cols[k][:h]
@@ -342,7 +350,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             progress(done, n)
     mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key],
                                        parts_all.get(key, {})) for key in dc_all}
-    comp_all = CompactionResult(far_all, wall_all, p0_all) if with_compaction else None
+    comp_all = (CompactionResult(far_all, wall_all, p0_all, mean_far_all, wall_dd_all)
+                if with_compaction else None)
     reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
     if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
         if step is not None:
