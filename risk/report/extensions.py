@@ -57,10 +57,56 @@ def tunnel_root(a: Assessment) -> dict[str, Any] | None:
             "stages": stages}
 
 
+CAP_ASSUMPTION = (
+    "pore collapse on a modified Cam clay cap through the pore-collapse pressure P* (Roscoe & "
+    "Burland 1968): shear brings compaction on at a lower mean effective stress than P* "
+    "(DiMaggio & Sandler 1971; Wong, David & Zhu 1997); the mean-stress criterion is its q = 0 "
+    "case. The cap's slope M is {m}; the cap shape is an assumption unless triaxial "
+    "compaction tests fix it. The wall is checked at zero drawdown and at the largest "
+    "drawdown assessed (max_drawdown, or the reservoir pressure when lower).")
+WATER_ASSUMPTION = (
+    "water weakening: the strength of the near-well rock falls linearly with the rise in "
+    "water saturation S from the as-tested value (S = 0) to the fully saturated one (S = 1, "
+    "the wet_strength_ratio r): factor 1 - (1 - r) S on UCS, the effective strength k TWC and "
+    "the critical plastic strain; friction angle, tensile strength, elastic constants, P* and "
+    "the flow (one phase) are unchanged.")
+
+
+def compaction_cap(a: Assessment) -> dict[str, Any] | None:
+    """The pore-collapse surface and its shape parameter."""
+    if a.compaction is None:
+        return None
+    sc = a.scenario
+    if sc.compaction_cap == "mean-stress":
+        return {"surface": "mean-stress", "assumption": "pore collapse when the mean effective "
+                "stress reaches P* (no cap in the p'-q plane; shear-enhanced compaction "
+                "ignored, which is not conservative)"}
+    m = ("the scenario's rock.cap_m" if "cap_m" in sc.inputs else
+         "6 sin(phi)/(3 - sin(phi)) from the friction angle (triaxial compression, Wood 1990)")
+    return {"surface": "modified-cam-clay", "m": m, "assumption": CAP_ASSUMPTION.format(m=m)}
+
+
+def water_weakening(a: Assessment) -> dict[str, Any] | None:
+    """Water saturation and the strength factor per stage (percentiles over the samples)."""
+    sc = a.scenario
+    if not sc.water_saturation:
+        return None
+    ratio = np.asarray(a.inputs["wet_strength_ratio"], dtype=float)
+    stages = []
+    for p_r, s_w in zip(a.stages, sc.water_saturation, strict=True):
+        f = 1.0 - (1.0 - ratio) * s_w
+        stages.append({"reservoir_pressure": round(sc.to_display(p_r, "pressure"), 6),
+                       "water_saturation": s_w,
+                       "strength_factor": {k: round(float(np.quantile(f, q)), 6) for k, q in
+                                           (("p10", 0.1), ("p50", 0.5), ("p90", 0.9))}})
+    return {"assumption": WATER_ASSUMPTION, "stages": stages}
+
+
 def extensions(a: Assessment) -> dict[str, Any]:
     """The issue-15 blocks present in this run (empty when none applies)."""
     out: dict[str, Any] = {}
-    root = tunnel_root(a)
-    if root is not None:
-        out["tunnel_root"] = root
+    for key, block in (("tunnel_root", tunnel_root(a)), ("compaction_cap", compaction_cap(a)),
+                       ("water_weakening", water_weakening(a))):
+        if block is not None:
+            out[key] = block
     return out
