@@ -136,7 +136,8 @@ def water_factor(cols: Mapping[str, Array], scenario: Scenario) -> Array | None:
     the effective strength k TWC and the critical plastic strain; friction angle, tensile
     strength and the elastic constants stay. The reduction of strength with water saturation
     of weak sandstones is documented by Hawkins & McConnell (1992), Q. J. Eng. Geol. 25,
-    115-130 (from memory); the linear interpolation in S is this tool's stated assumption.
+    115-130 (from memory); the linear interpolation in S is this tool's stated assumption
+    (docs/derivations.md, sec. 12).
     """
     sw = scenario.water_saturation
     if not sw or not any(v > 0.0 for v in sw):
