@@ -36,7 +36,7 @@ def _load(text: str) -> Scenario:
     return parse_scenario(tomllib.loads(text))
 
 
-def _cols(sc: Scenario, n: int = 256) -> dict[str, np.ndarray]:
+def _cols(sc: Scenario, n: int = 128) -> dict[str, np.ndarray]:
     names = list(sc.inputs)
     joint = build_joint(names, [sc.inputs[k] for k in names], [list(p) for p in sc.correlation])
     u = UnitSampler("sobol", joint.d, np.random.default_rng(1)).draw(n)
@@ -194,3 +194,28 @@ def test_hoek_brown_gsi_below_100_warns_at_perforation_scale():
     assert any(w.startswith("rock.gsi:") and "perforation" in w for w in sc.warnings)
     intact = _load(hb.replace("gsi = 75", "gsi = 100"))
     assert not any(w.startswith("rock.gsi:") for w in intact.warnings)
+
+
+def test_results_json_blocks_and_their_absence():
+    # the new blocks appear exactly when their mechanics apply, each with its assumption
+    from risk.assessment import assess
+    from risk.report.results import summarize
+
+    doc = DOC.replace("biot = 0.9\n", "biot = 0.9\npore_collapse_pressure = 5000\n")
+    res = summarize(assess(_load(doc), samples=128, seed=2))
+    root = res["tunnel_root"]
+    assert root["governing"] == "far-field" and "Kirsch" in root["assumption"]
+    assert len(root["stages"]) == 3
+    for s in root["stages"]:
+        assert set(s) >= {"far_field", "root", "root_worse_fraction"}
+    assert res["compaction_cap"]["surface"] == "modified-cam-clay"
+    pc = res["mechanisms"]["pore_collapse"]
+    assert pc["surface"] == "modified-cam-clay"
+    assert "mean_stress_critical_reservoir_pressure" in pc
+    assert all("wall_probability_at_max_drawdown" in s for s in pc["stages"])
+    assert "water_weakening" not in res
+    hole = doc.replace('completion = "perforated"\nshot_angles = [0, 60, 120, 180, 240, 300]\n'
+                       "tunnel_diameter = 0.5\n",
+                       'completion = "openhole"\nhole_diameter = 8.5\n')
+    res_hole = summarize(assess(_load(hole), samples=128, seed=2))
+    assert "tunnel_root" not in res_hole
