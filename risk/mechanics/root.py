@@ -140,11 +140,20 @@ def root_stress(tensor_ned: ArrayLike, *, well_frame: ArrayLike, shot_angle: Arr
     return np.asarray(np.swapaxes(w, -1, -2) @ field_tensor(f, shot_angle) @ w)
 
 
-def tunnel_local(field: WellboreField, rotation: ArrayLike) -> LocalStress:
+def tunnel_local(field: WellboreField, rotation: ArrayLike, *, in_plane_only: bool = False
+                 ) -> LocalStress:
     """Components of a wellbore-field stress in tunnel frames [MPa]: ``rotation`` (..., 3, 3)
     is F W^T B^T, the tunnel frame F (rows in NED), the well frame W and the cylindrical
-    basis B at the shot angle (so that the tunnel-frame tensor is G C G^T)."""
+    basis B at the shot angle (so that the tunnel-frame tensor is G C G^T).
+
+    ``in_plane_only``: compute only sxx, syy, sxy (the others are nan), all that the
+    effective-strength onset needs, at about half the cost."""
     g = np.asarray(rotation, dtype=float)
+    if in_plane_only:
+        g2 = g[..., :2, :]
+        t = g2 @ _cylindrical_matrix(field) @ np.swapaxes(g2, -1, -2)
+        nan = np.full(t.shape[:-2], np.nan)
+        return LocalStress(t[..., 0, 0], t[..., 1, 1], nan, t[..., 0, 1], nan, nan)
     t = g @ _cylindrical_matrix(field) @ np.swapaxes(g, -1, -2)
     return LocalStress(t[..., 0, 0], t[..., 1, 1], t[..., 2, 2],
                        t[..., 0, 1], t[..., 0, 2], t[..., 1, 2])
