@@ -285,6 +285,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     dtype = np.float64 if n <= LARGE_RUN else np.float32
     head = min(n, HEAD_ROWS)
     dc_all: dict[str, NDArray[Any]] = {}
+    parts_all: dict[str, dict[str, NDArray[Any]]] = {}  # mechanism -> part -> (n, dirs, stages)
     theta_head: dict[str, Array] = {}
     col_head: dict[str, Array] = {k: np.empty(head) for k in names}
     xi_head = np.empty((head, joint.d))
@@ -292,6 +293,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     far_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     wall_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
     p0_all: Array = np.empty(n if with_compaction else 0, dtype=dtype)
+    mean_far_all: Array | None = None  # mean-stress far field when the cap governs
+    wall_dd_all: Array = np.empty((n, n_stage) if with_compaction else (0, 0), dtype=dtype)
     profile: tuple[Mapping[str, Any], ...] = ()
     options = scenario.options
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
@@ -302,7 +305,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         u = sampler.draw(m)
         x, xi = to_inputs(joint, u)
         cols = input_columns(joint, x)
-        out = evaluate(cols, scenario)
+        out = evaluate(cols, scenario, parts=True)
         if done == 0 and "tunnel_collapse" in out:
             m0 = min(PROFILE_SAMPLES, u.shape[0])
             profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
@@ -314,6 +317,11 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                 dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
                 theta_head[key] = np.empty((head, n_dir, n_stage))
             dc_all[key][rows] = res.by_direction
+            for part, arr in res.parts.items():
+                store = parts_all.setdefault(key, {})
+                if part not in store:
+                    store[part] = np.empty((n, n_dir, n_stage), dtype=dtype)
+                store[part][rows] = arr
             if h:
                 theta_head[key][done:done + h] = res.theta[:h]
         for i, osc in enumerate(option_scenarios):
@@ -327,6 +335,12 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
             far_all[rows] = comp.far_field
             wall_all[rows] = comp.wall
             p0_all[rows] = comp.initial
+            if comp.far_field_mean_stress is not None:
+                if mean_far_all is None:
+                    mean_far_all = np.empty(n, dtype=dtype)
+                mean_far_all[rows] = comp.far_field_mean_stress
+            if comp.wall_at_max_drawdown is not None:
+                wall_dd_all[rows] = comp.wall_at_max_drawdown
         if h:
             for k in names:
                 col_head[k][done:done + h] = cols[k][:h]
@@ -334,8 +348,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         done += m
         if progress is not None:
             progress(done, n)
-    mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key]) for key in dc_all}
-    comp_all = CompactionResult(far_all, wall_all, p0_all) if with_compaction else None
+    mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key],
+                                       parts_all.get(key, {})) for key in dc_all}
+    comp_all = (CompactionResult(far_all, wall_all, p0_all, mean_far_all, wall_dd_all)
+                if with_compaction else None)
     reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
     if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
         if step is not None:

@@ -13,14 +13,14 @@ directions (the first tunnel to fail).
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Final
 
 import numpy as np
 from numpy.typing import NDArray
 from scipy.optimize import elementwise
 
-from risk.mechanics import cavity, compaction, sanding
+from risk.mechanics import cap, cavity, compaction, root, sanding, tip
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import StrengthParameters, hoek_brown_rock_mass
 from risk.mechanics.yield_onset import critical_wall_pressure
@@ -30,7 +30,8 @@ Array = NDArray[np.float64]
 
 __all__ = ["MECHANISMS", "DEFAULT_TWC_FACTOR", "MechanismResult", "CompactionResult",
            "physical_inputs", "depletion_paths", "evaluate", "evaluate_compaction",
-           "collapse_profile", "cavity_radius", "PROFILE_SAMPLES", "PROFILE_POINTS"]
+           "collapse_profile", "cavity_radius", "PROFILE_SAMPLES", "PROFILE_POINTS",
+           "water_factor"]
 
 #: Mechanisms by result key, with the human name used in tables and the memo.
 MECHANISMS: Final[dict[str, str]] = {
@@ -55,6 +56,11 @@ class MechanismResult:
     name: str
     by_direction: Array
     theta: Array
+    #: the parts the governing result is the worst of, same shape as by_direction: for a
+    #: perforated well's effective-strength onset "far_field" (the tunnel in the far-field
+    #: stress) and "root" (in the wellbore's field at its root and along its first wellbore
+    #: radii, risk.mechanics.root); empty when there is one part only
+    parts: Mapping[str, Array] = field(default_factory=dict)
 
     @property
     def well(self) -> Array:
@@ -74,6 +80,12 @@ class CompactionResult:
     far_field: Array
     wall: Array
     initial: Array | None = None  # initial pore pressure p0 of each sample [MPa]
+    #: far-field critical reservoir pressure of the mean-stress criterion (the q = 0 case)
+    #: when the cap governs [MPa], (n,); None when the mean-stress criterion governs
+    far_field_mean_stress: Array | None = None
+    #: largest compaction excess E [MPa] at any cavity wall at each stage with the drawdown
+    #: min(max_drawdown, p_r) (E >= 0: compacting), (n, n_stages)
+    wall_at_max_drawdown: Array | None = None
 
 def physical_inputs(cols: Mapping[str, Array], scenario: Scenario) -> dict[str, Array]:
     """Absolute stresses and pore pressure [MPa] from the sampled columns (gradients x depth)."""
@@ -114,6 +126,26 @@ def depleted_far_field(*, sv: Array, shmax: Array, shmin: Array, pore_pressure: 
                                           shmax_azimuth=shmax_azimuth))
 
 
+def water_factor(cols: Mapping[str, Array], scenario: Scenario) -> Array | None:
+    """Strength factor of water weakening per sample and stage [1], (n, 1, n_stages), or None
+    when the scenario has no water (every result then as without the rule).
+
+    Linear between the as-tested rock (rise in water saturation S = 0, factor 1) and the
+    fully water-saturated one (S = 1, factor r = ``wet_strength_ratio``, the measured
+    saturated-to-as-tested strength ratio): f = 1 - (1 - r) S. It multiplies UCS (sigma_ci),
+    the effective strength k TWC and the critical plastic strain; friction angle, tensile
+    strength and the elastic constants stay. The reduction of strength with water saturation
+    of weak sandstones is documented by Hawkins & McConnell (1992), Q. J. Eng. Geol. 25,
+    115-130 (from memory); the linear interpolation in S is this tool's stated assumption
+    (docs/derivations.md, sec. 12).
+    """
+    sw = scenario.water_saturation
+    if not sw or not any(v > 0.0 for v in sw):
+        return None
+    r = np.asarray(cols["wet_strength_ratio"], dtype=float)[:, None, None]
+    return np.asarray(1.0 - (1.0 - r) * np.asarray(sw, dtype=float)[None, None, :])
+
+
 def _frames(scenario: Scenario) -> Array:
     w = scenario.well
     if w.completion == "openhole":
@@ -123,7 +155,7 @@ def _frames(scenario: Scenario) -> Array:
 
 
 def evaluate(cols: Mapping[str, Array], scenario: Scenario,
-             only: set[str] | None = None, *,
+             only: set[str] | None = None, *, parts: bool = False,
              reservoir_pressure: Array | None = None) -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
@@ -135,6 +167,9 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     only : set of mechanism keys, optional
         Evaluate only these (yield onset is always computed when asked for or when ``only`` is
         None).
+    parts : bool
+        Also return the parts a result is the worst of (MechanismResult.parts), computed
+        when they govern anyway: the tunnel-root check of a perforated well.
     reservoir_pressure : ndarray (n, n_stages), optional
         Stage pressures of each sample [MPa] in place of ``scenario.reservoir_pressure``
         (samples at different depths of a log interval, :mod:`risk.logs.depth`).
@@ -167,7 +202,12 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         mb, s, a = hoek_brown_rock_mass(mi=cols["hb_mi"], gsi=gsi)
     else:
         mb, s, a = np.full(n, np.nan), np.ones(n), np.full(n, 0.5)
-    strength = StrengthParameters(per_sample(cols["ucs"]), per_sample(cols["friction_angle"]),
+    weak = water_factor(cols, scenario)  # (n, 1, k) or None
+
+    def weakened(a: Array) -> Array:
+        return per_sample(a) if weak is None else per_sample(a) * weak
+
+    strength = StrengthParameters(weakened(cols["ucs"]), per_sample(cols["friction_angle"]),
                                   per_sample(mb), per_sample(s), per_sample(a))
     p_r = stages[:, None, :]  # (1, 1, k)
     out: dict[str, MechanismResult] = {}
@@ -184,11 +224,12 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         twc = (np.asarray(cols["twc"]) if "twc" in cols
                else np.asarray(cols["twc_ratio"]) * np.asarray(cols["ucs"]))
         factor = np.asarray(cols.get("twc_factor", np.full(n, DEFAULT_TWC_FACTOR)))
-        u = per_sample(sanding.effective_strength(twc=twc, factor=factor))
+        u = weakened(sanding.effective_strength(twc=twc, factor=factor))
+        es_parts: dict[str, Array] = {}
         if scenario.effective_strength_cavity == "tip":
-            mean_total = (local.sxx + local.syy + local.szz) / 3.0
-            pw = sanding.tip_onset_wall_pressure(sigma=mean_total, strength=u,
-                                                 reservoir_pressure=p_r,
+            # the full spherical-cavity concentration (Goodier 1933), maximised over the tip
+            eq = tip.equivalent_mean_stress(tensor, poisson_ratio=nu[:, None])[:, None, :]
+            pw = sanding.tip_onset_wall_pressure(sigma=eq, strength=u, reservoir_pressure=p_r,
                                                  poro_coefficient=per_sample(big_a))
         else:
             s1, s3 = st.in_plane_principal(local)
@@ -202,16 +243,60 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
             th_es = np.mod(0.5 * (np.arctan2(4.0 * local.sxy, 2.0 * (local.sxx - local.syy))
                                   + np.pi), np.pi)
             th_es = np.where(np.isinf(dc_es), np.nan, np.broadcast_to(th_es, dc_es.shape))
+        root_governs = scenario.tunnel_stress == "root-and-far-field"
+        if (scenario.effective_strength_cavity == "tunnel"
+                and scenario.well.completion == "perforated" and (parts or root_governs)):
+            dc_root, th_root = _root_onset(tensor, nu, u, p_r, per_sample(big_a), scenario)
+            if parts:
+                es_parts = {"far_field": dc_es, "root": dc_root}
+            if root_governs:
+                worse = dc_root < dc_es
+                th_es = np.where(worse, th_root, th_es)
+                dc_es = np.where(worse, dc_root, dc_es)
         out["effective_strength_onset"] = MechanismResult("effective_strength_onset", dc_es,
-                                                          th_es)
+                                                          th_es, es_parts)
     if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
-        kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a)
+        kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a, weak)
         p_wc = cavity.collapse_wall_pressure(
-            critical_plastic_strain=per_sample(cols["critical_plastic_strain"]), p_r=p_r, **kw)
+            critical_plastic_strain=weakened(cols["critical_plastic_strain"]), p_r=p_r, **kw)
         dc_tc = p_r - p_wc
         out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
                                                  np.full(dc_tc.shape, np.nan))
     return out
+
+
+def _root_onset(tensor: Array, nu: Array, u: Array, p_r: Array, big_a: Array,
+                scenario: Scenario) -> tuple[Array, Array]:
+    """Effective-strength onset of each tunnel in the wellbore's field, the worst over the
+    root and the first wellbore radii (risk.mechanics.root): critical drawdown [MPa] and wall
+    angle [rad], (n, n_directions, n_stages)."""
+    w = scenario.well
+    well_frame = st.cavity_frame(w.inclination, w.azimuth)
+    shots = np.asarray(w.shot_angles)
+    # G = F W^T B^T per shot: cylindrical components of the wellbore -> tunnel frame
+    rot = _frames(scenario) @ well_frame.T @ np.swapaxes(root.cylindrical_basis(shots), -1, -2)
+    rot = rot[None, :, None]  # (1, m, 1, 3, 3)
+    local_w = root.well_local(tensor, well_frame)  # (n, k)
+    local_w = st.LocalStress(*(c[:, None, :] for c in local_w))  # (n, 1, k)
+    zero = st.LocalStress(*(np.zeros((1, 1, 1)) for _ in range(6)))
+    th_shot = shots[None, :, None]
+    nu3 = nu[:, None, None]
+    best = np.full(np.broadcast(local_w.sxx, th_shot).shape, np.inf)
+    theta = np.full(best.shape, np.nan)
+    for ratio in root.ROOT_RADII:
+        f0 = root.wellbore_field(local_w, theta=th_shot, radius_ratio=ratio, wall_pressure=0.0,
+                                 poisson_ratio=nu3)
+        f1 = root.wellbore_field(zero, theta=th_shot, radius_ratio=ratio, wall_pressure=1.0,
+                                 poisson_ratio=0.0)
+        pw, th = root.onset_wall_pressure(root.tunnel_local(f0, rot, in_plane_only=True),
+                                          root.tunnel_local(f1, rot, in_plane_only=True),
+                                          strength=u, reservoir_pressure=p_r,
+                                          poro_coefficient=big_a)
+        dc = sanding.classify_wall_pressure(pw, p_r)
+        worse = dc < best
+        theta = np.where(worse, th, theta)
+        best = np.where(worse, dc, best)
+    return best, theta
 
 
 def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
@@ -247,7 +332,9 @@ def collapse_profile(cols: Mapping[str, Array], scenario: Scenario,
         def col(v: Array) -> Array:
             return np.asarray(v, dtype=float).reshape(n, 1)
 
-        kw = _cavity_inputs(cols, scenario, loc, col, mb, s, a)
+        weak_k = water_factor(cols, scenario)
+        kw = _cavity_inputs(cols, scenario, loc, col, mb, s, a,
+                            None if weak_k is None else weak_k[:, 0, k:k + 1])
         crit = kw.pop("criterion")
         fn = cavity.hoek_brown_cavity if crit == "hoek-brown" else cavity.mohr_coulomb_cavity
         grid = np.linspace(0.0, min(scenario.max_drawdown, p_r), PROFILE_POINTS)
@@ -276,8 +363,8 @@ def cavity_radius(scenario: Scenario) -> float:
 
 
 def _cavity_inputs(cols: Mapping[str, Array], scenario: Scenario, local: st.LocalStress,
-                   per_sample: Callable[[Array], Array], mb: Array, s: Array, a: Array
-                   ) -> dict[str, Any]:
+                   per_sample: Callable[[Array], Array], mb: Array, s: Array, a: Array,
+                   weak: Array | None = None) -> dict[str, Any]:
     """Keyword arguments of the cavity model (docs/derivations.md, sec. 5): equivalent hydrostatic
     in-plane stress (3 s1 - s3)/2 of each direction and stage, radii, elastic constants."""
     s1, s3 = st.in_plane_principal(local)
@@ -291,38 +378,82 @@ def _cavity_inputs(cols: Mapping[str, Array], scenario: Scenario, local: st.Loca
         "poisson_ratio": per_sample(cols["poisson_ratio"]),
         "biot": per_sample(cols["biot"]),
     }
+    ucs = per_sample(cols["ucs"]) if weak is None else per_sample(cols["ucs"]) * weak
     if scenario.criterion == "hoek-brown":
-        kw.update(criterion="hoek-brown", sigma_ci=per_sample(cols["ucs"]), mb=per_sample(mb),
+        kw.update(criterion="hoek-brown", sigma_ci=ucs, mb=per_sample(mb),
                   s=per_sample(s), a=per_sample(a))
     else:
-        kw.update(criterion="mohr-coulomb", ucs=per_sample(cols["ucs"]),
+        kw.update(criterion="mohr-coulomb", ucs=ucs,
                   friction_angle=per_sample(cols["friction_angle"]))
     return kw
 
 
+WALL_ANGLES: Final = 48  # wall angles [0, pi) on which the cap is checked at a cavity wall
+
+
+def _cap_slope(cols: Mapping[str, Array]) -> Array:
+    """Critical-state slope M [1]: ``cap_m``, or 6 sin(phi)/(3 - sin(phi)) (risk.mechanics.cap)."""
+    if "cap_m" in cols:
+        return np.asarray(cols["cap_m"], dtype=float)
+    return cap.critical_state_slope(np.asarray(cols["friction_angle"], dtype=float))
+
+
 def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> CompactionResult:
-    """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa]."""
+    """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa], on the
+    compaction cap (``compaction_cap = "modified-cam-clay"``, the default) or the mean
+    effective stress (``"mean-stress"``), and the wall state at the largest drawdown."""
     phys = physical_inputs(cols, scenario)
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
+    big_a = st.poroelastic_coefficient(biot=np.asarray(cols["biot"], dtype=float),
+                                       poisson_ratio=nu)
     path, path_big = depletion_paths(cols)
     p_star = np.asarray(cols["pore_collapse_pressure"], dtype=float)
-    far = compaction.far_field_collapse_pressure(
+    with_cap = scenario.compaction_cap == "modified-cam-clay"
+    m = _cap_slope(cols)
+    mean_far = compaction.far_field_collapse_pressure(
         sv=phys["sv"], shmax0=phys["shmax"], shmin0=phys["shmin"], p0=phys["pp"], path=path,
         path_shmax=path_big, collapse_pressure=p_star)
-    far = np.where(far < 0.0, -np.inf, far)
+    mean_far = np.where(mean_far < 0.0, -np.inf, mean_far)
+    if with_cap:
+        far = cap.far_field_cap_pressure(
+            sv=phys["sv"], shmax0=phys["shmax"], shmin0=phys["shmin"], p0=phys["pp"],
+            path=path, path_shmax=path_big, collapse_pressure=p_star, m=m)
+    else:
+        far = mean_far
     frames = _frames(scenario)
+    theta = (np.arange(WALL_ANGLES) + 0.5) * np.pi / WALL_ANGLES
 
-    def wall_excess(p_r: Array, *args: Array) -> Array:
-        sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar = args
+    def wall_state(p_r: Array, drawdown: Array | float, *args: Array) -> Array:
+        """Largest compaction excess at any wall [MPa] at reservoir pressure p_r [MPa]."""
+        sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar, m_, a_ = args
         t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
                                path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
         loc = st.local_stress(t[..., None, :, :], frames)
-        m = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
-                                           poisson_ratio=nu_[..., None])
-        return np.asarray(m.max(axis=-1) - pstar)
+        loc = st.LocalStress(*(c[..., None] for c in loc))  # (..., frames, 1)
+        p_w = (p_r - drawdown)[..., None, None]
+        w = st.wall_stresses(loc, theta=theta, wall_pressure=p_w,
+                             reservoir_pressure=p_r[..., None, None],
+                             poro_coefficient=a_[..., None, None],
+                             poisson_ratio=nu_[..., None, None])
+        e = cap.wall_cap_excess(hoop=w.hoop - p_w, axial=w.axial - p_w,
+                                shear=w.shear_hoop_axial, collapse_pressure=pstar[..., None, None],
+                                m=m_[..., None, None] if with_cap else np.inf)
+        return np.asarray(e.max(axis=(-1, -2)))
+
+    def wall_excess(p_r: Array, *args: Array) -> Array:
+        if with_cap:
+            return wall_state(p_r, 0.0, *args)
+        sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar, _, _ = args
+        t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
+                               path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
+        loc = st.local_stress(t[..., None, :, :], frames)
+        mean = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
+                                              poisson_ratio=nu_[..., None])
+        return np.asarray(mean.max(axis=-1) - pstar)
 
     args = (phys["sv"], phys["shmax"], phys["shmin"], phys["pp"], path, path_big,
-            np.asarray(cols["shmax_azimuth"], dtype=float), nu, p_star)
+            np.asarray(cols["shmax_azimuth"], dtype=float), nu, p_star,
+            np.broadcast_to(m, nu.shape), big_a)
     hi = phys["pp"]
     f_hi = wall_excess(hi, *args)
     f_lo = wall_excess(np.zeros_like(hi), *args)
@@ -334,7 +465,12 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
             wall_excess, (np.zeros(idx.size), hi[idx]), args=tuple(a[idx] for a in args),
             tolerances={"xatol": 1e-12, "xrtol": 4 * np.finfo(float).eps})
         wall[idx] = res.x
-    return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"])
+    at_max = np.column_stack([
+        wall_state(np.full_like(hi, p_r), min(scenario.max_drawdown, p_r), *args)
+        for p_r in scenario.reservoir_pressure])
+    return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"],
+                            far_field_mean_stress=mean_far if with_cap else None,
+                            wall_at_max_drawdown=at_max)
 
 
 PROFILE_SAMPLES: Final = 256

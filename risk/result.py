@@ -106,6 +106,10 @@ class PoreCollapse:
     initially_compacted_fraction: float | None
     wall_initially_compacted_fraction: float | None
     uncollapsed_at_last_stage_fraction: float | None
+    #: the yield surface used ("modified-cam-clay" or "mean-stress")
+    surface: str = "mean-stress"
+    #: far-field p10/p50/p90 of the mean-stress criterion when the cap governs [MPa]
+    mean_stress: Mapping[str, float] | None = None
 
 
 class _Table:
@@ -379,20 +383,31 @@ def _pore_collapse(a: Assessment) -> PoreCollapse | None:
     neg = np.negative(comp.far_field, dtype=np.float64)
     neg.sort()
     q_far = -probability.percentiles(neg, [0.1, 0.5, 0.9])
-    stages = []
-    for p_r in a.stages:
+    stages: list[Mapping[str, float]] = []
+    at_max = comp.wall_at_max_drawdown
+    for k, p_r in enumerate(a.stages):
         p, lo, hi = probability.failure_curve(neg, [-p_r])
         if a.deterministic:
             lo, hi = p, p
-        stages.append(MappingProxyType({
-            "reservoir_pressure": p_r, "probability": float(p[0]), "low": float(lo[0]),
-            "high": float(hi[0]), "wall_probability": float(np.mean(comp.wall >= p_r))}))
+        row = {"reservoir_pressure": p_r, "probability": float(p[0]), "low": float(lo[0]),
+               "high": float(hi[0]), "wall_probability": float(np.mean(comp.wall >= p_r))}
+        if at_max is not None:
+            row["wall_probability_at_max_drawdown"] = float(np.mean(at_max[:, k] >= 0.0))
+        stages.append(MappingProxyType(row))
     del neg
     neg = np.negative(comp.wall, dtype=np.float64)
     neg.sort()
     q_wall = -probability.percentiles(neg, [0.1, 0.5, 0.9])
     del neg
     initial = comp.initial
+    mean_q = None
+    if comp.far_field_mean_stress is not None:
+        neg = np.negative(comp.far_field_mean_stress, dtype=np.float64)
+        neg.sort()
+        mean_q = MappingProxyType(dict(zip(
+            ("p10", "p50", "p90"), map(float, -probability.percentiles(neg, [0.1, 0.5, 0.9])),
+            strict=True)))
+        del neg
     return PoreCollapse(
         far_field=MappingProxyType(dict(zip(("p10", "p50", "p90"), map(float, q_far),
                                             strict=True))),
@@ -405,7 +420,8 @@ def _pore_collapse(a: Assessment) -> PoreCollapse | None:
         wall_initially_compacted_fraction=(None if initial is None else
                                            float(np.mean(comp.wall >= initial))),
         uncollapsed_at_last_stage_fraction=(float(np.mean(comp.far_field < min(a.stages)))
-                                            if a.stages else None))
+                                            if a.stages else None),
+        surface=a.scenario.compaction_cap, mean_stress=mean_q)
 
 
 def _first_yield(a: Assessment) -> tuple[float, ...] | None:

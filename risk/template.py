@@ -47,6 +47,8 @@ young_modulus = 1.5e6           # [psi]
 dilation_angle = 5              # [deg]
 critical_plastic_strain = { dist = "uniform", low = 0.01, high = 0.03 }   # wall plastic hoop strain
 pore_collapse_pressure = 5000   # [psi] mean effective stress at pore collapse
+# cap_m = 1.2                   # compaction-cap slope M (default 6 sin(phi)/(3 - sin(phi)))
+# wet_strength_ratio = { dist = "uniform", low = 0.5, high = 0.9 }   # with water_saturation
 # hb_mi = 17                    # Hoek-Brown m_i (criterion = "hoek-brown"); gsi = 100
 
 [production]
@@ -56,6 +58,7 @@ reservoir_pressure = [3600, 3100, 2600]   # [psi] depletion stages
 max_drawdown = 2000             # [psi] largest drawdown to assess
 accepted_risk = 0.10            # accepted probability of failure [-]
 drainage_radius = 1.0           # [ft] radius of the steady-inflow boundary around a tunnel
+# water_saturation = [0, 0, 0.4]  # rise in water saturation per stage (water weakening)
 # operating_points = [[3600, 3000], { reservoir_pressure = 3100, drawdown = 500 }]   # [psi]
 #                                 # planned [reservoir pressure, flowing wall pressure], or
 #                                 # { reservoir_pressure, drawdown } (or wall_pressure)
@@ -66,6 +69,8 @@ criterion = "mohr-coulomb"      # drucker-prager-{circumscribed,middle,inscribed
 samples = 8192
 seed = 1
 sampling = "sobol"              # or "lhs", "random"
+# tunnel_stress = "far-field"   # or "root-and-far-field" (the tunnel root can govern)
+# compaction_cap = "modified-cam-clay"   # or "mean-stress"
 
 [correlation]
 pairs = [["ucs", "friction_angle", 0.4]]   # Spearman rank correlations

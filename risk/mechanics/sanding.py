@@ -76,8 +76,10 @@ def tip_onset_wall_pressure(
 ) -> Array:
     """Wall pressure [MPa] at which the effective hoop stress at a spherical tip reaches U.
 
-    ``sigma`` is the equivalent hydrostatic far-field total stress [MPa] (the caller uses the
-    mean total stress). Derived from Lame's sphere with the inflow term (docs/derivations.md,
+    ``sigma`` is the equivalent hydrostatic far-field total stress [MPa]: the caller uses
+    :func:`risk.mechanics.tip.equivalent_mean_stress`, the full spherical-cavity concentration
+    of a triaxial field (Goodier 1933; the mean stress for a hydrostatic one). Derived from
+    Lame's sphere with the inflow term (docs/derivations.md,
     sec. 4).
     """
     a = np.asarray(poro_coefficient, dtype=float)

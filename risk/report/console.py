@@ -227,13 +227,48 @@ def _print_pore_collapse(con: Console, mech: dict[str, Any], u: str) -> None:
         safe(f" (pore_collapse): critical reservoir pressure far field p10/p50/p90 "
              f"{_fmt(far['p10'])} / {_fmt(far['p50'])} / {_fmt(far['p90'])} {u}; at the wall "
              f"{_fmt(wall['p10'])} / {_fmt(wall['p50'])} / {_fmt(wall['p90'])} {u}")))
+    mean = mech.get("mean_stress_critical_reservoir_pressure")
+    if mean:
+        con.print(safe(f"  surface {mech.get('surface')}; mean-stress criterion (q = 0) far field "
+                       f"p10/p50/p90 {_fmt(mean['p10'])} / {_fmt(mean['p50'])} / "
+                       f"{_fmt(mean['p90'])} {u}"))
+    with_dd = all("wall_probability_at_max_drawdown" in s for s in mech["stages"])
     t = Table(show_edge=False)
-    for col in (f"p_r [{u}]", "P(collapse) far field", "95% band", "P(collapse) at the wall"):
+    for col in (f"p_r [{u}]", "P(collapse) far field", "95% band", "P(collapse) at the wall",
+                *(("at the wall, largest drawdown",) if with_dd else ())):
         t.add_column(col, justify="right")
     for s in mech["stages"]:
         t.add_row(_fmt(s["reservoir_pressure"]), f"{s['probability']:.1%}",
-                  f"{s['low']:.1%} - {s['high']:.1%}", f"{s['wall_probability']:.1%}")
+                  f"{s['low']:.1%} - {s['high']:.1%}", f"{s['wall_probability']:.1%}",
+                  *((f"{s['wall_probability_at_max_drawdown']:.1%}",) if with_dd else ()))
     con.print(t)
+
+
+def _print_extensions(con: Console, summary: dict[str, Any], u: str) -> None:
+    """Tunnel root beside the far field, and water weakening by stage."""
+    root = summary.get("tunnel_root")
+    if root:
+        gov = ("the worse governs" if root["governing"] == "root-and-far-field"
+               else "the far field governs")
+        t = Table(title=safe(f"Effective-strength onset, tunnel root vs far field ({gov}) - "
+                             f"drawdown limit in {u}"), show_edge=False, title_justify="left")
+        for col in ("p_r", "far field", "root", "root worse"):
+            t.add_column(col, justify="right")
+        for s in root["stages"]:
+            t.add_row(_fmt(s["reservoir_pressure"]), _fmt(s["far_field"]["drawdown_limit"]),
+                      _fmt(s["root"]["drawdown_limit"]), f"{s['root_worse_fraction']:.0%}")
+        con.print(t)
+    water = summary.get("water_weakening")
+    if water:
+        t = Table(title="Water weakening: saturation rise and strength factor (P10/P50/P90)",
+                  show_edge=False, title_justify="left")
+        for col in (f"p_r [{u}]", "saturation rise", "strength factor"):
+            t.add_column(col, justify="right")
+        for s in water["stages"]:
+            f = s["strength_factor"]
+            t.add_row(_fmt(s["reservoir_pressure"]), f"{s['water_saturation']:.2f}",
+                      f"{f['p10']:.2f} / {f['p50']:.2f} / {f['p90']:.2f}")
+        con.print(t)
 
 
 def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | None = None
@@ -282,6 +317,7 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
                     ("warning", "yellow"),
                     safe(f" (p_r {_fmt(s['reservoir_pressure'])} {u}): "
                          f"{s['convergence_warning']}")))
+    _print_extensions(con, summary, u)
     for key, rows in summary.get("sensitivity", {}).items():
         ranked = [r for r in rows if r.get("rank_value") is not None]
         if not ranked:

@@ -17,6 +17,7 @@ import numpy as np
 from risk import decision
 from risk.assessment import MECHANISMS, Assessment
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL, angle_reference
+from risk.report.extensions import extensions
 from risk.result import GRID_POINTS, PoreCollapse, Result, StageResult
 from risk.result import summarize as summarize_result
 from risk.scenario import INPUT_SPECS
@@ -117,7 +118,15 @@ def _pore_collapse(a: Assessment, pc: PoreCollapse) -> dict[str, Any]:
     out["stages"] = [{"reservoir_pressure": _pressure(a, s["reservoir_pressure"]),
                       "probability": rounded(s["probability"]), "low": rounded(s["low"]),
                       "high": rounded(s["high"]),
-                      "wall_probability": rounded(s["wall_probability"])} for s in pc.stages]
+                      "wall_probability": rounded(s["wall_probability"]),
+                      **({"wall_probability_at_max_drawdown":
+                          rounded(s["wall_probability_at_max_drawdown"])}
+                         if "wall_probability_at_max_drawdown" in s else {})}
+                     for s in pc.stages]
+    out["surface"] = pc.surface
+    if pc.mean_stress is not None:
+        out["mean_stress_critical_reservoir_pressure"] = {
+            k: _pressure(a, v) for k, v in pc.mean_stress.items()}
     out["never_fraction"] = rounded(pc.never_fraction)
     if pc.initially_compacted_fraction is not None:
         # a critical pressure at or above p0: compacted before any depletion (the wall value
@@ -439,4 +448,5 @@ def summarize(run: Assessment | Result) -> dict[str, Any]:
         "sensitivity_by_stage": sens_stage,
         "tornado": tornado,
         "provenance": dict(a.provenance),
+        **extensions(a),
     }

@@ -227,6 +227,33 @@ def _input_warnings(sections: Mapping[str, Mapping[str, Any]], inputs: Mapping[s
                 out.append(f"{INPUT_SPECS[name].section}.{name}: given, but only tunnel "
                            "collapse uses it and tunnel collapse is off (no "
                            "rock.critical_plastic_strain); it is ignored")
+    gsi = inputs.get("gsi")
+    if criterion == "hoek-brown" and gsi is not None and (
+            not gsi.is_fixed or float(gsi.value) < 100.0):
+        out.append("rock.gsi: below 100 at perforation and open-hole scale: the geological "
+                   "strength index describes a jointed rock mass (Hoek, Carranza-Torres & "
+                   "Corkum 2002), not the intact rock around a tunnel of a few centimetres; "
+                   "GSI < 100 lowers the strength by a rock-mass reduction that such a small "
+                   "cavity need not see (use 100 unless jointing at that scale is known)")
+    analysis = sections.get("analysis", {})
+    if "wet_strength_ratio" in inputs and "water_saturation" not in sections.get("production",
+                                                                                  {}):
+        out.append("rock.wet_strength_ratio: given, but no production.water_saturation says "
+                   "when water arrives; it is ignored")
+    if "pore_collapse_pressure" not in inputs:
+        if "cap_m" in inputs:
+            out.append("rock.cap_m: given, but only pore collapse uses it and pore collapse "
+                       "is off (no rock.pore_collapse_pressure); it is ignored")
+        if "compaction_cap" in analysis:
+            out.append("analysis.compaction_cap: given, but pore collapse is off (no "
+                       "rock.pore_collapse_pressure); it is ignored")
+    elif "cap_m" in inputs and analysis.get("compaction_cap") == "mean-stress":
+        out.append('rock.cap_m: given, but analysis.compaction_cap = "mean-stress" does not '
+                   "use it; it is ignored")
+    if "tunnel_stress" in analysis and "twc" not in inputs and "twc_ratio" not in inputs:
+        out.append("analysis.tunnel_stress: given, but only the effective-strength onset uses "
+                   "it and that mechanism is off (no rock.twc or rock.twc_ratio); it is "
+                   "ignored")
     if ("effective_strength_cavity" in sections.get("analysis", {})
             and "twc" not in inputs and "twc_ratio" not in inputs):
         out.append("analysis.effective_strength_cavity: given, but only the effective-strength "

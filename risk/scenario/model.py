@@ -45,6 +45,8 @@ PAIR_TAIL: Final = 1e-13
 #: A stage more than this fraction above the initial pore pressure gets a warning [-].
 STAGE_ABOVE_PP: Final = 0.01
 COMPLETIONS: Final = ("perforated", "openhole")
+TUNNEL_STRESS: Final = ("far-field", "root-and-far-field")
+COMPACTION_CAPS: Final = ("modified-cam-clay", "mean-stress")
 STRESS_NAMES: Final = ("sv", "shmax", "shmin", "pp")
 
 
@@ -114,6 +116,17 @@ class Scenario:
     warnings: tuple[str, ...] = ()
     options: tuple[CompletionOption, ...] = ()
     phasings: tuple[float, ...] = DEFAULT_PHASINGS
+    #: which stress governs a perforation tunnel's effective-strength onset: "far-field" (the
+    #: default, the stress the TWC factor is calibrated with) or "root-and-far-field" (the
+    #: worse of the far field and the wellbore's field at the tunnel root and along its first
+    #: wellbore radii). The root result is computed and reported either way.
+    tunnel_stress: str = "far-field"
+    #: the pore-collapse yield surface: "modified-cam-clay" (the default: a cap in p'-q through
+    #: P*, risk.mechanics.cap) or "mean-stress" (the mean effective stress reaches P*)
+    compaction_cap: str = "modified-cam-clay"
+    #: rise in water saturation of the near-well rock over the one its strength was measured
+    #: at, per stage [1] (``[production] water_saturation``); empty: no water weakening
+    water_saturation: tuple[float, ...] = ()
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property

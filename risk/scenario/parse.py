@@ -22,11 +22,13 @@ from risk.scenario.checks import (
 )
 from risk.scenario.collector import _check_keys, _Collector
 from risk.scenario.model import (
+    COMPACTION_CAPS,
     MAX_OPERATING_POINTS,
     MAX_SAMPLES,
     MAX_STAGES,
     MAX_TITLE_CHARS,
     STRESS_NAMES,
+    TUNNEL_STRESS,
     CompletionOption,
     Scenario,
     Well,
@@ -160,6 +162,27 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
                      check=lambda v: 0 < v < 1,
                      expected="an accepted probability of failure in (0, 1), e.g. 0.1")
 
+    water: tuple[float, ...] = ()
+    raw_water = pr.get("water_saturation")
+    if raw_water is not None:
+        water_expected = ("the rise in water saturation of the near-well rock over the one its "
+                          "strength was measured at, a fraction in [0, 1], one per depletion "
+                          f"stage ({len(stages)} stage{'s' if len(stages) != 1 else ''}), e.g. "
+                          "[0, 0, 0.4]")
+        if (not isinstance(raw_water, list) or not raw_water
+                or not all(is_plain_number(v) and 0.0 <= v <= 1.0 for v in raw_water)):
+            c.add("production.water_saturation", raw_water, water_expected)
+        elif stages and len(raw_water) != len(stages):
+            c.add("production.water_saturation", raw_water, water_expected,
+                  found_text=f"{len(raw_water)} value{'s' if len(raw_water) != 1 else ''}")
+        else:
+            water = tuple(float(v) for v in raw_water)
+        if "wet_strength_ratio" not in sections["rock"]:
+            c.add("rock.wet_strength_ratio", None,
+                  "the strength of the water-saturated rock over the as-tested one, in (0, 1] "
+                  "(needed by production.water_saturation; give a distribution when it is "
+                  "uncertain)", found_text="nothing (the key is missing)")
+
     ops: list[tuple[float, float]] = []
     raw_ops = pr.get("operating_points", [])
     if not isinstance(raw_ops, list):
@@ -209,6 +232,21 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         c.add("analysis.effective_strength_cavity", cavity,
               '"tunnel" (cylindrical tunnel or open-hole wall) or "tip" (spherical perforation '
               "tip)")
+    tunnel_stress = an.get("tunnel_stress", TUNNEL_STRESS[0])
+    if not isinstance(tunnel_stress, str) or tunnel_stress not in TUNNEL_STRESS:
+        c.add("analysis.tunnel_stress", tunnel_stress,
+              '"far-field" (a perforation tunnel\'s sanding onset governed by the far-field '
+              'stress, the default) or "root-and-far-field" (the worse of the far field and '
+              'the wellbore\'s stress field at the tunnel root)'
+              + (did_you_mean(tunnel_stress, list(TUNNEL_STRESS))
+                 if isinstance(tunnel_stress, str) else ""))
+    compaction_cap = an.get("compaction_cap", COMPACTION_CAPS[0])
+    if not isinstance(compaction_cap, str) or compaction_cap not in COMPACTION_CAPS:
+        c.add("analysis.compaction_cap", compaction_cap,
+              '"modified-cam-clay" (pore collapse on a cap in the p\'-q plane through P*, '
+              'the default) or "mean-stress" (the mean effective stress reaches P*)'
+              + (did_you_mean(compaction_cap, list(COMPACTION_CAPS))
+                 if isinstance(compaction_cap, str) else ""))
     if criterion == "hoek-brown" and "hb_mi" not in inputs and "hb_mi" not in sections["rock"]:
         c.add("rock.hb_mi", None, "the Hoek-Brown m_i of the intact rock (needed by "
               'criterion = "hoek-brown")', found_text="nothing (the key is missing)")
@@ -277,7 +315,8 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
         warnings=_input_warnings(sections, inputs, stress_given, depth * conv["length"],
                                  stages, max_dd * conv["pressure"], str(criterion), units)
         + _option_warnings(w, well, options),
-        options=options, phasings=phasings,
+        options=options, phasings=phasings, tunnel_stress=str(tunnel_stress),
+        compaction_cap=str(compaction_cap), water_saturation=water,
     )
     _cavity_checks(scenario)
     if corr:

@@ -88,6 +88,13 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
               "wall plastic hoop strain at tunnel collapse (calibrated)"),
     InputSpec("pore_collapse_pressure", "rock", "pressure", _POS, False,
               "pore-collapse pressure P* (mean effective stress, hydrostatic test)"),
+    InputSpec("wet_strength_ratio", "rock", "dimensionless",
+              Bounds(0.0, 1.0, lower_inclusive=False, text="in (0, 1]"), False,
+              "strength of the water-saturated rock over the as-tested one (water weakening "
+              "of UCS, TWC and critical plastic strain)"),
+    InputSpec("cap_m", "rock", "dimensionless", _POS, False,
+              "critical-state slope M of the compaction cap (modified Cam clay; default "
+              "6 sin(phi)/(3 - sin(phi)) from the friction angle)"),
     InputSpec("drainage_radius", "production", "length", _POS, False,
               "radius of the constant-pressure boundary of the steady inflow"),
 )
@@ -104,8 +111,9 @@ _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
     "stress": tuple(s.name for s in INPUTS if s.section == "stress"),
     "rock": tuple(s.name for s in INPUTS if s.section == "rock"),
     "production": ("reservoir_pressure", "max_drawdown", "accepted_risk", "operating_points",
-                   "drainage_radius"),
-    "analysis": ("criterion", "samples", "seed", "sampling", "effective_strength_cavity"),
+                   "drainage_radius", "water_saturation"),
+    "analysis": ("criterion", "samples", "seed", "sampling", "effective_strength_cavity",
+                 "tunnel_stress", "compaction_cap"),
     "correlation": ("pairs",),
 }
 

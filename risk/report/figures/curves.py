@@ -291,6 +291,10 @@ def plot_pore_collapse(results: Mapping[str, Any], *, ax: Axes | None = None) ->
         if all(s.get("wall_probability") is not None for s in st):
             ax.plot(x, _arr([s["wall_probability"] for s in st]), "s--", color=c, lw=1.2, ms=3.5,
                     mfc="white", label="probability at the wall")
+        if all(s.get("wall_probability_at_max_drawdown") is not None for s in st):
+            ax.plot(x, _arr([s["wall_probability_at_max_drawdown"] for s in st]), "^:",
+                    color=c, lw=1.0, ms=3.5, mfc="white",
+                    label="at the wall, largest drawdown")
         risk = _f(results.get("accepted_risk"))
         if math.isfinite(risk):
             ax.axhline(risk, color="0.15", ls="--", lw=0.9,
@@ -303,6 +307,10 @@ def plot_pore_collapse(results: Mapping[str, Any], *, ax: Axes | None = None) ->
                             textcoords="offset points", fontsize=7, color="0.25")
         ax.plot([], [], color="0.35", ls="-", lw=0.9,
                 label="critical reservoir pressure\n(P10, P50, P90)")
+        mean = (pc.get("mean_stress_critical_reservoir_pressure") or {}).get("p50")
+        if mean is not None:
+            ax.axvline(float(mean), color="0.6", ls="-.", lw=0.9,
+                       label="P50, mean-stress criterion")
         ax.set_ylim(*_P_LIMITS)
         ax.set_xlabel(f"reservoir pressure {PR} [{unit}]")
         ax.set_ylabel("probability of pore collapse [-]")

@@ -19,6 +19,7 @@ from risk.report.figures.curves import (
     plot_tunnel_collapse,
 )
 from risk.report.figures.directions import plot_shot_directions
+from risk.report.figures.extensions import plot_tunnel_root, plot_water_weakening
 from risk.report.figures.inputs import plot_input_correlation, plot_input_histograms
 from risk.report.figures.sensitivity import plot_sensitivity, plot_tornado
 
@@ -28,6 +29,8 @@ FIGURES: Final[dict[str, Callable[..., Any]]] = {
     "failure_probability": plot_failure_probability,
     "envelope": plot_envelope,
     "shot_directions": plot_shot_directions,
+    "tunnel_root": plot_tunnel_root,
+    "water_weakening": plot_water_weakening,
     "tunnel_collapse": plot_tunnel_collapse,
     "pore_collapse": plot_pore_collapse,
     "sensitivity": plot_sensitivity,

@@ -21,8 +21,10 @@ from risk.report.memo.sections import (
     _operating_points,
     _pore_section,
     _reproducibility,
+    _root_section,
     _scenario,
     _sensitivity,
+    _water_section,
 )
 from risk.report.memo.texts import ASSUMPTIONS, CAPTIONS, CAUTIONS, SECTIONS
 
@@ -30,7 +32,8 @@ TEMPLATES: Final = Path(__file__).resolve().parent.parent / "templates"
 
 #: Where each figure sits in the memo (numbering follows this order).
 _FIGURE_ORDER: Final = ("sand_free", "input_histograms", "input_correlation", "failure_probability",
-                        "envelope", "shot_directions", "tunnel_collapse", "pore_collapse",
+                        "envelope", "shot_directions", "tunnel_root", "water_weakening",
+                        "tunnel_collapse", "pore_collapse",
                         "sensitivity", "tornado")
 
 
@@ -73,8 +76,15 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
         assumptions.append("In this scenario these inputs rest at least partly on log "
                            "correlations, with the scatter stated above: "
                            + "; ".join(scenario["log_based"]) + ".")
+    for key in ("tunnel_root", "compaction_cap", "water_weakening"):
+        block = results.get(key)
+        if isinstance(block, Mapping) and block.get("assumption"):
+            text = str(block["assumption"])
+            assumptions.append("In this run, " + text)
     return {
         "angle_reference": _angle_reference(results),
+        "root": _root_section(results),
+        "water": _water_section(results),
         "title": str(results.get("title") or "Untitled scenario"),
         "unit": _punit(results),
         "sections": SECTIONS,

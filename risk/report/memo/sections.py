@@ -232,7 +232,9 @@ def _pore_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
         return None
     crit = []
     for label, field in (("far field", "critical_reservoir_pressure"),
-                         ("at the wall", "wall_critical_reservoir_pressure")):
+                         ("far field, mean-stress criterion (q = 0)",
+                          "mean_stress_critical_reservoir_pressure"),
+                         ("at the wall, zero drawdown", "wall_critical_reservoir_pressure")):
         q = pc.get(field)
         if q:
             crit.append({"where": label, **{k: _p(results, q.get(k), none="not reached")
@@ -240,11 +242,16 @@ def _pore_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
     stages = [{"p_r": _p(results, s.get("reservoir_pressure")),
                "prob": _prob(s.get("probability")),
                "band": f"{_prob(s.get('low'))} – {_prob(s.get('high'))}",
-               "wall": _prob(s.get("wall_probability"))}
+               "wall": _prob(s.get("wall_probability")),
+               "wall_dd": (_prob(s["wall_probability_at_max_drawdown"])
+                           if s.get("wall_probability_at_max_drawdown") is not None else None)}
               for s in pc.get("stages") or []]
     return {"name": str(pc.get("name", "Pore collapse")), "crit": crit, "stages": stages,
             "has_wall": any(s.get("wall_probability") is not None
                             for s in pc.get("stages") or []),
+            "has_wall_dd": any(s.get("wall_probability_at_max_drawdown") is not None
+                               for s in pc.get("stages") or []),
+            "surface": str(pc.get("surface", "mean-stress")),
             "never": _pct(pc.get("never_fraction")) if "never_fraction" in pc else None,
             "initial": (_pct(pc["initially_compacted_fraction"])
                         if pc.get("initially_compacted_fraction") else None),
@@ -383,3 +390,33 @@ def _reproducibility(results: Mapping[str, Any]) -> list[tuple[str, str]]:
         rows.append(("to reproduce", f"risk run {results['scenario_file']} --samples "
                                      f"{results.get('samples')} --seed {results.get('seed')}"))
     return rows
+
+
+def _root_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
+    """Perforation tunnels in the far field and at the root, per stage (sand-free-style limit
+    of the effective-strength onset at the accepted risk)."""
+    block = results.get("tunnel_root")
+    if not isinstance(block, Mapping):
+        return None
+    rows = []
+    for s in block.get("stages") or []:
+        rows.append({"p_r": _p(results, s.get("reservoir_pressure")),
+                     "far": _p(results, (s.get("far_field") or {}).get("drawdown_limit")),
+                     "root": _p(results, (s.get("root") or {}).get("drawdown_limit")),
+                     "worse": _pct(s.get("root_worse_fraction"))})
+    return {"rows": rows, "governing": str(block.get("governing", "far-field"))}
+
+
+def _water_section(results: Mapping[str, Any]) -> dict[str, Any] | None:
+    """Water saturation and the strength factor per stage."""
+    block = results.get("water_weakening")
+    if not isinstance(block, Mapping):
+        return None
+    rows = []
+    for s in block.get("stages") or []:
+        f = s.get("strength_factor") or {}
+        rows.append({"p_r": _p(results, s.get("reservoir_pressure")),
+                     "sw": f"{float(s.get('water_saturation', 0.0)):.2f}",
+                     "factor": " / ".join(f"{float(f[k]):.2f}" for k in ("p10", "p50", "p90")
+                                          if k in f)})
+    return {"rows": rows}

@@ -57,6 +57,15 @@ CAPTIONS: Final[dict[str, str]] = {
         "inputs the first-order index is the full one (with everything correlated with the "
         "input) and the total the independent one, so first can exceed total; where only "
         "given-data first-order indices exist, no total is drawn."),
+    "tunnel_root": (
+        "Effective-strength onset of the perforation tunnels: drawdown limit at the accepted risk "
+        "per depletion stage with the tunnel in the far-field stress and at its root in the "
+        "wellbore's generalized Kirsch field (the worst over the root and the first three "
+        "wellbore radii)."),
+    "water_weakening": (
+        "Water weakening: the rise in water saturation of the near-well rock per stage and the "
+        "resulting strength factor on UCS, k TWC and the critical plastic strain (P10-P90 band "
+        "and P50 over the samples)."),
     "tornado": (
         "Tornado chart: the critical drawdown (pore collapse: the critical reservoir pressure) "
         "when one input at a time is moved to its P10 or P90 value, the others held at their "
@@ -75,17 +84,24 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "depletion stress path).",
     "The steady radial Darcy inflow term is exact for an unbounded medium; a bounded hollow "
     "cylinder (a laboratory sample or a finite drainage radius) differs.",
-    "Perforation tunnels see the far-field stresses, not the stresses amplified by the "
-    "wellbore.",
+    "Perforation tunnels: the far-field stress governs the effective-strength onset unless "
+    "analysis.tunnel_stress = \"root-and-far-field\"; the tunnel root in the wellbore's "
+    "generalized Kirsch field (Kirsch 1898; Hiramatsu & Oka 1962; Fairhurst 1968) is computed "
+    "beside it by superposing the two elastic solutions, with casing and cement carrying no "
+    "load. The TWC factor k was calibrated with far-field stresses, and where the wellbore "
+    "wall itself yields the elastic root field overstates the stress, so the root result is "
+    "a conservative check, not a recalibrated prediction. Yield onset and tunnel collapse use "
+    "the far field only.",
     "The effective-strength factor is an empirical calibration: k \u2248 3.1 (Willson et al. "
     "2002); 3.8\u20134.6 in perforation-collapse tests (Yeow et al. 2004); field sanding onset "
     "at 0.5\u20131\u00d7 the predicted critical bottom-hole flowing pressure (Palmer et al. "
     "2003) \u2014 all as quoted in Bellarby (2009).",
     "Log correlations for UCS carry factor-of-two scatter outside the basin they were fitted "
     "in (McNally 1987; Chang, Zoback & Khaksar 2006).",
-    "Not modelled: transient and cyclic loading (start-ups, shut-ins), multiphase flow and "
-    "water breakthrough, rate-dependent erosion and sand transport, strain softening and large "
-    "strains, thermal effects.",
+    "Not modelled: transient and cyclic loading (start-ups, shut-ins), multiphase flow (water "
+    "breakthrough enters only as a strength reduction, when the scenario gives "
+    "production.water_saturation), rate-dependent erosion and sand transport, strain "
+    "softening and large strains, thermal effects.",
     "Yield onset at the wall is the earliest and most conservative signal: it marks the "
     "first permanent deformation, not sand production, which needs the tunnel to fail "
     "(tunnel collapse) or the calibrated effective-strength onset.",
@@ -99,10 +115,17 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "approximate; the share of such samples is in results.json (plane_strain_flag_fraction) "
     "and flagged in the results section when it is not zero.",
     "Effective-strength onset at a perforation tip (when chosen) treats the tip as a spherical "
-    "cavity in the mean far-field total stress.",
-    "Pore collapse (when computed): compaction starts when the mean effective stress reaches "
-    "the pore-collapse pressure P* of hydrostatic tests; the wall value is taken at zero "
-    "drawdown (flowing only raises it).",
+    "cavity in the triaxial far-field total stress, with the full elastic stress concentration "
+    "(Southwell & Gough 1926; Goodier 1933) maximised over the tip surface; the inflow term is "
+    "that of the cylinder. A sphere has no direction, so the tip result is the same for every "
+    "shot.",
+    "Pore collapse (when computed): compaction starts on a cap in the p\u2032\u2013q plane "
+    "through the pore-collapse pressure P* of hydrostatic tests (modified Cam clay, the "
+    "default; Roscoe & Burland 1968), or, with analysis.compaction_cap = \"mean-stress\", when "
+    "the mean effective stress reaches P*. The wall is checked at zero drawdown (critical "
+    "reservoir pressure) and at the largest drawdown assessed (probability per stage).",
+    "Hoek\u2013Brown (when chosen): GSI below 100 applies a rock-mass reduction to a cavity a "
+    "few centimetres across; a warning is given when the scenario does so.",
     "Sensitivity indices describe the critical drawdown capped at the reservoir pressure; "
     "outcomes stuck at zero drawdown or at the full reservoir pressure make the output "
     "non-smooth, in which case a Monte-Carlo estimator on the model (independent inputs) "
