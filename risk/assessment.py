@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from typing import Any, Final
 
 import numpy as np
+import scipy.linalg
 from numpy.typing import NDArray
 
 from risk import __version__, decision, probability
@@ -116,6 +117,9 @@ def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
 
 SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
 MC_FALLBACK_RUNS: Final = 512  # base sample of the Monte-Carlo fallback, n (d + 2) model runs
+#: model runs of the Monte-Carlo Shapley fallback for correlated inputs (replicates of d + 1
+#: runs each; about 1,300 replicates for 12 inputs: 95% bands about +-0.05 wide on the effects)
+SHAPLEY_FALLBACK_RUNS: Final = 16_384
 
 #: Inputs grouped for grouped indices (coupled blocks); only uncertain members count.
 GROUPS: Final[dict[str, tuple[str, ...]]] = {
@@ -195,23 +199,7 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
                                   groups=groups or None, n_bootstrap=100)
         res = dict(zip(cols_ok.tolist(), fitted, strict=True))
     bad = [c for c, r in res.items() if not r.loo_error <= sa.LOO_THRESHOLD]
-    if bad and correlated:
-        # Monte-Carlo pick-freeze indices would be those of the independent Cholesky
-        # variables, not of the inputs: use the given-data full first-order indices of the
-        # inputs themselves, on every stored sample of the run (no model runs).
-        n_g = xi.shape[0]
-        head_g = {k: MechanismResult(k, r.by_direction[:n_g], r.theta[:n_g])
-                  for k, r in mechanisms.items()}
-        comp_g = (CompactionResult(compaction_all.far_field[:n_g], compaction_all.wall[:n_g],
-                                   None if compaction_all.initial is None
-                                   else compaction_all.initial[:n_g])
-                  if compaction_all is not None else None)
-        _, y_g = _outputs(scenario, head_g, comp_g)
-        z_g = correlated_normals(joint, xi)
-        for c in bad:
-            res[c] = sa.given_data_first_order(z_g, y_g[:, c], names=names, rng=rng,
-                                               loo_error=res[c].loo_error)
-    elif bad:
+    if bad:
         need = {keys[c][0] for c in bad}
 
         def model_xi(xi_: Array) -> Array:
@@ -222,8 +210,20 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
             return yy[:, [k2.index(keys[c]) for c in bad]]
 
         with np.errstate(invalid="ignore", divide="ignore"):
-            mc = sa.mc_sobol(model_xi, joint.d, MC_FALLBACK_RUNS, rng, names=names,
-                             n_bootstrap=100)
+            if correlated:
+                # Shapley effects on the model (conditional redraws through the copula): the
+                # effects of the inputs themselves, not of the Cholesky variables, and not the
+                # association a given-data index would measure
+                def model_z(z_: Array) -> Array:
+                    return model_xi(scipy.linalg.solve_triangular(joint.chol, z_.T,
+                                                                  lower=True).T)
+
+                mc = sa.mc_shapley(model_z, corr=joint.normal_corr, names=names,
+                                   replicates=max(2, SHAPLEY_FALLBACK_RUNS // (joint.d + 1)),
+                                   rng=rng, groups=groups or None)
+            else:
+                mc = sa.mc_sobol(model_xi, joint.d, MC_FALLBACK_RUNS, rng, names=names,
+                                 n_bootstrap=100)
         for c, r in zip(bad, mc, strict=True):
             res[c] = dataclasses.replace(r, loo_error=res[c].loo_error)  # why it fell back
     sens = {keys[c]: r for c, r in sorted(res.items())}

@@ -572,7 +572,7 @@ def test_given_data_full_first_order_correlated_linear():
     exact = np.array([(1 + 2 * r) ** 2, (2 + r) ** 2]) / var
     half = (res.first_high - res.first_low) / 2
     assert np.all(np.abs(res.first - exact) < 4 * half / 1.96 + 1.5 / np.sqrt(n))
-    assert np.all(np.isnan(res.total)) and res.method == "given-data"
+    assert np.all(np.isnan(res.total)) and res.method == "association (given data)"
     # an input the output does not depend on gets about zero
     res2 = given_data_first_order(np.column_stack([z[:, 0], rng.standard_normal(n)]),
                                   z[:, 0], names=["a", "b"], rng=rng, n_bootstrap=0)

@@ -19,7 +19,13 @@ Methods
 - :func:`mc_sobol`: pick-freeze Monte Carlo on the model itself (Saltelli et al. 2010 first
   order, Jansen 1999 total), the fallback when the expansion's leave-one-out error is high
   (plateaus and kinks of the critical drawdown).
-- :func:`sensitivity`: picks one of the two by :data:`LOO_THRESHOLD`.
+- :func:`mc_shapley`: Shapley effects of correlated inputs on the model itself (random
+  orderings, conditional redraws through the copula), the fallback for correlated inputs.
+- :func:`given_data_first_order`: full first-order indices from a sample alone; they measure
+  association (an input merely correlated with an influential one scores high), so they are
+  never used to rank inputs (``SensitivityResult.ranking`` refuses them).
+- :func:`sensitivity`: picks the expansion or the Monte-Carlo fallback by
+  :data:`LOO_THRESHOLD`.
 - :func:`tornado`: one-at-a-time swings between P10 and P90 values.
 
 Layout (one module per job)
@@ -31,6 +37,7 @@ Layout (one module per job)
 - ``shapley``: correlated inputs: full first-order, independent total, Shapley effects
   (:data:`MAX_EXACT_SHAPLEY_INPUTS`).
 - ``montecarlo``: pick-freeze (:func:`mc_sobol`) and given-data estimators.
+- ``shapley_mc``: :func:`mc_shapley`.
 - ``tornado``: :func:`tornado`.
 - ``driver``: :func:`sobol_pce` and :func:`sensitivity`, which pick the method.
 
@@ -88,6 +95,7 @@ from risk.sensitivity.shapley import MAX_EXACT_SHAPLEY_INPUTS, correlated_indice
 from risk.sensitivity.shapley import _blocks_of as _blocks_of
 from risk.sensitivity.shapley import _Closure as _Closure
 from risk.sensitivity.shapley import _prefix_variances as _prefix_variances
+from risk.sensitivity.shapley_mc import mc_shapley
 from risk.sensitivity.tornado import tornado
 
 __all__ = [
@@ -103,6 +111,7 @@ __all__ = [
     "hermite_orthonormal",
     "independent_indices",
     "legendre_orthonormal",
+    "mc_shapley",
     "mc_sobol",
     "multi_indices",
     "sensitivity",

@@ -3,6 +3,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
@@ -16,6 +17,7 @@ from risk.sensitivity.montecarlo import mc_sobol
 from risk.sensitivity.pce import Family, _bootstrap_coefficients, _check_xy, design_matrix, fit_pce
 from risk.sensitivity.result import SensitivityResult, _frozen
 from risk.sensitivity.shapley import _blocks_of, _check_corr, correlated_indices
+from risk.sensitivity.shapley_mc import mc_shapley
 
 # ---------------------------------------------------------------------------------------------
 # Public PCE entry point
@@ -139,17 +141,18 @@ def sensitivity(
 
     Each output whose corrected leave-one-out error exceeds ``loo_threshold``
     (:data:`LOO_THRESHOLD`, see there for the bound it implies) is recomputed by
-    :func:`mc_sobol` with ``mc_n (d + 2)`` runs of ``model`` (which maps ``xi`` to all outputs);
-    without a model the expansion's result is kept and its ``loo_error`` says how far to trust
-    it. With correlated inputs the fallback's indices are those of the independent Cholesky
-    variables ``xi`` in the given order (no full/independent split, no Shapley effects).
+    :func:`mc_sobol` with ``mc_n (d + 2)`` runs of ``model`` (which maps ``xi`` to all outputs),
+    or, with correlated inputs, by :func:`mc_shapley` with ``mc_n`` replicates (``mc_n (d + 1)``
+    runs: Shapley effects, full first-order and independent total indices of the inputs
+    themselves); without a model the expansion's result is kept and its ``loo_error`` says how
+    far to trust it.
 
     Parameters
     ----------
     z, y, names, rng, corr, groups : as for :func:`sobol_pce`
     model : maps independent standard normals xi (N, d) [1] to outputs (N,) or (N, k)
     loo_threshold : relative corrected LOO error above which to fall back [1]
-    mc_n : base sample of the fallback [1]
+    mc_n : base sample (independent inputs) or replicates (correlated) of the fallback [1]
     pce_options : passed to :func:`sobol_pce`
 
     Returns
@@ -160,7 +163,18 @@ def sensitivity(
     bad = [r.output for r in res if not r.loo_error <= loo_threshold]
     if not bad or model is None:
         return res
-    mc = mc_sobol(model, len(names), mc_n, rng, names=names,
-                  n_bootstrap=pce_options.get("n_bootstrap", 200),
-                  confidence=pce_options.get("confidence", 0.95))
-    return [mc[r.output] if r.output in bad else r for r in res]
+    if res[0].correlated:
+        c_mat = _check_corr(corr, len(names))
+        lmat = np.linalg.cholesky(c_mat)
+
+        def model_z(z_: Array) -> ArrayLike:
+            return model(scipy.linalg.solve_triangular(lmat, z_.T, lower=True).T)
+
+        mc = mc_shapley(model_z, corr=c_mat, names=names, replicates=mc_n, rng=rng,
+                        groups=groups, confidence=pce_options.get("confidence", 0.95))
+    else:
+        mc = mc_sobol(model, len(names), mc_n, rng, names=names,
+                      n_bootstrap=pce_options.get("n_bootstrap", 200),
+                      confidence=pce_options.get("confidence", 0.95))
+    return [dataclasses.replace(mc[r.output], output=r.output, loo_error=r.loo_error)
+            if r.output in bad else r for r in res]

@@ -70,6 +70,17 @@ class SensitivityResult:
 
     @property
     def ranking(self) -> tuple[str, ...]:
-        """Input names, most influential first (by Shapley effect, else by total index)."""
-        key = self.shapley if np.all(np.isfinite(self.shapley)) else self.total
+        """Input names, most influential first (by Shapley effect, else by total index).
+
+        Raises ValueError for given-data first-order indices alone: with correlated inputs they
+        measure association (an input merely correlated with an influential one scores high),
+        not an input's own effect, so they never rank what to measure.
+        """
+        if np.all(np.isfinite(self.shapley)):
+            key = self.shapley
+        elif np.all(np.isfinite(self.total)):
+            key = self.total
+        else:
+            raise ValueError(f"no Shapley effects or total indices to rank by (method "
+                             f"{self.method!r}: first-order indices measure association)")
         return tuple(self.names[i] for i in np.argsort(-key, kind="stable"))

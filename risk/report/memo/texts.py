@@ -55,8 +55,8 @@ CAPTIONS: Final[dict[str, str]] = {
         "depletion) of the capped critical drawdown (pore collapse: of the critical reservoir "
         "pressure); diamonds are Shapley effects where the surrogate gave them. With correlated "
         "inputs the first-order index is the full one (with everything correlated with the "
-        "input) and the total the independent one, so first can exceed total; where only "
-        "given-data first-order indices exist, no total is drawn."),
+        "input) and the total the independent one, so first can exceed total; where the "
+        "surrogate did not fit, the Shapley effects come from Monte Carlo on the model."),
     "tornado": (
         "Tornado chart: the critical drawdown (pore collapse: the critical reservoir pressure) "
         "when one input at a time is moved to its P10 or P90 value, the others held at their "
