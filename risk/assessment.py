@@ -116,6 +116,7 @@ def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
 
 
 SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
+HOLDOUT_RUNS: Final = 4096  # the next points of the run, held out to measure the fit's error
 MC_FALLBACK_RUNS: Final = 512  # base sample of the Monte-Carlo fallback, n (d + 2) model runs
 #: model runs of the Monte-Carlo Shapley fallback for correlated inputs (replicates of d + 1
 #: runs each; about 1,300 replicates for 12 inputs: 95% bands about +-0.05 wide on the effects)
@@ -192,13 +193,28 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     correlated = bool(np.any(joint.normal_corr != np.eye(joint.d)))
     corr = joint.normal_corr if correlated else None
     cols_ok = np.nonzero(_has_spread(y))[0]
+    # runs of the sample that the fit does not see check it (no extra model runs)
+    m_ho = min(HOLDOUT_RUNS, xi.shape[0] - m)
+    holdout = None
+    if m_ho >= 2 * joint.d + 2:
+        rows = slice(m, m + m_ho)
+        _, y_ho = _outputs(scenario, {k: MechanismResult(k, r.by_direction[rows], r.theta[:0])
+                                      for k, r in mechanisms.items()},
+                           CompactionResult(compaction_all.far_field[rows],
+                                            compaction_all.wall[rows],
+                                            None if compaction_all.initial is None
+                                            else compaction_all.initial[rows])
+                           if compaction_all is not None else None)
+        holdout = (correlated_normals(joint, xi[rows]), y_ho[:, cols_ok])
     res: dict[int, Any] = {}
     if cols_ok.size:
         with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
+            families = sa.families_for([mg.kind for mg in joint.marginals], corr)
             fitted = sa.sobol_pce(z, y[:, cols_ok], names=names, rng=rng, corr=corr,
-                                  groups=groups or None, n_bootstrap=100)
+                                  groups=groups or None, n_bootstrap=100, families=families,
+                                  holdout=holdout)
         res = dict(zip(cols_ok.tolist(), fitted, strict=True))
-    bad = [c for c, r in res.items() if not r.loo_error <= sa.LOO_THRESHOLD]
+    bad = [c for c, r in res.items() if not r.surrogate_error <= sa.LOO_THRESHOLD]
     if bad:
         need = {keys[c][0] for c in bad}
 
@@ -225,7 +241,8 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
                 mc = sa.mc_sobol(model_xi, joint.d, MC_FALLBACK_RUNS, rng, names=names,
                                  n_bootstrap=100)
         for c, r in zip(bad, mc, strict=True):
-            res[c] = dataclasses.replace(r, loo_error=res[c].loo_error)  # why it fell back
+            res[c] = dataclasses.replace(r, loo_error=res[c].loo_error,  # why it fell back
+                                         validation_error=res[c].validation_error)
     sens = {keys[c]: r for c, r in sorted(res.items())}
     # tornado: P10 / P90 of each input, others at P50 (one-at-a-time, correlation ignored)
     mid = np.array([mg.quantile(0.5) for mg in joint.marginals])

@@ -79,8 +79,8 @@ Mara, T.A., Tarantola, S., Annoni, P. (2015). Non-parametric methods for global 
 from __future__ import annotations
 
 from risk.sensitivity.common import LOO_THRESHOLD, blas_single_thread
-from risk.sensitivity.driver import sensitivity, sobol_pce
-from risk.sensitivity.indices import independent_indices
+from risk.sensitivity.driver import families_for, sensitivity, sobol_pce
+from risk.sensitivity.indices import independent_indices, surrogate_bounds
 from risk.sensitivity.montecarlo import given_data_first_order, mc_sobol
 from risk.sensitivity.pce import (
     PolynomialChaos,
@@ -106,6 +106,7 @@ __all__ = [
     "blas_single_thread",
     "correlated_indices",
     "design_matrix",
+    "families_for",
     "fit_pce",
     "given_data_first_order",
     "hermite_orthonormal",
@@ -116,5 +117,6 @@ __all__ = [
     "multi_indices",
     "sensitivity",
     "sobol_pce",
+    "surrogate_bounds",
     "tornado",
 ]

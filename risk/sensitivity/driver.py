@@ -4,6 +4,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from collections.abc import Callable, Mapping, Sequence
 from typing import Any
 
@@ -12,12 +13,44 @@ import scipy.linalg
 from numpy.typing import ArrayLike
 
 from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, bad_argument, blas_single_thread
-from risk.sensitivity.indices import _group_positions, _interval, independent_indices
+from risk.sensitivity.indices import (
+    _group_positions,
+    _interval,
+    independent_indices,
+    surrogate_bounds,
+)
 from risk.sensitivity.montecarlo import mc_sobol
 from risk.sensitivity.pce import Family, _bootstrap_coefficients, _check_xy, design_matrix, fit_pce
 from risk.sensitivity.result import SensitivityResult, _frozen
 from risk.sensitivity.shapley import _blocks_of, _check_corr, correlated_indices
 from risk.sensitivity.shapley_mc import mc_shapley
+
+
+def families_for(kinds: Sequence[str], corr: ArrayLike | None = None) -> tuple[Family, ...]:
+    """The polynomial family of each input: Legendre for an independent uniform input,
+    Hermite (in the underlying normal) otherwise.
+
+    A uniform input is an affine function of ``2 Phi(xi) - 1``, so an output polynomial in the
+    input is a finite Legendre expansion, where its Hermite expansion in ``xi`` is infinite
+    (Xiu & Karniadakis 2002, Table 4.1: the Askey scheme pairs the uniform law with Legendre
+    polynomials). Inputs coupled by the copula keep Hermite polynomials: the correlated scheme
+    (:func:`correlated_indices`) re-expresses the expansion in rotated normal variables.
+
+    Parameters
+    ----------
+    kinds : distribution kind of each input (``"uniform"``, ``"normal"``, ...)
+    corr : normal-space correlation matrix (d, d) [1]; None = independent
+
+    References
+    ----------
+    Xiu, D., Karniadakis, G.E. (2002). The Wiener-Askey polynomial chaos for stochastic
+        differential equations. SIAM Journal on Scientific Computing 24, 619-644.
+    """
+    c_mat = _check_corr(corr, len(kinds))
+    coupled = {int(j) for blk in _blocks_of(c_mat) for j in blk}
+    return tuple("legendre" if k == "uniform" and j not in coupled else "hermite"
+                 for j, k in enumerate(kinds))
+
 
 # ---------------------------------------------------------------------------------------------
 # Public PCE entry point
@@ -38,15 +71,22 @@ def sobol_pce(
     families: Sequence[Family] | None = None,
     n_bootstrap: int = 200,
     confidence: float = 0.95,
+    holdout: tuple[ArrayLike, ArrayLike] | None = None,
+    widen: bool = True,
 ) -> list[SensitivityResult]:
-    """Sobol indices, Shapley effects and their bootstrap intervals from a Hermite expansion.
+    """Sobol indices, Shapley effects and their intervals from a polynomial chaos expansion.
 
     The outputs are expanded in the independent variables ``xi = L^-1 z`` (:func:`fit_pce`); the
     indices come from the squared coefficients (Sudret 2008) for independent inputs
     (:func:`independent_indices`) and from exact conditional variances for correlated ones
     (:func:`correlated_indices`). Bootstrap: the chosen basis of each output is refitted on
-    ``n_bootstrap`` resamples of the rows and every index recomputed; intervals are the
-    percentiles at ``confidence``. Needs no model runs beyond ``y``.
+    ``n_bootstrap`` resamples of the rows and every index recomputed, the percentiles at
+    ``confidence`` taken; that shows sampling noise only, so both ends are then widened by what
+    the surrogate's own error can move an index (:func:`surrogate_bounds`,
+    docs/derivations.md, sec. 9), with the relative mean-square error measured on the held-out
+    runs ``holdout`` when given (an unbiased check: those runs took no part in the fit), else
+    the corrected leave-one-out error (optimistic after a sparse selection). Needs no model
+    runs beyond ``y`` and ``holdout``.
 
     Parameters
     ----------
@@ -64,12 +104,22 @@ def sobol_pce(
         correlated with any other
     n_bootstrap : bootstrap refits [1] (0 = no intervals)
     confidence : two-sided level of the percentile intervals [1]
+    holdout : runs not used in the fit, ``(z_ho (n_ho, d) [1], y_ho (n_ho,) or (n_ho, k)
+        [unit of y])``, for the validation error; None = use the leave-one-out error
+    widen : False = the bootstrap percentile intervals alone (sampling noise only, no
+        allowance for the surrogate's error)
 
     Returns
     -------
     one :class:`SensitivityResult` per output column
     """
     z_arr, y2 = _check_xy(z, y)
+    ho = _check_xy(*holdout) if holdout is not None else None
+    if ho is not None and (ho[0].shape[1] != z_arr.shape[1] or ho[1].shape[1] != y2.shape[1]
+                           or ho[0].shape[0] < 2):
+        raise bad_argument("sensitivity.holdout", (ho[0].shape, ho[1].shape),
+                           f"(n, {z_arr.shape[1]}) inputs and (n, {y2.shape[1]}) outputs, "
+                           "n >= 2")
     n, d = z_arr.shape
     if len(names) != d:
         raise bad_argument("sensitivity.names", list(names), f"{d} input names")
@@ -102,9 +152,17 @@ def sobol_pce(
                 ind = independent_indices(exp.indices, coef, group_pos)
                 first, total = ind["first"], ind["total"]
             shap = ind["shapley"]
-            f_lo, f_hi = _interval(first[:, 1:], confidence)
-            t_lo, t_hi = _interval(total[:, 1:], confidence)
-            s_lo, s_hi = _interval(shap[:, 1:], confidence)
+            validation = math.nan
+            if ho is not None:
+                xi_ho = (scipy.linalg.solve_triangular(lmat, ho[0].T, lower=True).T
+                         if correlated else ho[0])
+                resid = ho[1][:, col] - exp(xi_ho)
+                var_ho = float(np.var(ho[1][:, col], ddof=1))
+                validation = (float(np.mean(resid**2)) / var_ho if var_ho > 0 else math.inf)
+            error = (validation if ho is not None else exp.loo_error) if widen else 0.0
+            f_lo, f_hi = surrogate_bounds(*_interval(first[:, 1:], confidence), error)
+            t_lo, t_hi = surrogate_bounds(*_interval(total[:, 1:], confidence), error)
+            s_lo, s_hi = surrogate_bounds(*_interval(shap[:, 1:], confidence), error)
             results.append(SensitivityResult(
                 names=tuple(names),
                 first=_frozen(first[:, 0]), total=_frozen(total[:, 0]),
@@ -113,7 +171,8 @@ def sobol_pce(
                 shapley=_frozen(shap[:, 0]),
                 shapley_low=_frozen(s_lo), shapley_high=_frozen(s_hi),
                 full_first=_frozen(first[:, 0]), independent_total=_frozen(total[:, 0]),
-                loo_error=exp.loo_error, method="pce", n_runs=n, output=col,
+                loo_error=exp.loo_error, validation_error=validation, method="pce",
+                n_runs=n, output=col,
                 mean=exp.mean, variance=exp.variance, confidence=confidence,
                 n_bootstrap=n_bootstrap, n_terms=len(exp.indices), degree=exp.degree,
                 correlated=correlated, group_names=group_names,
@@ -139,7 +198,9 @@ def sensitivity(
 ) -> list[SensitivityResult]:
     """Indices per output: the expansion when it fits, Monte Carlo on the model when not.
 
-    Each output whose corrected leave-one-out error exceeds ``loo_threshold``
+    Each output whose surrogate error (:attr:`SensitivityResult.surrogate_error`: on the
+    held-out runs when ``holdout`` is passed, else the corrected leave-one-out error) exceeds
+    ``loo_threshold``
     (:data:`LOO_THRESHOLD`, see there for the bound it implies) is recomputed by
     :func:`mc_sobol` with ``mc_n (d + 2)`` runs of ``model`` (which maps ``xi`` to all outputs),
     or, with correlated inputs, by :func:`mc_shapley` with ``mc_n`` replicates (``mc_n (d + 1)``
@@ -151,7 +212,7 @@ def sensitivity(
     ----------
     z, y, names, rng, corr, groups : as for :func:`sobol_pce`
     model : maps independent standard normals xi (N, d) [1] to outputs (N,) or (N, k)
-    loo_threshold : relative corrected LOO error above which to fall back [1]
+    loo_threshold : relative surrogate error above which to fall back [1]
     mc_n : base sample (independent inputs) or replicates (correlated) of the fallback [1]
     pce_options : passed to :func:`sobol_pce`
 
@@ -160,7 +221,7 @@ def sensitivity(
     one :class:`SensitivityResult` per output column
     """
     res = sobol_pce(z, y, names=names, rng=rng, corr=corr, groups=groups, **pce_options)
-    bad = [r.output for r in res if not r.loo_error <= loo_threshold]
+    bad = [r.output for r in res if not r.surrogate_error <= loo_threshold]
     if not bad or model is None:
         return res
     if res[0].correlated:
@@ -176,5 +237,6 @@ def sensitivity(
         mc = mc_sobol(model, len(names), mc_n, rng, names=names,
                       n_bootstrap=pce_options.get("n_bootstrap", 200),
                       confidence=pce_options.get("confidence", 0.95))
-    return [dataclasses.replace(mc[r.output], output=r.output, loo_error=r.loo_error)
+    return [dataclasses.replace(mc[r.output], output=r.output, loo_error=r.loo_error,
+                                validation_error=r.validation_error)
             if r.output in bad else r for r in res]
