@@ -197,15 +197,15 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     m_ho = min(HOLDOUT_RUNS, xi.shape[0] - m)
     holdout = None
     if m_ho >= 2 * joint.d + 2:
-        rows = slice(m, m + m_ho)
-        _, y_ho = _outputs(scenario, {k: MechanismResult(k, r.by_direction[rows], r.theta[:0])
+        held = slice(m, m + m_ho)
+        _, y_ho = _outputs(scenario, {k: MechanismResult(k, r.by_direction[held], r.theta[:0])
                                       for k, r in mechanisms.items()},
-                           CompactionResult(compaction_all.far_field[rows],
-                                            compaction_all.wall[rows],
+                           CompactionResult(compaction_all.far_field[held],
+                                            compaction_all.wall[held],
                                             None if compaction_all.initial is None
-                                            else compaction_all.initial[rows])
+                                            else compaction_all.initial[held])
                            if compaction_all is not None else None)
-        holdout = (correlated_normals(joint, xi[rows]), y_ho[:, cols_ok])
+        holdout = (correlated_normals(joint, xi[held]), y_ho[:, cols_ok])
     res: dict[int, Any] = {}
     if cols_ok.size:
         with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
