@@ -13,7 +13,10 @@ Methods
   polynomials of ``xi``, fitted by least squares (a sparse basis chosen by orthogonal matching
   pursuit, or total-degree bases with the degree chosen by the corrected leave-one-out error);
   Sobol indices come from the squared coefficients (Sudret 2008), bootstrap intervals from
-  refitting the chosen basis on resampled rows. With correlated inputs the same expansion gives
+  refitting the chosen basis on resampled rows, widened by the derived bound of how far the
+  surrogate's error (measured on held-out runs when given) can move an index
+  (:func:`surrogate_bounds`). Legendre polynomials for independent uniform inputs
+  (:func:`families_for`). With correlated inputs the same expansion gives
   full first-order indices, independent total indices and Shapley effects exactly (see
   :func:`correlated_indices` for the scheme).
 - :func:`mc_sobol`: pick-freeze Monte Carlo on the model itself (Saltelli et al. 2010 first
