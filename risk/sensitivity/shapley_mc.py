@@ -26,13 +26,15 @@ replacing the last ``k`` components of ``a`` by those of ``b`` therefore redraws
 means over replicates, so they add up to exactly one. Each replicate costs ``d + 1`` runs.
 Orderings cycle through every ordered (first, last) pair of inputs in a seeded random order
 (the middle shuffled), so each input comes first and last equally often and the full
-first-order index ``E[f_0 (f_{d-1} - f_d)] / Var(Y)`` (replicates with ``j`` last, where
+first-order index ``E[(f_0 - mean) (f_{d-1} - f_d)] / Var(Y)`` (replicates with ``j`` last, where
 ``f_{d-1}`` shares only ``x_j`` with ``f_0``; the form of Saltelli et al. 2010) and the
 independent total index ``c({j}) / Var(Y)`` (``j`` first) come from the same runs (Mara,
 Tarantola & Annoni 2015 for the pair of indices), from a ``1/d`` share of the replicates each:
 they are noisier than the effects.
 
-Replicates are independent, so the intervals are normal intervals with the delta-method
+Estimates of effects near zero can come out slightly negative from sampling noise; they are
+reported as estimated (not clipped), with their intervals. Replicates are independent, so the
+intervals are normal intervals with the delta-method
 standard error of a ratio of means (no bootstrap needed, and nominal coverage as the replicate
 count grows).
 
@@ -165,13 +167,16 @@ def mc_shapley(
     first = np.full((d, f.shape[2]), np.nan)
     f_lo, f_hi, total, t_lo, t_hi = (first.copy() for _ in range(5))
     v_all = np.mean(var_terms, axis=0)
+    # centring f_0 leaves E[f_0 (f_{d-1} - f_d)] unchanged and removes the mean's large
+    # contribution to the estimator's variance
+    mean = 0.5 * (np.mean(f[:, 0, :], axis=0) + np.mean(f[:, d, :], axis=0))
     for j in range(d):
         last = order[:, -1] == j
         head = order[:, 0] == j
         if last.sum() >= 2:
             # f_{d-1} shares only x_j with f_0, f_d shares nothing: Var(E[Y|x_j]) =
             # E[f_0 (f_{d-1} - f_d)] (the form of Saltelli et al. 2010, Table 2 (b))
-            v_j = f[last, 0, :] * (f[last, d - 1, :] - f[last, d, :])
+            v_j = (f[last, 0, :] - mean) * (f[last, d - 1, :] - f[last, d, :])
             se = np.std(v_j, axis=0, ddof=1) / math.sqrt(int(last.sum())) / v_all
             first[j] = np.mean(v_j, axis=0) / v_all
             f_lo[j], f_hi[j] = first[j] - zq * se, first[j] + zq * se
@@ -180,7 +185,6 @@ def mc_shapley(
             se = np.std(c_j, axis=0, ddof=1) / math.sqrt(int(head.sum())) / v_all
             total[j] = np.mean(c_j, axis=0) / v_all
             t_lo[j], t_hi[j] = total[j] - zq * se, total[j] + zq * se
-    mean = 0.5 * (np.mean(f[:, 0, :], axis=0) + np.mean(f[:, d, :], axis=0))
     g_nan = np.full(len(group_pos), np.nan)
     results = []
     for k in range(f.shape[2]):
