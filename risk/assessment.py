@@ -209,7 +209,8 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     res: dict[int, Any] = {}
     if cols_ok.size:
         with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
-            families = sa.families_for([mg.kind for mg in joint.marginals], corr)
+            families = sa.families_for([mg.kind for mg in joint.marginals], corr,
+                                       ppfs=[mg.ppf for mg in joint.marginals])
             fitted = sa.sobol_pce(z, y[:, cols_ok], names=names, rng=rng, corr=corr,
                                   groups=groups or None, n_bootstrap=100, families=families,
                                   holdout=holdout)

@@ -20,6 +20,7 @@ import math
 
 import numpy as np
 import pytest
+import scipy.special
 import scipy.stats
 from scipy.special import ndtr, ndtri
 from scipy.stats import qmc
@@ -185,3 +186,56 @@ def test_sobol_g_10_inputs_2048_runs_hyperbolic_sparse_within_001_and_bands_cove
             trials += 10
     assert max(errs) < 0.01, max(errs)
     assert hits >= floor(trials), (hits, trials)
+
+
+# ------------------------------------------------------------------------------------------
+# Polynomials of a bounded marginal's own law (discretized Stieltjes)
+# ------------------------------------------------------------------------------------------
+
+
+def test_stieltjes_family_of_a_uniform_input_is_legendre():
+    # the orthonormal polynomials of a uniform law are the Legendre ones (Abramowitz & Stegun
+    # 1964, eq. 22.7.10, as in legendre_orthonormal); unique up to sign, both with a positive
+    # leading coefficient
+    fam = sa.stieltjes_family(lambda u: 2.0 + 3.0 * np.asarray(u), name="uniform", degree=12)
+    xi = np.linspace(-3, 3, 41)
+    np.testing.assert_allclose(fam.evaluate(xi, 12),
+                               sa.legendre_orthonormal(2 * ndtr(xi) - 1, 12), atol=1e-9)
+
+
+def test_stieltjes_family_of_a_pert_input_is_orthonormal_under_its_density():
+    # beta-PERT(40, 70, 120) = 40 + 80 Beta(a, b), a = 1 + 4 (70-40)/80, b = 1 + 4 (120-70)/80
+    # (Vose 2008, sec. 9.1.4). Orthonormality checked with scipy's Gauss-Jacobi rule for the
+    # beta weight (exact for these polynomial integrands of degree <= 16), an independent
+    # quadrature
+    lo, mode, hi = 40.0, 70.0, 120.0
+    a, b = 1 + 4 * (mode - lo) / (hi - lo), 1 + 4 * (hi - mode) / (hi - lo)
+    law = scipy.stats.beta(a, b, loc=lo, scale=hi - lo)
+    fam = sa.stieltjes_family(law.ppf, name="pert", degree=8)
+    s, w = scipy.special.roots_jacobi(20, b - 1, a - 1)  # weight (1-s)^(b-1) (1+s)^(a-1)
+    w = w / w.sum()
+    x = lo + (hi - lo) * (s + 1) / 2
+    p = fam.evaluate(ndtri(law.cdf(x)), 8)
+    np.testing.assert_allclose((p * w) @ p.T, np.eye(9), atol=1e-8)
+
+
+def test_own_polynomials_make_a_linear_output_exact():
+    # Y = 2 x1 + x2 with x1 ~ PERT(40, 70, 120), x2 ~ triangular(2.6, 3.1, 3.8), independent:
+    # S1 = 4 Var(x1) / (4 Var(x1) + Var(x2)) (derived), variances from scipy.stats. In their
+    # own polynomials Y is degree 1, so the fit is exact with any design; Hermite in the
+    # underlying normals is not (the inputs are not linear in xi).
+    pert = scipy.stats.beta(1 + 4 * 30 / 80, 1 + 4 * 50 / 80, loc=40, scale=80)
+    tri = scipy.stats.triang((3.1 - 2.6) / 1.2, loc=2.6, scale=1.2)
+    fams = sa.families_for(["pert", "triangular"], ppfs=[pert.ppf, tri.ppf])
+    assert all(isinstance(f, sa.Recurrence) for f in fams)
+    rng = np.random.default_rng(2)
+    xi = sobol_normals(2, 64, rng)
+    y = 2 * pert.ppf(ndtr(xi[:, 0])) + tri.ppf(ndtr(xi[:, 1]))
+    v1, v2 = 4 * pert.var(), tri.var()
+    (own,) = sa.sobol_pce(xi, y, names=["a", "b"], rng=rng, families=fams, n_bootstrap=0)
+    (herm,) = sa.sobol_pce(xi, y, names=["a", "b"], rng=rng, n_bootstrap=0)
+    np.testing.assert_allclose(own.first, [v1 / (v1 + v2), v2 / (v1 + v2)], atol=1e-9)
+    assert own.loo_error < 1e-12 < herm.loo_error
+    # an unbounded truncated normal keeps Hermite (no own family for an unbounded law)
+    tn = scipy.stats.truncnorm(0.0, np.inf)
+    assert sa.families_for(["truncnormal"], ppfs=[tn.ppf]) == ("hermite",)

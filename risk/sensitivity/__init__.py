@@ -36,6 +36,7 @@ Layout (one module per job)
 - ``common``: array types, :data:`LOO_THRESHOLD`, :func:`blas_single_thread`.
 - ``result``: :class:`SensitivityResult`.
 - ``pce``: :class:`PolynomialChaos`, bases, :func:`fit_pce` (leave-one-out, bootstrap refits).
+- ``families``: orthonormal polynomials of a bounded marginal (:func:`stieltjes_family`).
 - ``indices``: Sobol indices from coefficients (independent variables), grouped inputs.
 - ``shapley``: correlated inputs: full first-order, independent total, Shapley effects
   (:data:`MAX_EXACT_SHAPLEY_INPUTS`).
@@ -83,6 +84,7 @@ from __future__ import annotations
 
 from risk.sensitivity.common import LOO_THRESHOLD, blas_single_thread
 from risk.sensitivity.driver import families_for, sensitivity, sobol_pce
+from risk.sensitivity.families import Recurrence, stieltjes_family
 from risk.sensitivity.indices import independent_indices, surrogate_bounds
 from risk.sensitivity.montecarlo import given_data_first_order, mc_sobol
 from risk.sensitivity.pce import (
@@ -105,6 +107,7 @@ __all__ = [
     "LOO_THRESHOLD",
     "MAX_EXACT_SHAPLEY_INPUTS",
     "PolynomialChaos",
+    "Recurrence",
     "SensitivityResult",
     "blas_single_thread",
     "correlated_indices",
@@ -120,6 +123,7 @@ __all__ = [
     "multi_indices",
     "sensitivity",
     "sobol_pce",
+    "stieltjes_family",
     "surrogate_bounds",
     "tornado",
 ]

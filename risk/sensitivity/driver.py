@@ -13,6 +13,7 @@ import scipy.linalg
 from numpy.typing import ArrayLike
 
 from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, bad_argument, blas_single_thread
+from risk.sensitivity.families import stieltjes_family
 from risk.sensitivity.indices import (
     _group_positions,
     _interval,
@@ -26,30 +27,58 @@ from risk.sensitivity.shapley import _blocks_of, _check_corr, correlated_indices
 from risk.sensitivity.shapley_mc import mc_shapley
 
 
-def families_for(kinds: Sequence[str], corr: ArrayLike | None = None) -> tuple[Family, ...]:
-    """The polynomial family of each input: Legendre for an independent uniform input,
-    Hermite (in the underlying normal) otherwise.
+def families_for(kinds: Sequence[str], corr: ArrayLike | None = None, *,
+                 ppfs: Sequence[Callable[[Array], ArrayLike]] | None = None
+                 ) -> tuple[Family, ...]:
+    """The polynomial family of each input, after the Askey scheme.
 
-    A uniform input is an affine function of ``2 Phi(xi) - 1``, so an output polynomial in the
-    input is a finite Legendre expansion, where its Hermite expansion in ``xi`` is infinite
-    (Xiu & Karniadakis 2002, Table 4.1: the Askey scheme pairs the uniform law with Legendre
-    polynomials). Inputs coupled by the copula keep Hermite polynomials: the correlated scheme
-    (:func:`correlated_indices`) re-expresses the expansion in rotated normal variables.
+    Legendre for an independent uniform input: it is an affine function of ``2 Phi(xi) - 1``,
+    so an output polynomial in the input is a finite Legendre expansion, where its Hermite
+    expansion in ``xi`` is infinite (Xiu & Karniadakis 2002, Table 4.1). With ``ppfs``, an
+    independent bounded triangular, beta-PERT or truncated-normal input gets the orthonormal
+    polynomials of its own law (:func:`stieltjes_family`; Wan & Karniadakis 2006). Hermite in
+    the underlying normal otherwise: normal and lognormal inputs (a lognormal input's own
+    polynomials converge poorly; its normal's converge), and inputs coupled by the copula (the
+    correlated scheme, :func:`correlated_indices`, re-expresses the expansion in rotated
+    normal variables).
 
     Parameters
     ----------
-    kinds : distribution kind of each input (``"uniform"``, ``"normal"``, ...)
+    kinds : distribution kind of each input (``"uniform"``, ``"normal"``, ``"pert"``, ...)
     corr : normal-space correlation matrix (d, d) [1]; None = independent
+    ppfs : quantile function of each input, probability [1] -> value [unit of the input];
+        None = Legendre and Hermite only
 
     References
     ----------
     Xiu, D., Karniadakis, G.E. (2002). The Wiener-Askey polynomial chaos for stochastic
         differential equations. SIAM Journal on Scientific Computing 24, 619-644.
+    Wan & Karniadakis (2006): see :mod:`risk.sensitivity.families`.
     """
     c_mat = _check_corr(corr, len(kinds))
+    if ppfs is not None and len(ppfs) != len(kinds):
+        raise bad_argument("sensitivity.ppfs", len(ppfs), f"{len(kinds)} quantile functions")
     coupled = {int(j) for blk in _blocks_of(c_mat) for j in blk}
-    return tuple("legendre" if k == "uniform" and j not in coupled else "hermite"
-                 for j, k in enumerate(kinds))
+    out: list[Family] = []
+    for j, kind in enumerate(kinds):
+        if j in coupled:
+            out.append("hermite")
+        elif kind == "uniform":
+            out.append("legendre")
+        elif ppfs is not None and kind in _OWN_FAMILY and _bounded(ppfs[j]):
+            out.append(stieltjes_family(ppfs[j], name=kind))
+        else:
+            out.append("hermite")
+    return tuple(out)
+
+
+#: bounded marginals that get polynomials of their own law (with finite bounds)
+_OWN_FAMILY = ("triangular", "pert", "truncnormal")
+
+
+def _bounded(ppf: Callable[[Array], ArrayLike]) -> bool:
+    ends = np.asarray(ppf(np.array([0.0, 1.0])), dtype=float)
+    return bool(np.all(np.isfinite(ends)) and ends[1] > ends[0])
 
 
 # ---------------------------------------------------------------------------------------------
