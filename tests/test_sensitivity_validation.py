@@ -239,3 +239,25 @@ def test_own_polynomials_make_a_linear_output_exact():
     # an unbounded truncated normal keeps Hermite (no own family for an unbounded law)
     tn = scipy.stats.truncnorm(0.0, np.inf)
     assert sa.families_for(["truncnormal"], ppfs=[tn.ppf]) == ("hermite",)
+
+
+def test_truncation_chosen_by_held_out_error():
+    # each output keeps the candidate truncation with the least held-out error: the chosen
+    # result's validation error is the smaller of the two fitted alone (derived from the rule)
+    rng = np.random.default_rng(8)
+    xi = sobol_normals(3, 256, rng)
+    xh = rng.standard_normal((2048, 3))
+
+    def model(x: np.ndarray) -> np.ndarray:
+        return np.column_stack([np.abs(x[:, 0]) + 0.3 * x[:, 1],  # kink: high degree in x1
+                                x[:, 0] + 0.5 * x[:, 1] * x[:, 2]])  # low-degree interaction
+
+    kw = dict(names=["a", "b", "c"], n_bootstrap=0, holdout=(xh, model(xh)))
+    alone = [sa.sobol_pce(xi, model(xi), rng=np.random.default_rng(1), q=q, max_degree=p,
+                          **kw) for q, p in ((1.0, 2), (0.5, 12))]
+    both = sa.sobol_pce(xi, model(xi), rng=np.random.default_rng(1),
+                        truncations=[(1.0, 2), (0.5, 12)], **kw)
+    for col in range(2):
+        errs = [a[col].validation_error for a in alone]
+        assert both[col].validation_error == min(errs)
+    assert alone[1][0].validation_error < alone[0][0].validation_error  # the kink needs q=0.5
