@@ -205,15 +205,24 @@ def test_identical_shots_give_no_preference(write, field_doc):
 @pytest.mark.slow
 def test_correlated_inputs_never_get_cholesky_variable_indices():
     # With correlated inputs the Monte-Carlo pick-freeze fallback would index the hidden
-    # independent variables; the run must use the surrogate or the given-data indices instead.
+    # independent variables; the run must use the surrogate or Shapley effects on the model
+    # (never the given-data indices, which measure association).
     from pathlib import Path
 
     ex = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
     a = assess(load_scenario(ex), samples=2048)
     assert a.sensitivity
     for r in a.sensitivity.values():
-        assert r.method in ("pce", "given-data")
-        assert r.correlated
+        assert r.method in ("pce", "shapley-mc")
+        assert r.correlated and np.all(np.isfinite(r.shapley))
+    # R-7 effective-strength onset does not use the friction angle (derived: the Willson et
+    # al. 2002 onset depends on TWC and the stresses only); it is rank-correlated with UCS.
+    # Redrawing it alone given the others changes nothing, so its independent total is
+    # exactly 0 and its Shapley effect (the share it gets through UCS) ranks it below UCS.
+    r = a.sensitivity[("effective_strength_onset", 0)]
+    j = r.names.index("friction_angle")
+    assert r.total[j] == 0.0
+    assert r.ranking.index("friction_angle") > r.ranking.index("ucs")
 
 
 def test_pore_collapse_sensitivity_output_is_clipped_to_p0():

@@ -168,6 +168,7 @@ def _sensitivity(a: Assessment) -> tuple[dict[str, Any], dict[str, Any], dict[st
             "reservoir_pressure": _pressure(a, a.stages[stage]) if key != "pore_collapse"
             else None,
             "method": r.method, "loo_error": rounded(float(r.loo_error), 4),
+            "validation_error": rounded(float(r.validation_error), 4),
             "model_runs": int(r.n_runs), "correlated": bool(r.correlated),
             "indices": _indices(a, r),
             "groups": [{"group": g, "first": rounded(float(f), 4),

@@ -13,13 +13,22 @@ Methods
   polynomials of ``xi``, fitted by least squares (a sparse basis chosen by orthogonal matching
   pursuit, or total-degree bases with the degree chosen by the corrected leave-one-out error);
   Sobol indices come from the squared coefficients (Sudret 2008), bootstrap intervals from
-  refitting the chosen basis on resampled rows. With correlated inputs the same expansion gives
+  refitting the chosen basis on resampled rows, widened by the derived bound of how far the
+  surrogate's error (measured on held-out runs when given) can move an index
+  (:func:`surrogate_bounds`). Legendre polynomials for independent uniform inputs
+  (:func:`families_for`). With correlated inputs the same expansion gives
   full first-order indices, independent total indices and Shapley effects exactly (see
   :func:`correlated_indices` for the scheme).
 - :func:`mc_sobol`: pick-freeze Monte Carlo on the model itself (Saltelli et al. 2010 first
   order, Jansen 1999 total), the fallback when the expansion's leave-one-out error is high
   (plateaus and kinks of the critical drawdown).
-- :func:`sensitivity`: picks one of the two by :data:`LOO_THRESHOLD`.
+- :func:`mc_shapley`: Shapley effects of correlated inputs on the model itself (random
+  orderings, conditional redraws through the copula), the fallback for correlated inputs.
+- :func:`given_data_first_order`: full first-order indices from a sample alone; they measure
+  association (an input merely correlated with an influential one scores high), so they are
+  never used to rank inputs (``SensitivityResult.ranking`` refuses them).
+- :func:`sensitivity`: picks the expansion or the Monte-Carlo fallback by
+  :data:`LOO_THRESHOLD`.
 - :func:`tornado`: one-at-a-time swings between P10 and P90 values.
 
 Layout (one module per job)
@@ -27,10 +36,12 @@ Layout (one module per job)
 - ``common``: array types, :data:`LOO_THRESHOLD`, :func:`blas_single_thread`.
 - ``result``: :class:`SensitivityResult`.
 - ``pce``: :class:`PolynomialChaos`, bases, :func:`fit_pce` (leave-one-out, bootstrap refits).
+- ``families``: orthonormal polynomials of a bounded marginal (:func:`stieltjes_family`).
 - ``indices``: Sobol indices from coefficients (independent variables), grouped inputs.
 - ``shapley``: correlated inputs: full first-order, independent total, Shapley effects
   (:data:`MAX_EXACT_SHAPLEY_INPUTS`).
 - ``montecarlo``: pick-freeze (:func:`mc_sobol`) and given-data estimators.
+- ``shapley_mc``: :func:`mc_shapley`.
 - ``tornado``: :func:`tornado`.
 - ``driver``: :func:`sobol_pce` and :func:`sensitivity`, which pick the method.
 
@@ -72,8 +83,9 @@ Mara, T.A., Tarantola, S., Annoni, P. (2015). Non-parametric methods for global 
 from __future__ import annotations
 
 from risk.sensitivity.common import LOO_THRESHOLD, blas_single_thread
-from risk.sensitivity.driver import sensitivity, sobol_pce
-from risk.sensitivity.indices import independent_indices
+from risk.sensitivity.driver import families_for, sensitivity, sobol_pce
+from risk.sensitivity.families import Recurrence, stieltjes_family
+from risk.sensitivity.indices import independent_indices, surrogate_bounds
 from risk.sensitivity.montecarlo import given_data_first_order, mc_sobol
 from risk.sensitivity.pce import (
     PolynomialChaos,
@@ -88,24 +100,30 @@ from risk.sensitivity.shapley import MAX_EXACT_SHAPLEY_INPUTS, correlated_indice
 from risk.sensitivity.shapley import _blocks_of as _blocks_of
 from risk.sensitivity.shapley import _Closure as _Closure
 from risk.sensitivity.shapley import _prefix_variances as _prefix_variances
+from risk.sensitivity.shapley_mc import mc_shapley
 from risk.sensitivity.tornado import tornado
 
 __all__ = [
     "LOO_THRESHOLD",
     "MAX_EXACT_SHAPLEY_INPUTS",
     "PolynomialChaos",
+    "Recurrence",
     "SensitivityResult",
     "blas_single_thread",
     "correlated_indices",
     "design_matrix",
+    "families_for",
     "fit_pce",
     "given_data_first_order",
     "hermite_orthonormal",
     "independent_indices",
     "legendre_orthonormal",
+    "mc_shapley",
     "mc_sobol",
     "multi_indices",
     "sensitivity",
     "sobol_pce",
+    "stieltjes_family",
+    "surrogate_bounds",
     "tornado",
 ]

@@ -8,6 +8,7 @@ Sobol', I.M. (1993, 2001); Sudret, B. (2008): see :mod:`risk.sensitivity`.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping, Sequence
 
 import numpy as np
@@ -78,11 +79,6 @@ def independent_indices(
 
 
 
-# ---------------------------------------------------------------------------------------------
-# Public PCE entry point
-# ---------------------------------------------------------------------------------------------
-
-
 def _group_positions(groups: Mapping[str, Sequence[int | str]] | None,
                      names: Sequence[str]) -> tuple[tuple[str, ...], list[list[int]]]:
     if not groups:
@@ -116,3 +112,31 @@ def _interval(samples: Array, confidence: float) -> tuple[Array, Array]:
         return nan, nan
     lo, hi = np.quantile(samples, [alpha, 1.0 - alpha], axis=-1)
     return lo, hi
+
+
+def surrogate_bounds(low: ArrayLike, high: ArrayLike, error: float) -> tuple[Array, Array]:
+    """Widen index bounds by what a surrogate error of relative mean square ``error`` can move
+    the index (docs/derivations.md, sec. 13).
+
+    An index ``S = ||P Y||^2 / Var(Y)`` with ``P`` a projection-type map (first order:
+    ``Y -> E[Y|x_j] - E[Y]``; total: ``Y -> Y - E[Y|x_-j]``) has a square root that is a seminorm
+    of ``Y`` over the standard deviation, so for a surrogate ``Yh`` with
+    ``E[(Y - Yh)^2] = error Var(Y)`` (Minkowski's inequality, twice):
+    ``sqrt(S_Yh)(1 - r) - r <= sqrt(S_Y) <= sqrt(S_Yh)(1 + r) + r``, ``r = sqrt(error)``.
+    Applied to the ends of a sampling interval of the surrogate's index.
+
+    Parameters
+    ----------
+    low, high : interval ends of the surrogate's index [1]
+    error : relative mean-square error of the surrogate [1], >= 0 (NaN: no widening known,
+        bounds become NaN)
+
+    Returns
+    -------
+    widened (low, high) in [0, 1] [1]
+    """
+    r = math.sqrt(error) if error >= 0 else math.nan
+    lo = np.sqrt(np.clip(np.asarray(low, dtype=float), 0.0, 1.0))
+    hi = np.sqrt(np.clip(np.asarray(high, dtype=float), 0.0, 1.0))
+    return (np.maximum(lo * (1.0 - r) - r, 0.0) ** 2,
+            np.minimum((hi * (1.0 + r) + r) ** 2, 1.0))

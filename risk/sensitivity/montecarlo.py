@@ -20,6 +20,10 @@ from risk.sensitivity.common import Array, bad_argument
 from risk.sensitivity.indices import _interval
 from risk.sensitivity.result import SensitivityResult, _frozen
 
+#: method label of :func:`given_data_first_order`: with correlated inputs these indices measure
+#: association, not an input's own effect (never used to rank inputs)
+GIVEN_DATA = "association (given data)"
+
 # ---------------------------------------------------------------------------------------------
 # Monte Carlo on the model
 # ---------------------------------------------------------------------------------------------
@@ -54,6 +58,10 @@ def given_data_first_order(
     Total indices and Shapley effects are not available from it (NaN). The bias-corrected
     estimate of an index near zero can come out slightly negative from sampling noise; such
     values (and interval ends) are reported as 0, which this docstring and the memo state.
+    With correlated inputs the index measures association: an input that only moves with an
+    influential one scores high although redrawing it alone changes nothing, so the result is
+    labelled ``method="association (given data)"`` and :attr:`SensitivityResult.ranking`
+    refuses it; rank by :func:`mc_shapley` on the model when the model can be rerun.
 
     References
     ----------
@@ -112,7 +120,7 @@ def given_data_first_order(
     return SensitivityResult(
         names=tuple(names), first=first, total=nan, first_low=low, first_high=high,
         total_low=nan, total_high=nan, shapley=nan, shapley_low=nan, shapley_high=nan,
-        full_first=first, independent_total=nan, loo_error=loo_error, method="given-data",
+        full_first=first, independent_total=nan, loo_error=loo_error, method=GIVEN_DATA,
         n_runs=n, mean=float(ya.mean()), variance=float(ya.var()), confidence=confidence,
         n_bootstrap=n_bootstrap, correlated=True)
 

@@ -23,6 +23,7 @@ from numpy.typing import ArrayLike
 from scipy.special import ndtr
 
 from risk.sensitivity.common import Array, IntArray, Method
+from risk.sensitivity.families import Recurrence
 from risk.sensitivity.result import _frozen
 
 
@@ -37,14 +38,14 @@ class PolynomialChaos:
     coefficients : ``c_a`` (m,) [unit of y]
     loo_error : corrected leave-one-out error relative to the sample variance of y [1]
     n_runs : rows the expansion was fitted on [1]
-    families : polynomial family per input (empty = all Hermite)
+    families : polynomial family per input (empty = all Hermite; see :data:`Family`)
     """
 
     indices: IntArray
     coefficients: Array
     loo_error: float
     n_runs: int
-    families: tuple[str, ...] = ()
+    families: tuple[Family, ...] = ()
 
     @property
     def mean(self) -> float:
@@ -64,7 +65,7 @@ class PolynomialChaos:
     def __call__(self, xi: ArrayLike) -> Array:
         """Evaluate the expansion at independent standard normals ``xi`` (n, d) [1]."""
         psi = design_matrix(np.atleast_2d(np.asarray(xi, dtype=float)), self.indices,
-                            self.families)  # type: ignore[arg-type]
+                            self.families)
         return psi @ self.coefficients
 
 
@@ -125,7 +126,10 @@ def legendre_orthonormal(u: ArrayLike, degree: int) -> Array:
     return p * np.sqrt(2.0 * np.arange(degree + 1) + 1.0).reshape(-1, *([1] * u.ndim))
 
 
-Family = Literal["hermite", "legendre"]
+#: A polynomial family per input: Hermite in xi, Legendre in 2 Phi(xi) - 1 (a uniform
+#: marginal), or the orthonormal family of a bounded marginal in the input itself
+#: (:func:`risk.sensitivity.families.stieltjes_family`).
+Family = Literal["hermite", "legendre"] | Recurrence
 
 
 def multi_indices(d: int, degree: int, q: float = 1.0) -> IntArray:
@@ -185,8 +189,9 @@ def design_matrix(xi: Array, indices: IntArray,
     ----------
     xi : independent standard normals (n, d) [1]
     indices : multi-indices (m, d) [1]
-    families : per input, ``"hermite"`` (in xi_j, default) or ``"legendre"`` (in
-        ``2 Phi(xi_j) - 1``, for a uniform marginal)
+    families : per input, ``"hermite"`` (in xi_j, default), ``"legendre"`` (in
+        ``2 Phi(xi_j) - 1``, for a uniform marginal) or a :class:`Recurrence` (the orthonormal
+        polynomials of a bounded marginal in the input itself)
     """
     xi = np.asarray(xi, dtype=float)
     if xi.ndim != 2 or xi.shape[1] != indices.shape[1]:
@@ -194,10 +199,13 @@ def design_matrix(xi: Array, indices: IntArray,
     top = int(indices.max()) if indices.size else 0
     table = hermite_orthonormal(xi.T, top)  # (top+1, d, n)
     for j, fam in enumerate(families or ()):
-        if fam == "legendre":
+        if isinstance(fam, Recurrence):
+            table[:, j, :] = fam.evaluate(xi[:, j], top)
+        elif fam == "legendre":
             table[:, j, :] = legendre_orthonormal(2.0 * ndtr(xi[:, j]) - 1.0, top)
         elif fam != "hermite":
-            raise ValueError(f"family must be 'hermite' or 'legendre', got {fam!r}")
+            raise ValueError(f"family must be 'hermite', 'legendre' or a Recurrence, got "
+                             f"{fam!r}")
     psi = np.ones((xi.shape[0], indices.shape[0]))
     for j in range(indices.shape[1]):
         col = indices[:, j]

@@ -321,12 +321,14 @@ def _sensitivity(results: Mapping[str, Any]) -> dict[str, Any]:
             idx = [r for r in e.get("indices") or [] if _rank_value(r) is not None]
             top = max(idx, key=lambda r: float(_rank_value(r) or 0.0)) if idx else None
             loo = e.get("loo_error")
+            held = e.get("validation_error")
             by_stage.append({
                 "name": names.get(key, key),
                 "p_r": (_p(results, e.get("reservoir_pressure"))
                         if e.get("reservoir_pressure") is not None else "over depletion"),
                 "method": str(e.get("method") or "–"),
                 "loo": "–" if loo is None else f"{float(loo):.3f}",
+                "held_out": "–" if held is None else f"{float(held):.3f}",
                 "runs": f"{int(e['model_runs']):,}" if e.get("model_runs") is not None else "–",
                 "top": (f"{input_label(str(top['input']))} ({_rank_value(top):.2f}, "
                         f"{_rank_basis(top)})" if top else "–"),

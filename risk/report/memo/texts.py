@@ -55,8 +55,8 @@ CAPTIONS: Final[dict[str, str]] = {
         "depletion) of the capped critical drawdown (pore collapse: of the critical reservoir "
         "pressure); diamonds are Shapley effects where the surrogate gave them. With correlated "
         "inputs the first-order index is the full one (with everything correlated with the "
-        "input) and the total the independent one, so first can exceed total; where only "
-        "given-data first-order indices exist, no total is drawn."),
+        "input) and the total the independent one, so first can exceed total; where the "
+        "surrogate did not fit, the Shapley effects come from Monte Carlo on the model."),
     "tunnel_root": (
         "Effective-strength onset of the perforation tunnels: drawdown limit at the accepted risk "
         "per depletion stage with the tunnel in the far-field stress and at its root in the "
