@@ -52,6 +52,7 @@ __all__ = [
     "sorm_breitung",
     "subset_simulation",
     "cv_estimate",
+    "CV_OFFSETS",
 ]
 
 FloatArray = NDArray[np.float64]
@@ -176,7 +177,8 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         Starting point [-] (default the origin). Start elsewhere when ``grad g`` vanishes at
         the origin.
     tol : float
-        Convergence tolerance [-] on both ``|g(u)| / |g(u_start)|`` and the distance of ``u``
+        Convergence tolerance [-] on both ``|g(u)| / max(|g(u_start)|, |grad g(u_start)|)``
+        and the distance of ``u``
         from the line along ``alpha`` (``|u - (alpha . u) alpha|``).
     max_iter : int
         Iteration limit [-].
@@ -197,7 +199,11 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
     gc = _Counter(g, d)
     u = np.zeros(d) if u0 is None else np.array(u0, dtype=float).reshape(d)
     gu, grad = _value_and_gradient(gc, u, step)
-    scale = abs(gu) if gu != 0.0 and math.isfinite(gu) else 1.0
+    # |g| is judged against its start value or the change of g over one standard deviation,
+    # whichever is larger (a start on the surface has |g| ~ 0, which would never converge)
+    g0 = abs(gu) if math.isfinite(gu) else 0.0
+    gn0 = float(np.linalg.norm(grad)) if np.isfinite(grad).all() else 0.0
+    scale = max(g0, gn0) if max(g0, gn0) > 0.0 else 1.0
     converged, message, n_iter = False, f"no convergence in {max_iter} iterations", 0
     for n_iter in range(1, max_iter + 1):  # noqa: B007 (reported below)
         gnorm = float(np.linalg.norm(grad))
@@ -376,7 +382,7 @@ def importance_sampling(g: LimitState, design_point: NDArray[np.float64], n: int
 
 
 def compare(form_result: FormResult, pf_sorm: float, pf_is: float, cov_is: float, *,
-            z: float = 3.0, rel_tol: float = 0.1) -> str | None:
+            z: float = 3.0, rel_tol: float = 0.1, sorm_skipped: bool = False) -> str | None:
     """Diagnostic text when FORM, SORM and importance sampling disagree, else ``None``.
 
     Importance sampling is the reference: its band is ``pf_is (1 +- z cov_is)``. FORM and
@@ -395,11 +401,13 @@ def compare(form_result: FormResult, pf_sorm: float, pf_is: float, cov_is: float
         Width of the sampling band in standard errors [-].
     rel_tol : float
         Allowance for the approximation error of FORM and SORM [-].
+    sorm_skipped : bool
+        SORM was not run (its NaN is then no breakdown of the formula).
     """
     notes: list[str] = []
     if not form_result.converged:
         notes.append(f"FORM did not converge ({form_result.message}).")
-    if not math.isfinite(pf_sorm):
+    if not math.isfinite(pf_sorm) and not sorm_skipped:
         notes.append("SORM (Breitung) does not apply: a principal curvature makes "
                      "1 + beta kappa <= 0; the failure surface wraps around the origin and the "
                      "design point may not be unique.")
@@ -451,14 +459,34 @@ class ISResult:
     weights: FloatArray
 
 
-def cv_estimate(fail: NDArray[np.bool_], weights: FloatArray, lin_fail: NDArray[np.bool_],
-                p_lin: float) -> tuple[float, float]:
-    """Importance-sampling estimate with the FORM hyperplane as control variate.
+#: Offsets of the control hyperplanes ``alpha . v >= beta + delta`` from the FORM one [-]:
+#: together they fit P(failure | alpha . v), which a curved surface spreads over a range.
+CV_OFFSETS = (-1.0, -0.5, 0.0, 0.5, 1.0, 1.5)
 
-    ``pf = mean(w 1_g) - c (mean(w 1_L) - p_L)``, ``1_L`` the failure indicator of the
-    linearised limit state with exact probability ``p_L = Phi(-beta)``, ``c`` the regression
-    coefficient of ``w 1_g`` on ``w 1_L`` (Owen & Zhou 2000). Unbiased for ``c`` fixed; with ``c``
-    estimated the bias is O(1/n). Zero variance when ``g`` is linear.
+
+def cv_estimate(fail: NDArray[np.bool_], weights: FloatArray, t: FloatArray, beta: float,
+                offsets: tuple[float, ...] = CV_OFFSETS) -> tuple[float, float]:
+    """Importance-sampling estimate with hyperplanes parallel to FORM's as control variates.
+
+    ``pf = mean(w 1_g) - c . (mean(w Z) - mu)``, ``Z_k = 1[t >= beta + delta_k]`` with
+    ``t = alpha . v`` and exact means ``mu_k = Phi(-(beta + delta_k))``, ``c`` the least-squares
+    coefficients of ``w 1_g`` on ``w Z`` (control variates in importance sampling: Owen & Zhou
+    2000). Unbiased for fixed ``c``; with ``c`` estimated the bias is O(1/n). Zero variance
+    when ``g`` is linear (``1_g`` is the ``delta = 0`` control); on a curved surface the set of
+    offsets fits ``P(failure | t)`` and leaves only the spread across ``alpha``.
+
+    Parameters
+    ----------
+    fail : ndarray of bool (n,)
+        ``g(v) <= 0``.
+    weights : ndarray (n,)
+        ``phi(v) / q(v)`` [-].
+    t : ndarray (n,)
+        ``alpha . v`` [-].
+    beta : float
+        Offset of the FORM hyperplane [-].
+    offsets : tuple of float
+        ``delta_k`` [-].
 
     Returns
     -------
@@ -471,10 +499,16 @@ def cv_estimate(fail: NDArray[np.bool_], weights: FloatArray, lin_fail: NDArray[
     if n < 2:
         raise ValueError("need at least 2 samples")
     y = np.where(fail, weights, 0.0)
-    z = np.where(lin_fail, weights, 0.0)
-    vz = float(np.var(z))
-    c = float(np.mean((y - y.mean()) * (z - z.mean())) / vz) if vz > 0.0 else 0.0
-    r = y - c * (z - p_lin)
+    b = beta + np.asarray(offsets, dtype=float)
+    z = np.where(t[:, None] >= b[None, :], weights[:, None], 0.0) - sc.ndtr(-b)[None, :]
+    keep = np.ptp(z, axis=0) > 0.0
+    if keep.any() and n > int(keep.sum()) + 1:
+        zk = z[:, keep]
+        zc = zk - zk.mean(axis=0)
+        coef, *_ = np.linalg.lstsq(zc, y - y.mean(), rcond=None)
+        r = y - zk @ coef
+    else:
+        r = y
     pf = float(r.mean())
     if pf <= 0.0 or not math.isfinite(pf):
         return max(pf, 0.0) if math.isfinite(pf) else math.nan, math.inf
@@ -482,14 +516,14 @@ def cv_estimate(fail: NDArray[np.bool_], weights: FloatArray, lin_fail: NDArray[
 
 
 def importance_sampling_cv(g: LimitState, form_result: FormResult, rng: np.random.Generator,
-                           *, cov_target: float = 0.1, first: int = 100, batch: int = 50,
+                           *, cov_target: float = 0.1, first: int = 200, batch: int = 50,
                            max_evals: int = 4096) -> ISResult:
     """Importance sampling at the design point, with a control variate and a stopping rule.
 
     Draws ``v ~ N(c, I)`` in batches, ``c`` the FORM design point, weights
     ``phi(v)/phi(v - c)`` (Melchers & Beck 2018, ch. 3), and estimates ``pf`` by
-    :func:`cv_estimate` with the FORM hyperplane ``alpha . v >= beta`` as control variate (exact
-    mean ``Phi(-beta)``; Owen & Zhou 2000). Stops as soon as at least ``first`` samples are
+    :func:`cv_estimate` with hyperplanes parallel to FORM's as control variates (exact means
+    ``Phi(-beta - delta)``; Owen & Zhou 2000). Stops as soon as at least ``first`` samples are
     drawn and the estimated coefficient of variation is at most ``cov_target``, or at
     ``max_evals``. When half the budget is spent without reaching the target, the centre moves
     once to the weighted mean of the failing samples (a cross-entropy step for a Gaussian with
@@ -521,7 +555,6 @@ def importance_sampling_cv(g: LimitState, form_result: FormResult, rng: np.rando
     if not (np.isfinite(centre).all() and np.isfinite(alpha).all()):
         raise ValueError("the FORM result has no finite design point")
     beta = float(form_result.beta)
-    p_lin = float(sc.ndtr(-beta))
     gc = _Counter(g, centre.size)
     pts: list[FloatArray] = []
     vals: list[FloatArray] = []
@@ -536,7 +569,7 @@ def importance_sampling_cv(g: LimitState, form_result: FormResult, rng: np.rando
         vals.append(gc(v))
         wts.append(np.exp(-(v @ centre) + 0.5 * float(centre @ centre)))
         allv, allg, allw = np.vstack(pts), np.concatenate(vals), np.concatenate(wts)
-        pf, cov = cv_estimate(allg <= 0.0, allw, allv @ alpha >= beta, p_lin)
+        pf, cov = cv_estimate(allg <= 0.0, allw, allv @ alpha, beta)
         if cov <= cov_target:
             break
         if not moved and gc.evals >= max_evals // 2:

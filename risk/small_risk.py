@@ -62,7 +62,10 @@ __all__ = ["SMALL_RISK", "N_RESOLVE", "IS_COV_TARGET", "IS_MAX_RUNS", "form_star
 
 SMALL_RISK = 0.01  #: accepted risks at or below this get the reliability methods
 N_RESOLVE = 100  #: samples at or below the quantile for sampling to resolve it (10% error)
-IS_COV_TARGET = 0.07  #: stopping coefficient of variation of importance sampling
+IS_COV_TARGET = 0.08  #: stopping coefficient of variation of importance sampling
+#: SORM's Hessian takes 2 (d-1)^2 + 1 runs; above this it runs only when importance sampling
+#: misses its target (it is then the fallback estimate)
+SORM_MAX_RUNS = 150
 IS_MAX_RUNS = 4096  #: importance-sampling budget per mechanism and stage
 SUBSET_RUNS = 500  #: samples per level of the subset-simulation fallback
 FORM_TOL = 1e-3  #: FORM tolerance (importance sampling corrects the rest)
@@ -266,10 +269,12 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
         fr, level = fr2, new
     gnorm = float(np.linalg.norm(fr.gradient))
     g_level = limit_state(level)
-    so = sorm_breitung(g_level, fr)
     is_res = importance_sampling_cv(g_level, fr, rng, cov_target=IS_COV_TARGET,
                                     max_evals=IS_MAX_RUNS)
-    runs = {"form": form_runs, "sorm": so.n_evals, "is": is_res.n_evals}
+    sorm_cost = 2 * (d - 1) ** 2 + 1 if d > 1 else 0
+    sorm_skipped = is_res.converged and sorm_cost > SORM_MAX_RUNS
+    so = None if sorm_skipped else sorm_breitung(g_level, fr)
+    runs = {"form": form_runs, "sorm": 0 if so is None else so.n_evals, "is": is_res.n_evals}
     dc_is = is_res.values + level
     alpha = np.asarray(fr.alpha)
     proj = is_res.points @ alpha
@@ -278,10 +283,10 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
         return fr.beta - (dd - level) / gnorm
 
     def is_at(dd: float) -> tuple[float, float]:
-        b = beta_at(dd)
-        return cv_estimate(dc_is <= dd, is_res.weights, proj >= b, float(sc.ndtr(-b)))
+        return cv_estimate(dc_is <= dd, is_res.weights, proj, beta_at(dd))
 
-    psi = so.pf / fr.pf if math.isfinite(so.pf) and fr.pf > 0 else math.nan
+    psi = (so.pf / fr.pf if so is not None and math.isfinite(so.pf) and fr.pf > 0
+           else math.nan)
     if solve:
         lim_form = min(max(level - (beta_t - fr.beta) * gnorm, 0.0), p_r)
         lim_sorm = (min(max(level - (float(-sc.ndtri(min(accepted_risk / psi, 0.5)))
@@ -316,7 +321,10 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
         f"Importance sampling stopped at its budget of {IS_MAX_RUNS} runs with c.o.v. "
         f"{is_res.cov:.2g} above the target {IS_COV_TARGET}: the failure domain may have "
         "several design points."]
-    cmp = compare(fr_at, sorm_p, is_p, is_cov)
+    cmp = compare(fr_at, sorm_p, is_p, is_cov, sorm_skipped=sorm_skipped)
+    if sorm_skipped:
+        notes.append(f"SORM not run: its Hessian would take {sorm_cost} model runs and "
+                     "importance sampling reached its target.")
     if cmp:
         notes.append(cmp)
     if resolved:
