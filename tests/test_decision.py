@@ -180,3 +180,24 @@ def test_equal_directions_tie_and_more_shots_win():
         for sub in itertools.combinations(range(4), r):
             assert np.all(by_dir["effective_strength_onset"][:, list(sub), :].min(axis=1)
                           >= by_dir["effective_strength_onset"].min(axis=1))
+
+
+def test_solved_limits_replace_the_sampled_quantile_where_given():
+    # At a small accepted risk the sampled quantile is replaced by the limit the reliability
+    # methods solved (risk.small_risk), capped at p_r, its lower bound kept at or below it and
+    # the method named; stages without a solved limit keep the sampled quantile (the rule of
+    # the module docstring, checked against the sampled answer computed independently here).
+    by_dir = synthetic()
+    stages = [30.0, 27.0, 24.0]
+    base = sand_free(by_dir, stages, RISK)
+    res = sand_free(by_dir, stages, RISK, solved={0: (1.25, 1.5, "importance sampling"),
+                                                  1: (99.0, None, "SORM")},
+                    solved_own={("tunnel_collapse", 0): 0.5})
+    assert base is not None and res is not None
+    assert (res.stages[0].limit, res.stages[0].lower, res.stages[0].method) == (
+        1.25, 1.25, "importance sampling")
+    assert (res.stages[1].limit, res.stages[1].lower, res.stages[1].method) == (27.0, None, "SORM")
+    assert res.stages[2].limit == base.stages[2].limit and res.stages[2].method == "sampling"
+    assert res.stages[0].by_mechanism["tunnel_collapse"] == 0.5
+    assert res.stages[0].governing == "tunnel_collapse"
+    assert all(r.method == "sampling" for r in base.stages)
