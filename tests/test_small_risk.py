@@ -244,3 +244,34 @@ def test_curved_reference_is_right() -> None:
     assert _curved_pf(mu, s, 0.0, dd) == pytest.approx(stats.norm.cdf((dd - mu) / s), rel=1e-8)
     assert optimize.brentq(lambda x: _curved_pf(mu, s, 0.0, x) - 1e-3, 0.0, 12.0) == (
         pytest.approx(mu + s * stats.norm.ppf(1e-3), rel=1e-6))
+
+
+def test_form_and_sorm_agree_with_openturns_from_the_robust_start() -> None:
+    # Curved response capped at p_r = 10 below its median value 12: the median point lies on
+    # the "never" plateau. OpenTURNS (test-only reference: ot.FORM and ot.SORM with the
+    # Abdo-Rackwitz optimiser) started at our first start finds the same design point; its
+    # Breitung probability matches ours.
+    ot = pytest.importorskip("openturns")
+    from risk.reliability import sorm_breitung
+
+    mu, s, k, dd, p_r = 12.0, 3.0, -0.2, 2.7, 10.0
+    resp = _curved(mu, s, k, p_r)
+
+    def g(u: np.ndarray) -> np.ndarray:
+        return resp(u) - dd
+
+    xi = np.random.default_rng(0).standard_normal((20_000, D))
+    starts = form_starts(xi, resp(xi), drawdown=dd, reservoir_pressure=p_r)
+    ours, _, _ = robust_form(g, D, starts)
+    assert ours is not None
+    assert "zero gradient" in form(g, D).message  # the median point is on the plateau
+    f = ot.PythonFunction(D, 1, func_sample=lambda x: [[v] for v in g(np.asarray(x))])
+    event = ot.ThresholdEvent(ot.CompositeRandomVector(f, ot.RandomVector(ot.Normal(D))),
+                              ot.LessOrEqual(), 0.0)
+    fo = ot.FORM(ot.AbdoRackwitz(), event, ot.Point(starts[0]))
+    fo.run()
+    assert ours.beta == pytest.approx(fo.getResult().getHasoferReliabilityIndex(), abs=2e-3)
+    so = ot.SORM(ot.AbdoRackwitz(), event, ot.Point(starts[0]))
+    so.run()
+    assert sorm_breitung(g, ours).pf == pytest.approx(
+        so.getResult().getEventProbabilityBreitung(), rel=1e-2)
