@@ -27,7 +27,7 @@ import time
 import numpy as np
 from scipy import integrate, optimize, stats
 
-from risk.reliability import importance_sampling_cv
+from risk.rare_events import importance_sampling_cv
 from risk.small_risk import (
     IS_COV_TARGET,
     IS_MAX_RUNS,

@@ -14,7 +14,7 @@ behind the copula (``g <= 0``: failure at drawdown D):
   used as starts, and the next start is tried when FORM does not converge;
 - SORM (Breitung 1984) from the curvatures at the design point;
 - importance sampling at the design point with the FORM hyperplane as control variate and a
-  stopping rule on its coefficient of variation (:func:`risk.reliability.importance_sampling_cv`);
+  stopping rule on its coefficient of variation (:func:`risk.rare_events.importance_sampling_cv`);
 - subset simulation (Au & Beck 2001) where FORM finds no design point from any start.
 
 **Which limit is reported.** The sampled quantile stands when sampling resolves it: at least
@@ -29,8 +29,8 @@ sampling when it reached its coefficient-of-variation target, else SORM, else FO
 
 References
 ----------
-See :mod:`risk.reliability` (Hasofer & Lind 1974; Zhang & Der Kiureghian 1995; Breitung 1984;
-Owen & Zhou 2000; Au & Beck 2001; Rubinstein & Kroese 2004).
+See :mod:`risk.reliability` (Hasofer & Lind 1974; Zhang & Der Kiureghian 1995; Breitung 1984)
+and :mod:`risk.rare_events` (Owen & Zhou 2000; Au & Beck 2001; Rubinstein & Kroese 2004).
 """
 
 from __future__ import annotations
@@ -44,15 +44,8 @@ from numpy.typing import NDArray
 from scipy import special as sc
 from scipy import stats
 
-from risk.reliability import (
-    FormResult,
-    compare,
-    cv_estimate,
-    form,
-    importance_sampling_cv,
-    sorm_breitung,
-    subset_simulation,
-)
+from risk.rare_events import cv_estimate, importance_sampling_cv, subset_simulation
+from risk.reliability import FormResult, compare, form, sorm_breitung
 
 Array = NDArray[np.float64]
 Response = Callable[[Array], Array]

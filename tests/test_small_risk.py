@@ -21,7 +21,8 @@ import numpy as np
 import pytest
 from scipy import integrate, optimize, stats
 
-from risk.reliability import form, importance_sampling_cv, subset_simulation
+from risk.rare_events import importance_sampling_cv, subset_simulation
+from risk.reliability import form
 from risk.small_risk import N_RESOLVE, form_starts, robust_form, small_risk_limit
 
 SEEDS = range(40)
