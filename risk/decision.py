@@ -177,7 +177,8 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
     solved : mapping stage -> (limit, lower, method), optional
         Limits of the sand drawdown solved by a reliability method where sampling cannot
         resolve the quantile at a small accepted risk (:mod:`risk.small_risk`) [MPa]; they
-        replace the sampled quantile (and its lower bound) at those stages.
+        replace the sampled quantile (and its lower bound) at those stages, never above any
+        mechanism's own limit.
     solved_own : mapping (mechanism, stage) -> limit, optional
         The same for each mechanism's own limit [MPa].
     """
@@ -199,6 +200,11 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
         if solved_own:
             own.update({key: min(solved_own[(key, k)], p_r) for key in keys
                         if (key, k) in solved_own})
+        if method != "sampling":
+            # P(min(D_1, D_2) <= D) >= P(D_i <= D): the combined limit is never above a
+            # mechanism's own (an estimate around one design point can miss the other's region)
+            lim = min([lim, *own.values()])
+            low = None if low is None else min(low, lim)
         governing = min(keys, key=lambda key: (_key(own[key]), keys.index(key)))
         p0, lo0, hi0 = probability.failure_curve(col, [0.0])
         rows.append(StageLimit(p_r, lim, low, governing, own, float(p0[0]),

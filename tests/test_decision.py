@@ -190,13 +190,18 @@ def test_solved_limits_replace_the_sampled_quantile_where_given():
     by_dir = synthetic()
     stages = [30.0, 27.0, 24.0]
     base = sand_free(by_dir, stages, RISK)
-    res = sand_free(by_dir, stages, RISK, solved={0: (1.25, 1.5, "importance sampling"),
+    res = sand_free(by_dir, stages, RISK, solved={0: (0.25, 1.5, "importance sampling"),
                                                   1: (99.0, None, "SORM")},
                     solved_own={("tunnel_collapse", 0): 0.5})
     assert base is not None and res is not None
     assert (res.stages[0].limit, res.stages[0].lower, res.stages[0].method) == (
-        1.25, 1.25, "importance sampling")
-    assert (res.stages[1].limit, res.stages[1].lower, res.stages[1].method) == (27.0, None, "SORM")
+        0.25, 0.25, "importance sampling")
+    # never above a mechanism's own limit: P(min(D_1, D_2) <= D) >= P(D_i <= D)
+    assert res.stages[1].limit == min(27.0, *res.stages[1].by_mechanism.values())
+    assert (res.stages[1].lower, res.stages[1].method) == (None, "SORM")
+    res2 = sand_free(by_dir, stages, RISK, solved={0: (9.0, None, "FORM")},
+                     solved_own={("tunnel_collapse", 0): 0.5})
+    assert res2 is not None and res2.stages[0].limit == 0.5
     assert res.stages[2].limit == base.stages[2].limit and res.stages[2].method == "sampling"
     assert res.stages[0].by_mechanism["tunnel_collapse"] == 0.5
     assert res.stages[0].governing == "tunnel_collapse"
