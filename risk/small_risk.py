@@ -327,8 +327,9 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
             notes.append(f"Sampling ({samp_p:.3g}) and importance sampling ({is_p:.3g}) differ "
                          "by more than three combined standard errors.")
     if solve and limit <= 0.0:
-        notes.append(f"P(failure with no drawdown) is {is_at(0.0)[0]:.3g} by importance "
-                     f"sampling, at or above the accepted risk: the limit is zero.")
+        p0 = {"importance sampling": is_p, "SORM": sorm_p}.get(method, form_p)
+        notes.append(f"P(failure with no drawdown) is {p0:.3g} by {method}, at or above the "
+                     "accepted risk: the limit is zero.")
     return {
         "drawdown": at, "sampling_p": samp_p, "beta": b_at, "form_p": form_p,
         "sorm_p": sorm_p, "is_p": is_p, "is_cov": is_cov, "converged": fr.converged,
