@@ -134,10 +134,16 @@ class _Counter:
 
 
 def _value_and_gradient(gc: _Counter, u: FloatArray, step: float,
-                        g_known: float | None = None) -> tuple[float, FloatArray]:
-    """g(u) and its central-difference gradient in one vectorised call (2 d + 1 rows, or 2 d
-    when ``g(u)`` is already known)."""
+                        g_known: float | None = None, *, forward: bool = False
+                        ) -> tuple[float, FloatArray]:
+    """g(u) and its finite-difference gradient in one vectorised call: central (2 d + 1 rows,
+    or 2 d when ``g(u)`` is already known) or forward (d + 1, or d)."""
     d = u.size
+    if forward:
+        pts = np.repeat(u[None, :], d + 1, axis=0)
+        pts[1:] += step * np.eye(d)
+        vals = gc(pts) if g_known is None else np.concatenate([[g_known], gc(pts[1:])])
+        return float(vals[0]), (vals[1:] - vals[0]) / step
     pts = np.repeat(u[None, :], 2 * d + 1, axis=0)
     pts[1:d + 1] += step * np.eye(d)
     pts[d + 1:] -= step * np.eye(d)
@@ -149,7 +155,7 @@ def _value_and_gradient(gc: _Counter, u: FloatArray, step: float,
 
 
 def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: float = 1e-6,
-         max_iter: int = 100, step: float = 1e-3) -> FormResult:
+         max_iter: int = 100, step: float = 1e-3, forward: bool = False) -> FormResult:
     """First-order reliability method with the improved HL-RF iteration (iHL-RF).
 
     Finds the design point ``u*`` (the point of ``g = 0`` closest to the origin) by the HL-RF
@@ -174,7 +180,9 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
     max_iter : int
         Iteration limit [-].
     step : float
-        Central finite-difference step [-] (truncation error ~ step^2).
+        Finite-difference step [-] (truncation error ~ step^2 central, ~ step forward).
+    forward : bool
+        Forward differences (d + 1 model runs per gradient instead of 2 d + 1).
 
     Returns
     -------
@@ -189,7 +197,7 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         raise ValueError("d must be >= 1")
     gc = _Counter(g, d)
     u = np.zeros(d) if u0 is None else np.array(u0, dtype=float).reshape(d)
-    gu, grad = _value_and_gradient(gc, u, step)
+    gu, grad = _value_and_gradient(gc, u, step, forward=forward)
     # |g| is judged against its start value or the change of g over one standard deviation,
     # whichever is larger (a start on the surface has |g| ~ 0, which would never converge)
     g0 = abs(gu) if math.isfinite(gu) else 0.0
@@ -226,7 +234,7 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         if not accepted:
             message = "line search failed (g may be discontinuous or noisy)"
             break
-        g_new, grad_new = _value_and_gradient(gc, trial, step, g_trial)
+        g_new, grad_new = _value_and_gradient(gc, trial, step, g_trial, forward=forward)
         # A step onto a plateau of g (zero gradient, e.g. "fails with no drawdown") leaves
         # HL-RF without a direction: step back towards u until the gradient returns.
         for _ in range(12):
@@ -234,7 +242,7 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
                 break
             lam *= 0.5
             trial = u + lam * direction
-            g_new, grad_new = _value_and_gradient(gc, trial, step)
+            g_new, grad_new = _value_and_gradient(gc, trial, step, forward=forward)
         u, gu, grad = trial, g_new, grad_new
     gnorm = float(np.linalg.norm(grad))
     alpha = -grad / gnorm if gnorm > 0 and np.isfinite(grad).all() else np.full(d, np.nan)

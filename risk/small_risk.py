@@ -62,10 +62,11 @@ SORM_MAX_RUNS = 150
 IS_MAX_RUNS = 4096  #: importance-sampling budget per mechanism and stage
 SUBSET_RUNS = 500  #: samples per level of the subset-simulation fallback
 FORM_TOL = 1e-3  #: FORM tolerance (importance sampling corrects the rest)
+FORM_MAX_ITER = 40  #: FORM iterations per start (forward differences: d + 1 runs each)
 D_FLOOR = 0.002  #: FORM levels at or above this share of p_r
 _MAX_STARTS = 3
 _NEAR = 20  # samples nearest the surface searched for the most probable one
-_BETA_STEP_TOL = 0.25  # |beta - beta_target| above this: FORM again at the Newton point
+_BETA_STEP_TOL = 0.5  # |beta - beta_target| above this: FORM again at the Newton point
 
 
 def sampling_resolves(n_samples: int, accepted_risk: float) -> bool:
@@ -132,7 +133,7 @@ def robust_form(g: Callable[[Array], Array], d: int, starts: list[Array]
     """
     runs, tried = 0, 0
     for u0 in starts[:_MAX_STARTS]:
-        fr = form(g, d, u0=u0, tol=FORM_TOL)
+        fr = form(g, d, u0=u0, tol=FORM_TOL, forward=True, max_iter=FORM_MAX_ITER)
         runs += fr.n_evals
         tried += 1
         if _ok(fr):
@@ -261,6 +262,16 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
             break
         fr, level = fr2, new
     gnorm = float(np.linalg.norm(fr.gradient))
+    if solve and abs(fr.beta - beta_t) > 1e-9:
+        # the last small step without FORM: shift the design point along alpha to the Newton
+        # point (exact for a linear limit state; importance sampling corrects the rest)
+        new = min(max(level - (beta_t - fr.beta) * gnorm, d_min), p_r * (1.0 - 1e-9))
+        shift = (level - new) / gnorm
+        fr = FormResult(beta=fr.beta + shift, design_point=fr.design_point + shift * fr.alpha,
+                        alpha=fr.alpha, pf=float(sc.ndtr(-(fr.beta + shift))),
+                        gradient=fr.gradient, n_evals=fr.n_evals, n_calls=fr.n_calls,
+                        n_iter=fr.n_iter, converged=fr.converged, message=fr.message)
+        level = new
     g_level = limit_state(level)
     is_res = importance_sampling_cv(g_level, fr, rng, cov_target=IS_COV_TARGET,
                                     max_evals=IS_MAX_RUNS)
