@@ -30,6 +30,7 @@ from scipy import integrate, optimize, stats
 from risk.rare_events import importance_sampling_cv
 from risk.small_risk import (
     IS_COV_TARGET,
+    IS_FIRST,
     IS_MAX_RUNS,
     form_starts,
     robust_form,
@@ -67,7 +68,7 @@ def main() -> None:
     ap.add_argument("--r12", action="store_true")
     args = ap.parse_args()
     print(f"{args.seeds} seeds, d = {D}, accepted risk {RISK:g}, sampling run {N_RUN}, "
-          f"IS c.o.v. target {IS_COV_TARGET}, budget {IS_MAX_RUNS}")
+          f"IS c.o.v. target {IS_COV_TARGET}, first batch {IS_FIRST}, budget {IS_MAX_RUNS}")
     print(f"{'case':27s} {'SORM/FORM':>9s} {'runs':>6s} {'(FORM/SORM/IS)':>16s} "
           f"{'RMSE at limit':>13s} {'RMSE of P':>10s} {'goal':>6s}")
     for name, k, goal in CASES:
@@ -94,7 +95,8 @@ def main() -> None:
                                                      reservoir_pressure=P_R))
             if fr is not None:
                 est = importance_sampling_cv(g, fr, np.random.default_rng([seed, 2]),
-                                             cov_target=IS_COV_TARGET, max_evals=IS_MAX_RUNS)
+                                             cov_target=IS_COV_TARGET, first=IS_FIRST,
+                                             max_evals=IS_MAX_RUNS)
                 p_errs.append(est.pf / RISK - 1.0)
         rmse = math.sqrt(float(np.mean(np.square(errs))))
         p_rmse = math.sqrt(float(np.mean(np.square(p_errs)))) if p_errs else math.nan

@@ -55,11 +55,14 @@ __all__ = ["SMALL_RISK", "N_RESOLVE", "IS_COV_TARGET", "IS_MAX_RUNS", "form_star
 
 SMALL_RISK = 0.01  #: accepted risks at or below this get the reliability methods
 N_RESOLVE = 100  #: samples at or below the quantile for sampling to resolve it (10% error)
-IS_COV_TARGET = 0.08  #: stopping coefficient of variation of importance sampling
+IS_COV_TARGET = 0.07  #: stopping coefficient of variation of importance sampling
 #: SORM's Hessian takes 2 (d-1)^2 + 1 runs; above this it runs only when importance sampling
 #: misses its target (it is then the fallback estimate)
 SORM_MAX_RUNS = 150
 IS_MAX_RUNS = 4096  #: importance-sampling budget per mechanism and stage
+#: first batch of importance sampling: smaller ones stopped on a luckily low c.o.v. estimate
+#: (measured relative RMSE 0.089 at 200, 0.082 at 300, 0.075 at 400 for a target of 0.07)
+IS_FIRST = 300
 SUBSET_RUNS = 500  #: samples per level of the subset-simulation fallback
 FORM_TOL = 1e-3  #: FORM tolerance (importance sampling corrects the rest)
 FORM_MAX_ITER = 40  #: FORM iterations per start (forward differences: d + 1 runs each)
@@ -274,7 +277,7 @@ def small_risk_limit(response: Response, names: tuple[str, ...], *, reservoir_pr
         level = new
     g_level = limit_state(level)
     is_res = importance_sampling_cv(g_level, fr, rng, cov_target=IS_COV_TARGET,
-                                    max_evals=IS_MAX_RUNS)
+                                    first=IS_FIRST, max_evals=IS_MAX_RUNS)
     sorm_cost = 2 * (d - 1) ** 2 + 1 if d > 1 else 0
     sorm_skipped = is_res.converged and sorm_cost > SORM_MAX_RUNS
     so = None if sorm_skipped else sorm_breitung(g_level, fr)
