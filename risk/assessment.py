@@ -34,7 +34,7 @@ from risk.limit_states import (
     physical_inputs,
 )
 from risk.scenario import Scenario
-from risk.small_risk import SMALL_RISK, reliability_at_limit
+from risk.small_risk import SMALL_RISK, sampling_resolves, small_risk_limit
 from risk.uncertainty import UnitSampler, build_joint, input_columns, rng_stream, to_inputs
 
 Array = NDArray[np.float64]
@@ -101,11 +101,22 @@ class Assessment:
     provenance: Mapping[str, object] = field(default_factory=dict)
 
 
-def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
+def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array],
+               small_risk: Mapping[tuple[str, int], Mapping[str, Any]] | None = None
                ) -> tuple[decision.SandFree | None, decision.PhasingChoice | None]:
-    """The sand-free limit and (perforated wells) the life-of-well phasing of one completion."""
+    """The sand-free limit and (perforated wells) the life-of-well phasing of one completion.
+    ``small_risk``: the reliability results of the scenario's own completion (the sand-free
+    limit takes the solved limit where sampling cannot resolve the quantile)."""
+    solved = None
+    if small_risk:
+        solved = {k: (float(r["limit"]), r.get("limit_lower"), str(r["limit_method"]))
+                  for (key, k), r in small_risk.items()
+                  if key == SAND_FREE_KEY and r.get("limit_method") != "sampling"}
+        own = {(key, k): float(r["limit"]) for (key, k), r in small_risk.items()
+               if key in decision.SAND_PRODUCTION and r.get("limit_method") != "sampling"}
     sand = decision.sand_free(by_direction, scenario.reservoir_pressure, scenario.accepted_risk,
-                              scenario.operating_points)
+                              scenario.operating_points, solved=solved or None,
+                              solved_own=(own or None) if small_risk else None)
     phasing = None
     if well.completion == "perforated" and sand is not None:
         phasing = decision.choose_phasing(
@@ -113,6 +124,56 @@ def _decisions(scenario: Scenario, well: Any, by_direction: Mapping[str, Array]
             scenario.reservoir_pressure, scenario.accepted_risk, scenario.operating_points,
             phasings=scenario.phasings)
     return sand, phasing
+
+
+SAND_FREE_KEY: Final = "sand_free"  #: reliability key of the combined sand-production drawdown
+
+
+def _reliability(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
+                 xi_head: Array, n: int, seed_: int, step: Callable[[str], None] | None
+                 ) -> dict[tuple[str, int], Mapping[str, Any]]:
+    """The small-risk methods (risk.small_risk) per mechanism and stage, and for the combined
+    sand-production drawdown of the sand-free limit where sampling cannot resolve it."""
+    from risk.uncertainty import normals_to_inputs
+
+    out: dict[tuple[str, int], Mapping[str, Any]] = {}
+    risk_ = scenario.accepted_risk
+    if risk_ > SMALL_RISK or joint.d == 0:
+        return out
+    if step is not None:
+        step("FORM, SORM and importance sampling at the limits")
+    head = xi_head.shape[0]
+    sand_keys = tuple(k for k in decision.SAND_PRODUCTION if k in mechanisms)
+    targets: list[tuple[str, tuple[str, ...]]] = [(k, (k,)) for k in mechanisms]
+    if len(sand_keys) > 1 and not sampling_resolves(n, risk_):
+        targets.append((SAND_FREE_KEY, sand_keys))
+    for t, (key, members) in enumerate(targets):
+        for stage, p_r in enumerate(scenario.reservoir_pressure):
+            dc = (mechanisms[key].well[:, stage] if key in mechanisms else decision.sand_drawdown(
+                {k: mechanisms[k].by_direction for k in members}, members)[:, stage])
+            limit, _ = probability.drawdown_limit(dc, risk_)
+            if not math.isfinite(limit):
+                continue
+
+            def response(xi: Array, members: tuple[str, ...] = members,
+                         stage: int = stage) -> Array:
+                cols = input_columns(joint, normals_to_inputs(joint, xi))
+                res = evaluate(cols, scenario, only=set(members))
+                return np.min([res[k].well[:, stage] for k in members], axis=0)
+
+            def fraction(d: float, dc: Array = dc) -> float:
+                return float(np.mean(dc <= d))
+
+            out[(key, stage)] = small_risk_limit(
+                response, tuple(joint.names), reservoir_pressure=p_r, accepted_risk=risk_,
+                sampled_limit=min(limit, p_r), n_samples=n, sampled_fraction=fraction,
+                xi_head=xi_head, dc_head=np.asarray(dc[:head], dtype=float),
+                rng=rng_stream(seed_, "reliability", stage, t))
+    if len(sand_keys) == 1:  # one sand mechanism: the sand-free drawdown is its own
+        for stage in range(len(scenario.reservoir_pressure)):
+            if (sand_keys[0], stage) in out:
+                out[(SAND_FREE_KEY, stage)] = out[(sand_keys[0], stage)]
+    return out
 
 
 SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
@@ -305,7 +366,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     deterministic = joint.d == 0
     n = 1 if deterministic else n_req
     rng = np.random.default_rng(seed_)
-    sampler = UnitSampler(scenario.sampling, joint.d, rng)
+    sampler = UnitSampler(scenario.sampling, joint.d, rng, total=n)
     n_dir = len(scenario.well.shot_angles) if scenario.well.completion == "perforated" else 1
     n_stage = len(scenario.reservoir_pressure)
     dtype = np.float64 if n <= LARGE_RUN else np.float32
@@ -378,35 +439,15 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                                        parts_all.get(key, {})) for key in dc_all}
     comp_all = (CompactionResult(far_all, wall_all, p0_all, mean_far_all, wall_dd_all)
                 if with_compaction else None)
-    reliability: dict[tuple[str, int], Mapping[str, Any]] = {}
-    if scenario.accepted_risk <= SMALL_RISK and joint.d > 0:
-        if step is not None:
-            step("FORM, SORM and importance sampling at the limits")
-        for key, mech in mechanisms.items():
-            for stage, p_r in enumerate(scenario.reservoir_pressure):
-                dc = mech.well[:, stage]
-                limit, _ = probability.drawdown_limit(dc, scenario.accepted_risk)
-                if not math.isfinite(limit):
-                    continue
-
-                def model(cols: dict[str, Array], key: str = key, stage: int = stage) -> Array:
-                    return evaluate(cols, scenario, only={key})[key].well[:, stage]
-
-                # FORM starts from the most probable failing sample of the run
-                fails = np.nonzero(dc[:head] <= limit)[0]
-                start = (xi_head[fails[np.argmin(np.sum(xi_head[fails] ** 2, axis=1))]]
-                         if fails.size else None)
-                reliability[(key, stage)] = reliability_at_limit(
-                    model, joint, reservoir_pressure=p_r, drawdown=min(limit, p_r),
-                    sampling_p=float(np.mean(dc <= limit)), n_samples=n,
-                    rng=rng_stream(seed_, "reliability", stage), start=start)
+    reliability = _reliability(scenario, joint, mechanisms, xi_head, n, seed_, step)
     if step is not None:
         step("sensitivity indices")
     sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     sand, phasing = _decisions(scenario, scenario.well,
-                               {k: m.by_direction for k, m in mechanisms.items()})
+                               {k: m.by_direction for k, m in mechanisms.items()},
+                               small_risk=reliability)
     option_results = tuple(
         OptionResult(o.name, o.well, *_decisions(scenario, o.well, dc))
         for o, dc in zip(options, option_dc, strict=True))

@@ -62,6 +62,9 @@ class StageLimit:
     by_mechanism: Mapping[str, float]  # each mechanism's own limit, capped at p_r
     p_no_drawdown: float               # P(sand with no drawdown at all)
     p_no_drawdown_band: tuple[float, float]  # its 95% Wilson band
+    #: how the limit was found: "sampling" (the sampled quantile) or the reliability method
+    #: that solved P(sand at D) = accepted risk ("importance sampling", "SORM", "FORM")
+    method: str = "sampling"
 
 
 @dataclass(frozen=True)
@@ -153,7 +156,9 @@ def zero_limit_pressure(stages: Sequence[float], limits: Sequence[float],
 
 def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accepted_risk: float,
               operating_points: Sequence[tuple[float, float]] = (),
-              directions: Sequence[int] | None = None) -> SandFree | None:
+              directions: Sequence[int] | None = None,
+              solved: Mapping[int, tuple[float, float | None, str]] | None = None,
+              solved_own: Mapping[tuple[str, int], float] | None = None) -> SandFree | None:
     """The sand-free drawdown limit at every stage (module docstring), or None when the
     scenario enables no sand-production mechanism.
 
@@ -169,6 +174,13 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
         Planned reservoir and flowing wall pressures [MPa].
     directions : sequence of int, optional
         Shot directions of the completion (indices; all when None).
+    solved : mapping stage -> (limit, lower, method), optional
+        Limits of the sand drawdown solved by a reliability method where sampling cannot
+        resolve the quantile at a small accepted risk (:mod:`risk.small_risk`) [MPa]; they
+        replace the sampled quantile (and its lower bound) at those stages, never above any
+        mechanism's own limit.
+    solved_own : mapping (mechanism, stage) -> limit, optional
+        The same for each mechanism's own limit [MPa].
     """
     keys = tuple(k for k in SAND_PRODUCTION if k in by_direction)
     if not keys:
@@ -178,12 +190,25 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
     for k, p_r in enumerate(stages):
         col = np.sort(sand[:, k])
         lim, low = _limit(col, accepted_risk, p_r)
+        method = "sampling"
+        if solved is not None and k in solved:
+            lim, low, method = solved[k]
+            lim = min(lim, p_r)
+            low = None if low is None else min(low, lim)
         own = {key: _limit(sand_drawdown(by_direction, (key,), directions)[:, k],
                            accepted_risk, p_r)[0] for key in keys}
+        if solved_own:
+            own.update({key: min(solved_own[(key, k)], p_r) for key in keys
+                        if (key, k) in solved_own})
+        if method != "sampling":
+            # P(min(D_1, D_2) <= D) >= P(D_i <= D): the combined limit is never above a
+            # mechanism's own (an estimate around one design point can miss the other's region)
+            lim = min([lim, *own.values()])
+            low = None if low is None else min(low, lim)
         governing = min(keys, key=lambda key: (_key(own[key]), keys.index(key)))
         p0, lo0, hi0 = probability.failure_curve(col, [0.0])
         rows.append(StageLimit(p_r, lim, low, governing, own, float(p0[0]),
-                               (float(lo0[0]), float(hi0[0]))))
+                               (float(lo0[0]), float(hi0[0])), method))
     zero = zero_limit_pressure(list(stages), [r.limit for r in rows],
                                [r.p_no_drawdown for r in rows], accepted_risk)
     points = []

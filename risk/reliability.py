@@ -21,6 +21,9 @@ Breitung, K. (1984). Asymptotic approximations for multinormal integrals. J. Eng
 110(3), 357–366.
 Melchers, R.E. & Beck, A.T. (2018). Structural Reliability Analysis and Prediction, 3rd ed.,
 Wiley: ch. 5 (FORM/SORM) and ch. 3 (importance sampling) (from memory).
+
+Importance sampling with control variates and a stopping rule, and subset simulation:
+:mod:`risk.rare_events`.
 """
 
 from __future__ import annotations
@@ -131,10 +134,16 @@ class _Counter:
 
 
 def _value_and_gradient(gc: _Counter, u: FloatArray, step: float,
-                        g_known: float | None = None) -> tuple[float, FloatArray]:
-    """g(u) and its central-difference gradient in one vectorised call (2 d + 1 rows, or 2 d
-    when ``g(u)`` is already known)."""
+                        g_known: float | None = None, *, forward: bool = False
+                        ) -> tuple[float, FloatArray]:
+    """g(u) and its finite-difference gradient in one vectorised call: central (2 d + 1 rows,
+    or 2 d when ``g(u)`` is already known) or forward (d + 1, or d)."""
     d = u.size
+    if forward:
+        pts = np.repeat(u[None, :], d + 1, axis=0)
+        pts[1:] += step * np.eye(d)
+        vals = gc(pts) if g_known is None else np.concatenate([[g_known], gc(pts[1:])])
+        return float(vals[0]), (vals[1:] - vals[0]) / step
     pts = np.repeat(u[None, :], 2 * d + 1, axis=0)
     pts[1:d + 1] += step * np.eye(d)
     pts[d + 1:] -= step * np.eye(d)
@@ -146,7 +155,7 @@ def _value_and_gradient(gc: _Counter, u: FloatArray, step: float,
 
 
 def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: float = 1e-6,
-         max_iter: int = 100, step: float = 1e-3) -> FormResult:
+         max_iter: int = 100, step: float = 1e-3, forward: bool = False) -> FormResult:
     """First-order reliability method with the improved HL-RF iteration (iHL-RF).
 
     Finds the design point ``u*`` (the point of ``g = 0`` closest to the origin) by the HL-RF
@@ -165,12 +174,15 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         Starting point [-] (default the origin). Start elsewhere when ``grad g`` vanishes at
         the origin.
     tol : float
-        Convergence tolerance [-] on both ``|g(u)| / |g(u_start)|`` and the distance of ``u``
+        Convergence tolerance [-] on both ``|g(u)| / max(|g(u_start)|, |grad g(u_start)|)``
+        and the distance of ``u``
         from the line along ``alpha`` (``|u - (alpha . u) alpha|``).
     max_iter : int
         Iteration limit [-].
     step : float
-        Central finite-difference step [-] (truncation error ~ step^2).
+        Finite-difference step [-] (truncation error ~ step^2 central, ~ step forward).
+    forward : bool
+        Forward differences (d + 1 model runs per gradient instead of 2 d + 1).
 
     Returns
     -------
@@ -185,8 +197,12 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         raise ValueError("d must be >= 1")
     gc = _Counter(g, d)
     u = np.zeros(d) if u0 is None else np.array(u0, dtype=float).reshape(d)
-    gu, grad = _value_and_gradient(gc, u, step)
-    scale = abs(gu) if gu != 0.0 and math.isfinite(gu) else 1.0
+    gu, grad = _value_and_gradient(gc, u, step, forward=forward)
+    # |g| is judged against its start value or the change of g over one standard deviation,
+    # whichever is larger (a start on the surface has |g| ~ 0, which would never converge)
+    g0 = abs(gu) if math.isfinite(gu) else 0.0
+    gn0 = float(np.linalg.norm(grad)) if np.isfinite(grad).all() else 0.0
+    scale = max(g0, gn0) if max(g0, gn0) > 0.0 else 1.0
     converged, message, n_iter = False, f"no convergence in {max_iter} iterations", 0
     for n_iter in range(1, max_iter + 1):  # noqa: B007 (reported below)
         gnorm = float(np.linalg.norm(grad))
@@ -218,8 +234,16 @@ def form(g: LimitState, d: int, *, u0: NDArray[np.float64] | None = None, tol: f
         if not accepted:
             message = "line search failed (g may be discontinuous or noisy)"
             break
-        u = trial
-        gu, grad = _value_and_gradient(gc, u, step, g_trial)
+        g_new, grad_new = _value_and_gradient(gc, trial, step, g_trial, forward=forward)
+        # A step onto a plateau of g (zero gradient, e.g. "fails with no drawdown") leaves
+        # HL-RF without a direction: step back towards u until the gradient returns.
+        for _ in range(12):
+            if np.any(grad_new != 0.0) or not math.isfinite(g_new):
+                break
+            lam *= 0.5
+            trial = u + lam * direction
+            g_new, grad_new = _value_and_gradient(gc, trial, step, forward=forward)
+        u, gu, grad = trial, g_new, grad_new
     gnorm = float(np.linalg.norm(grad))
     alpha = -grad / gnorm if gnorm > 0 and np.isfinite(grad).all() else np.full(d, np.nan)
     beta = float(alpha @ u)
@@ -357,7 +381,7 @@ def importance_sampling(g: LimitState, design_point: NDArray[np.float64], n: int
 
 
 def compare(form_result: FormResult, pf_sorm: float, pf_is: float, cov_is: float, *,
-            z: float = 3.0, rel_tol: float = 0.1) -> str | None:
+            z: float = 3.0, rel_tol: float = 0.1, sorm_skipped: bool = False) -> str | None:
     """Diagnostic text when FORM, SORM and importance sampling disagree, else ``None``.
 
     Importance sampling is the reference: its band is ``pf_is (1 +- z cov_is)``. FORM and
@@ -376,11 +400,13 @@ def compare(form_result: FormResult, pf_sorm: float, pf_is: float, cov_is: float
         Width of the sampling band in standard errors [-].
     rel_tol : float
         Allowance for the approximation error of FORM and SORM [-].
+    sorm_skipped : bool
+        SORM was not run (its NaN is then no breakdown of the formula).
     """
     notes: list[str] = []
     if not form_result.converged:
         notes.append(f"FORM did not converge ({form_result.message}).")
-    if not math.isfinite(pf_sorm):
+    if not math.isfinite(pf_sorm) and not sorm_skipped:
         notes.append("SORM (Breitung) does not apply: a principal curvature makes "
                      "1 + beta kappa <= 0; the failure surface wraps around the origin and the "
                      "design point may not be unique.")

@@ -80,6 +80,9 @@ class StageResult:
     high: Array
     convergence_warning: str | None
     small_risk: Mapping[str, Any] | None = None
+    #: how the limit was found where the small-risk methods ran: "sampling" (the sampled
+    #: quantile) or the reliability method that solved it (risk.small_risk); None otherwise
+    limit_method: str | None = None
     shots: tuple[Shot, ...] = ()
     worst_shots: tuple[float, ...] = ()  # every direction tied worst (empty: no preference)
     best_shots: tuple[float, ...] = ()
@@ -338,6 +341,13 @@ def _stage(a: Assessment, key: str, k: int) -> StageResult:
     limit, lower = probability.drawdown_limit(dc, sc.accepted_risk)
     if a.deterministic:  # one exact evaluation: no sampling error, no band, bound = value
         lo, hi, lower = p, p, limit
+    rel = a.reliability.get((key, k))
+    method = "sampling" if rel is None else str(rel.get("limit_method", "sampling"))
+    if rel is not None and method != "sampling":
+        # sampling cannot resolve the quantile: the limit solved by the reliability method
+        limit = float(rel["limit"])
+        low_rel = rel.get("limit_lower")
+        lower = -math.inf if low_rel is None else float(low_rel)
     never = float(np.mean(~finite))
     zero = float(np.mean(dc <= 0.0))
     warning = None if a.deterministic else probability.convergence_warning(dc, sc.accepted_risk)
@@ -356,7 +366,6 @@ def _stage(a: Assessment, key: str, k: int) -> StageResult:
             mean2 = math.atan2(float(np.mean(np.sin(2 * th[ok]))),
                                float(np.mean(np.cos(2 * th[ok]))))
             extra = {"worst_wall_angle": (0.5 * mean2) % math.pi}
-    rel = a.reliability.get((key, k))
     return StageResult(
         reservoir_pressure=p_r,
         critical_drawdown=MappingProxyType({"p10": float(q[0]), "p50": float(q[1]),
@@ -366,10 +375,11 @@ def _stage(a: Assessment, key: str, k: int) -> StageResult:
         never_fraction=never, zero_drawdown_fraction=zero,
         drawdown_limit=min(limit, p_r) if math.isfinite(limit) else p_r,
         drawdown_limit_lower=min(lower, p_r) if lower > -math.inf else None,
-        limit_beyond=not math.isfinite(limit),
+        limit_beyond=not math.isfinite(limit) or (method != "sampling" and limit >= p_r),
         grid=_frozen(grid), p=_frozen(p), low=_frozen(lo), high=_frozen(hi),
         convergence_warning=warning,
         small_risk=None if rel is None else MappingProxyType(dict(rel)),
+        limit_method=None if rel is None else method,
         **extra)
 
 
@@ -429,8 +439,15 @@ def _first_yield(a: Assessment) -> tuple[float, ...] | None:
     if mech is None:
         return None
     well = mech.well
-    return tuple(min(probability.drawdown_limit(well[:, k], a.scenario.accepted_risk)[0], p_r)
-                 for k, p_r in enumerate(a.stages))
+    out = []
+    for k, p_r in enumerate(a.stages):
+        rel = a.reliability.get(("yield_onset", k))
+        if rel is not None and rel.get("limit_method", "sampling") != "sampling":
+            out.append(min(float(rel["limit"]), p_r))  # solved where sampling cannot resolve
+        else:
+            out.append(min(probability.drawdown_limit(well[:, k],
+                                                      a.scenario.accepted_risk)[0], p_r))
+    return tuple(out)
 
 
 def summarize(a: Assessment) -> Result:

@@ -180,3 +180,29 @@ def test_equal_directions_tie_and_more_shots_win():
         for sub in itertools.combinations(range(4), r):
             assert np.all(by_dir["effective_strength_onset"][:, list(sub), :].min(axis=1)
                           >= by_dir["effective_strength_onset"].min(axis=1))
+
+
+def test_solved_limits_replace_the_sampled_quantile_where_given():
+    # At a small accepted risk the sampled quantile is replaced by the limit the reliability
+    # methods solved (risk.small_risk), capped at p_r, its lower bound kept at or below it and
+    # the method named; stages without a solved limit keep the sampled quantile (the rule of
+    # the module docstring, checked against the sampled answer computed independently here).
+    by_dir = synthetic()
+    stages = [30.0, 27.0, 24.0]
+    base = sand_free(by_dir, stages, RISK)
+    res = sand_free(by_dir, stages, RISK, solved={0: (0.25, 1.5, "importance sampling"),
+                                                  1: (99.0, None, "SORM")},
+                    solved_own={("tunnel_collapse", 0): 0.5})
+    assert base is not None and res is not None
+    assert (res.stages[0].limit, res.stages[0].lower, res.stages[0].method) == (
+        0.25, 0.25, "importance sampling")
+    # never above a mechanism's own limit: P(min(D_1, D_2) <= D) >= P(D_i <= D)
+    assert res.stages[1].limit == min(27.0, *res.stages[1].by_mechanism.values())
+    assert (res.stages[1].lower, res.stages[1].method) == (None, "SORM")
+    res2 = sand_free(by_dir, stages, RISK, solved={0: (9.0, None, "FORM")},
+                     solved_own={("tunnel_collapse", 0): 0.5})
+    assert res2 is not None and res2.stages[0].limit == 0.5
+    assert res.stages[2].limit == base.stages[2].limit and res.stages[2].method == "sampling"
+    assert res.stages[0].by_mechanism["tunnel_collapse"] == 0.5
+    assert res.stages[0].governing == "tunnel_collapse"
+    assert all(r.method == "sampling" for r in base.stages)

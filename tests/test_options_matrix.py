@@ -54,9 +54,10 @@ def test_runs_end_to_end(criterion, sampling, cavity):
 @pytest.mark.slow
 def test_small_risk_starts_form_off_the_plateau():
     # Most samples never reach the effective-strength onset (a plateau at p_r), so FORM started
-    # at the median point would find no gradient. Started from the run's most probable failing
-    # sample it must converge, and importance sampling must agree with plain sampling within
-    # four combined standard errors (binomial for sampling, its own c.o.v. for IS).
+    # at the median point would find no gradient. Started from the run's failing sample nearest
+    # the limit surface it must converge, and importance sampling must agree with plain
+    # sampling within four combined standard errors (binomial for sampling, its own c.o.v. for
+    # IS). 4096 x 0.005 = 20 samples below the quantile: the limit is solved (risk.small_risk).
     import math
     import tomllib
 
@@ -65,6 +66,7 @@ def test_small_risk_starts_form_off_the_plateau():
     a = assess(parse_scenario(tomllib.loads(text)), samples=4096)
     rel = a.reliability[("effective_strength_onset", 0)]
     assert rel["converged"] and math.isfinite(rel["form_p"])
+    assert rel["limit_method"] == "importance sampling" and rel["starts"] >= 1
     p_s, p_is = rel["sampling_p"], rel["is_p"]
     se = math.hypot(math.sqrt(p_s * (1 - p_s) / 4096), rel["is_cov"] * p_is)
     assert abs(p_s - p_is) < 4 * se

@@ -79,8 +79,21 @@ def _stage_summary(a: Assessment, st: StageResult) -> dict[str, Any]:
             "sorm_p": rounded(float(rel["sorm_p"])), "is_p": rounded(float(rel["is_p"])),
             "is_cov": rounded(float(rel["is_cov"])), "form_converged": bool(rel["converged"]),
             "importance": {n: rounded(v) for n, v in rel["importance"].items()},
-            "model_runs": int(rel["model_runs"]), "diagnostic": rel["diagnostic"],
+            "model_runs": int(rel["model_runs"]),
+            "model_runs_by_method": {k: int(v) for k, v in (rel.get("runs") or {}).items()},
+            "form_starts": rel.get("starts"),
+            "limit_method": rel.get("limit_method", "sampling"),
+            "limits_by_method": {
+                m: (None if v is None or not math.isfinite(float(v))
+                    else _pressure(a, float(v)))
+                for m, v in (("sampling", rel.get("sampled_limit")),
+                             ("FORM", rel.get("form_limit")), ("SORM", rel.get("sorm_limit")),
+                             ("importance sampling", rel.get("is_limit")))
+                if v is not None},
+            "diagnostic": rel["diagnostic"],
         }
+    if st.limit_method is not None:
+        out["drawdown_limit_method"] = st.limit_method
     if st.limit_beyond:
         out["drawdown_limit_note"] = (
             f"fewer than {sc.accepted_risk:.0%} of samples fail within the available "
@@ -292,6 +305,7 @@ def _stage_limit(a: Assessment, row: decision.StageLimit) -> dict[str, Any]:
         "p_no_drawdown": rounded(row.p_no_drawdown),
         "p_no_drawdown_low": rounded(row.p_no_drawdown_band[0]),
         "p_no_drawdown_high": rounded(row.p_no_drawdown_band[1]),
+        **({"drawdown_limit_method": row.method} if a.reliability else {}),
     }
 
 

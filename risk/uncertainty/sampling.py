@@ -7,6 +7,7 @@ from typing import Final
 
 import numpy as np
 import scipy
+from numpy.typing import NDArray
 from scipy.stats import qmc
 
 from risk.errors import ScenarioError, did_you_mean
@@ -35,22 +36,32 @@ class UnitSampler:
         power of two; that warning is suppressed here and :attr:`balanced` tells whether the
         points drawn so far form a balanced set (the estimate stays unbiased either way, just
         less accurate).
-        ``"lhs"``: Latin hypercube (scipy.stats.qmc.LatinHypercube; McKay, Beckman & Conover
-        1979). The strata are per call: each :meth:`draw` is an independent Latin hypercube
-        of its own size, so a chunked draw is a union of smaller designs (still unbiased, less
-        stratified) and differs from one large draw.
+        ``"lhs"``: Latin hypercube (McKay, Beckman & Conover 1979). With ``total`` given, the
+        design is one Latin hypercube of ``total`` points however it is drawn: point ``i``
+        gets stratum ``pi_j(i)`` of column ``j`` and the value ``(pi_j(i) + v_ij) / total``,
+        ``v_ij`` uniform from a stream read in row order, ``pi_j`` a keyed pseudo-random
+        permutation of ``0 .. total-1`` computed point by point (a 4-round Feistel network,
+        Luby & Rackoff 1988, SIAM J. Comput. 17(2), 373-386, restricted to the range by cycle
+        walking, Black & Rogaway 2002, CT-RSA, LNCS 2271, 114-130), so no permutation is
+        stored and chunked draws equal one large draw bit for bit. Without ``total`` each
+        :meth:`draw` is an independent Latin hypercube of its own size
+        (scipy.stats.qmc.LatinHypercube).
         ``"random"``: plain Monte Carlo, ``rng.random``; chunked draws equal one large draw.
     d : int
         Dimension (number of uncertain inputs), >= 0.
     rng : numpy.random.Generator
         The only source of randomness. Never the global RNG.
+    total : int, optional
+        Number of points that will be drawn in all [-] (``"lhs"``: one design of that size;
+        drawing more is an error). Ignored by the other rules.
 
     Notes
     -----
     Values are clamped to ``[U_MIN, U_MAX]`` (see the module docstring).
     """
 
-    def __init__(self, rule: str, d: int, rng: np.random.Generator) -> None:
+    def __init__(self, rule: str, d: int, rng: np.random.Generator,
+                 total: int | None = None) -> None:
         if rule not in RULES:
             hint = did_you_mean(str(rule), RULES)
             raise ScenarioError.single("sampling.rule", rule, f"one of {', '.join(RULES)}{hint}")
@@ -63,8 +74,13 @@ class UnitSampler:
         self.n_drawn = 0
         self._rng = rng
         self._engine: qmc.QMCEngine | None = None
+        self._lhs: _FeistelLHS | None = None
+        if total is not None and total < 1:
+            raise ValueError("total must be >= 1")
         if d > 0 and rule == "sobol":
             self._engine = qmc.Sobol(self.d, scramble=True, rng=rng)
+        elif d > 0 and rule == "lhs" and total is not None:
+            self._lhs = _FeistelLHS(self.d, int(total), rng)
         elif d > 0 and rule == "lhs":
             self._engine = qmc.LatinHypercube(self.d, rng=rng)
 
@@ -80,6 +96,8 @@ class UnitSampler:
             raise ValueError("n must be >= 0")
         if self.d == 0:
             u = np.empty((n, 0))
+        elif self._lhs is not None:
+            u = self._lhs.rows(self.n_drawn, n)
         elif self._engine is None:
             u = self._rng.random((n, self.d))
         else:
@@ -93,6 +111,58 @@ class UnitSampler:
         """What a result must record to be rerun bit for bit (plus the seed it was built with)."""
         return {"rule": self.rule, "d": self.d, "n_drawn": self.n_drawn,
                 "numpy": np.__version__, "scipy": scipy.__version__}
+
+
+_MASK64 = np.uint64(0xFFFFFFFFFFFFFFFF)
+
+
+def _mix64(x: NDArray[np.uint64]) -> NDArray[np.uint64]:
+    """The splitmix64 finaliser (Steele, Lea & Flood 2014, OOPSLA — from memory): a bijective
+    64-bit mixing function, the round function of the Feistel network."""
+    with np.errstate(over="ignore"):
+        x = (x ^ (x >> np.uint64(30))) * np.uint64(0xBF58476D1CE4E5B9)
+        x = (x ^ (x >> np.uint64(27))) * np.uint64(0x94D049BB133111EB)
+        return x ^ (x >> np.uint64(31))
+
+
+class _FeistelLHS:
+    """One Latin hypercube of ``total`` points in ``d`` columns, computed by rows on demand."""
+
+    ROUNDS: Final = 4
+
+    def __init__(self, d: int, total: int, rng: np.random.Generator) -> None:
+        self.d, self.total = d, total
+        bits = max(2, int(total - 1).bit_length())
+        bits += bits % 2
+        self.half = np.uint64(bits // 2)
+        self.mask = np.uint64((1 << (bits // 2)) - 1)
+        self.keys = rng.integers(0, 2**63, size=(d, self.ROUNDS), dtype=np.uint64)
+        self._jitter = np.random.default_rng(rng.integers(0, 2**63, size=4))
+
+    def _feistel(self, i: NDArray[np.uint64], j: int) -> NDArray[np.uint64]:
+        left, right = i >> self.half, i & self.mask
+        for k in self.keys[j]:
+            left, right = right, left ^ (_mix64(right ^ k) & self.mask)
+        return (left << self.half) | right
+
+    def permute(self, i: NDArray[np.uint64], j: int) -> NDArray[np.uint64]:
+        """``pi_j(i)`` for indices ``i < total`` (cycle walking keeps it in range)."""
+        out = self._feistel(i, j)
+        bad = out >= np.uint64(self.total)
+        while bad.any():
+            out[bad] = self._feistel(out[bad], j)
+            bad = out >= np.uint64(self.total)
+        return out
+
+    def rows(self, start: int, n: int) -> FloatArray:
+        if start + n > self.total:
+            raise ValueError(f"the Latin hypercube has {self.total} points; {start + n} "
+                             "requested")
+        idx = np.arange(start, start + n, dtype=np.uint64)
+        v = self._jitter.random((n, self.d))
+        strata = np.column_stack([self.permute(idx, j) for j in range(self.d)]) if n else (
+            np.empty((0, self.d)))
+        return np.asarray((strata.astype(np.float64) + v) / self.total)
 
 
 #: Named random streams of a run. Each stream's generator is seeded from the run's seed and

@@ -98,6 +98,16 @@ def _answer(results: Mapping[str, Any]) -> dict[str, Any]:
         + f", governed by {gov} (95% lower bound "
         f"{_p(results, first.get('drawdown_limit_lower'), none='not resolved')}), at an "
         f"accepted risk of {results.get('accepted_risk')}.")
+    solved = [st for st in stages if st.get("drawdown_limit_method") not in (None, "sampling")]
+    if solved:
+        sents.append(
+            "At this small accepted risk the run has too few samples beyond the quantile to "
+            "resolve it at " + ", ".join(f"p_r = {_p(results, st['reservoir_pressure'])}"
+                                        for st in solved)
+            + "; there the limit is the drawdown at which the reliability estimate of "
+            "P(sanding) equals the accepted risk (by " + ", ".join(sorted(
+                {str(st["drawdown_limit_method"]) for st in solved}))
+            + "; see the small-risk tables).")
     if len(stages) > 1:
         sents.append("Over the depletion plan: " + "; ".join(
             f"{_p(results, st['drawdown_limit'])} at p_r = {_p(results, st['reservoir_pressure'])}"

@@ -81,6 +81,15 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
         if isinstance(block, Mapping) and block.get("assumption"):
             text = str(block["assumption"])
             assumptions.append("In this run, " + text)
+    if _solved_limits(results):
+        assumptions.append(
+            "Small accepted risk: where fewer than 100 samples lie at or below the accepted-risk "
+            "quantile, the drawdown limit is the drawdown at which the reliability estimate of "
+            "P(failure) equals the accepted risk (importance sampling around the FORM design "
+            "point, stopped at a coefficient of variation of 0.08; SORM or FORM where it did "
+            "not converge). This assumes one dominant failure region near the design point; "
+            "the small-risk tables name the method, its model runs and any disagreement. The "
+            "gun-phasing choice and the completion options still use the sampled quantile.")
     return {
         "angle_reference": _angle_reference(results),
         "root": _root_section(results),
@@ -165,3 +174,12 @@ def build_memo(results: Mapping[str, Any]) -> Memo:
     figures = render_all(results)
     html = render_html(results, figures)
     return Memo(html=html, pdf=render_pdf(html), figures=dict(figures))
+
+
+def _solved_limits(results: Mapping[str, Any]) -> bool:
+    """Whether some limit of the run was solved by a reliability method (risk.small_risk)."""
+    for mech in (results.get("mechanisms") or {}).values():
+        for st in (mech.get("stages") or []) if isinstance(mech, Mapping) else []:
+            if st.get("drawdown_limit_method") not in (None, "sampling"):
+                return True
+    return False

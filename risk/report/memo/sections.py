@@ -204,6 +204,8 @@ def _mechanism_sections(results: Mapping[str, Any]) -> list[dict[str, Any]]:
                 "is": _sci(sr.get("is_p")) + (f" (c.o.v. {_num(sr.get('is_cov'))})"
                                               if sr.get("is_cov") is not None else ""),
                 "converged": "yes" if sr.get("form_converged") else "no",
+                "method": str(sr.get("limit_method") or "sampling"),
+                "runs": str(sr.get("model_runs", "–")),
                 "importance": ", ".join(f"{input_label(k_)} {v:.2f}" for k_, v in imp) or "–",
                 "diagnostic": str(sr.get("diagnostic") or ""),
             })
