@@ -15,7 +15,6 @@ from dataclasses import dataclass, field
 from typing import Any, Final
 
 import numpy as np
-import scipy.linalg
 from numpy.typing import NDArray
 
 from risk import __version__, decision, probability
@@ -219,17 +218,6 @@ def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
     return keys, np.column_stack(cols)
 
 
-def _has_spread(y: Array) -> NDArray[np.bool_]:
-    """Columns where enough samples leave the most common value (a plateau such as "fails
-    with no drawdown") for indices to mean anything: at least 2% and 20 samples."""
-    out = np.zeros(y.shape[1], dtype=bool)
-    for c in range(y.shape[1]):
-        _, counts = np.unique(y[:, c], return_counts=True)
-        off = y.shape[0] - int(counts.max())
-        out[c] = off >= max(20, 0.02 * y.shape[0])
-    return out
-
-
 def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
                  compaction_all: CompactionResult | None, xi: Array, seed_: int) -> tuple[
                      dict[tuple[str, int], Any],
@@ -259,7 +247,7 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     groups = {g: v for g, v in groups.items() if len(v) >= 2}
     correlated = bool(np.any(joint.normal_corr != np.eye(joint.d)))
     corr = joint.normal_corr if correlated else None
-    cols_ok = np.nonzero(_has_spread(y))[0]
+    cols_ok = np.nonzero(sa.has_spread(y))[0]
     # runs of the sample that the fit does not see check it (no extra model runs)
     m_ho = min(HOLDOUT_RUNS, xi.shape[0] - m)
     holdout = None
@@ -275,44 +263,27 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
         holdout = (correlated_normals(joint, xi[held]), y_ho[:, cols_ok])
     res: dict[int, Any] = {}
     if cols_ok.size:
-        with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
-            families = sa.families_for([mg.kind for mg in joint.marginals], corr,
-                                       ppfs=[mg.ppf for mg in joint.marginals])
-            fitted = sa.sobol_pce(z, y[:, cols_ok], names=names, rng=rng, corr=corr,
-                                  groups=groups or None, n_bootstrap=100, families=families,
-                                  holdout=holdout,
-                                  truncations=(PCE_TRUNCATIONS if holdout is not None
-                                               and not correlated else None))
-        res = dict(zip(cols_ok.tolist(), fitted, strict=True))
-    bad = [c for c, r in res.items() if not r.surrogate_error <= sa.LOO_THRESHOLD]
-    if bad:
-        need = {keys[c][0] for c in bad}
-
-        def model_xi(xi_: Array) -> Array:
+        def model_xi(xi_: Array, outputs: list[int]) -> Array:
+            """The outputs that fell back, from runs of only the mechanisms they need."""
+            wanted = [keys[cols_ok[c]] for c in outputs]
+            need = {k for k, _ in wanted}
             cols = input_columns(joint, normals_to_inputs(joint, xi_))
             out = evaluate(cols, scenario, only=need - {"pore_collapse"})
             f = (evaluate_compaction(cols, scenario) if "pore_collapse" in need else None)
             k2, yy = _outputs(scenario, out, f)
-            return yy[:, [k2.index(keys[c]) for c in bad]]
+            return yy[:, [k2.index(w) for w in wanted]]
 
-        with np.errstate(invalid="ignore", divide="ignore"):
-            if correlated:
-                # Shapley effects on the model (conditional redraws through the copula): the
-                # effects of the inputs themselves, not of the Cholesky variables, and not the
-                # association a given-data index would measure
-                def model_z(z_: Array) -> Array:
-                    return model_xi(scipy.linalg.solve_triangular(joint.chol, z_.T,
-                                                                  lower=True).T)
-
-                mc = sa.mc_shapley(model_z, corr=joint.normal_corr, names=names,
-                                   replicates=max(2, SHAPLEY_FALLBACK_RUNS // (joint.d + 1)),
-                                   rng=rng, groups=groups or None)
-            else:
-                mc = sa.mc_sobol(model_xi, joint.d, MC_FALLBACK_RUNS, rng, names=names,
-                                 n_bootstrap=100)
-        for c, r in zip(bad, mc, strict=True):
-            res[c] = dataclasses.replace(r, loo_error=res[c].loo_error,  # why it fell back
-                                         validation_error=res[c].validation_error)
+        with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
+            families = sa.families_for([mg.kind for mg in joint.marginals], corr,
+                                       ppfs=[mg.ppf for mg in joint.marginals])
+            fitted = sa.sensitivity(
+                z, y[:, cols_ok], names=names, rng=rng, corr=corr, groups=groups or None,
+                model=model_xi, partial_model=True, mc_n=MC_FALLBACK_RUNS,
+                shapley_replicates=max(2, SHAPLEY_FALLBACK_RUNS // (joint.d + 1)),
+                n_bootstrap=100, families=families, holdout=holdout,
+                truncations=(PCE_TRUNCATIONS if holdout is not None and not correlated
+                             else None))
+        res = dict(zip(cols_ok.tolist(), fitted, strict=True))
     sens = {keys[c]: r for c, r in sorted(res.items())}
     # tornado: P10 / P90 of each input, others at P50 (one-at-a-time, correlation ignored)
     mid = np.array([mg.quantile(0.5) for mg in joint.marginals])
@@ -324,17 +295,15 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
         f = evaluate_compaction(input_columns(joint, x), scenario) if with_far else None
         return _outputs(scenario, out, f)[1]
 
-    rows = [mid] + [np.where(np.arange(joint.d) == j, low[j], mid) for j in range(joint.d)] + [
-        np.where(np.arange(joint.d) == j, high[j], mid) for j in range(joint.d)]
-    yy = model_x(np.array(rows))
+    swings, y_mid = sa.tornado(model_x, low, mid, high, base=True)
     torn: dict[str, dict[str, tuple[float, float, float, float]]] = {}
     base: dict[str, float] = {}
     for c, (key, stage) in enumerate(keys):
         if stage != 0:
             continue
-        base[key] = float(yy[0, c])
-        torn[key] = {name: (float(low[j]), float(high[j]), float(yy[1 + j, c]),
-                            float(yy[1 + joint.d + j, c])) for j, name in enumerate(names)}
+        base[key] = float(y_mid[c])
+        torn[key] = {name: (float(low[j]), float(high[j]), float(swings[j, 0, c]),
+                            float(swings[j, 1, c])) for j, name in enumerate(names)}
     return sens, torn, base
 
 

@@ -579,3 +579,90 @@ def test_given_data_full_first_order_correlated_linear():
                                   z[:, 0], names=["a", "b"], rng=rng, n_bootstrap=0)
     assert res2.first[0] == pytest.approx(1.0, abs=0.02)
     assert abs(res2.first[1]) < 0.01
+
+
+# ------------------------------------------------------------------------------------------
+# The options the run's pipeline uses (risk.assessment._sensitivity calls these functions)
+# ------------------------------------------------------------------------------------------
+
+
+def test_tornado_many_outputs_with_base() -> None:
+    """Two linear outputs y_k = c_k . x at once (derived as in the one-output case); the base
+    row is c_k . mid."""
+    c = np.array([[2.0, -1.0, 0.5], [0.0, 3.0, 1.0]])
+
+    def model(x: np.ndarray) -> np.ndarray:
+        return x @ c.T
+
+    low, mid, high = np.array([1.0, 10.0, 0.0]), np.array([2.0, 20.0, 4.0]), np.array(
+        [3.0, 25.0, 10.0])
+    swings, base = sa.tornado(model, low, mid, high, base=True)
+    assert swings.shape == (3, 2, 2) and base.shape == (2,)
+    np.testing.assert_allclose(base, c @ mid)
+    for k in range(2):
+        np.testing.assert_allclose(swings[:, 0, k], c[k] @ mid + c[k] * (low - mid))
+        np.testing.assert_allclose(swings[:, 1, k], c[k] @ mid + c[k] * (high - mid))
+        # one output alone gives the same swings
+        np.testing.assert_allclose(sa.tornado(lambda x, k=k: x @ c[k], low, mid, high),
+                                   swings[:, :, k])
+
+
+def test_has_spread_masks_plateaus() -> None:
+    y = np.zeros((1000, 3))
+    y[:30, 1] = np.arange(30)  # 30 samples (3%) leave the plateau: enough (>= 2% and >= 20)
+    y[:15, 2] = 1.0  # 15 samples: too few
+    np.testing.assert_array_equal(sa.has_spread(y), [False, True, False])
+    with pytest.raises(ValueError, match="2-D"):
+        sa.has_spread(np.zeros(5))
+
+
+def test_partial_model_runs_only_what_fell_back_and_keeps_the_fit_errors() -> None:
+    """Output 0 is Ishigami (Hermite fit fails, analytic indices: Ishigami & Homma 1990),
+    output 1 a linear function (the expansion is exact). The partial model is asked for
+    output 0 only; the fallback's indices match the analytic ones within 4 se and keep the
+    expansion's leave-one-out error, which says why it fell back."""
+    rng = np.random.default_rng(5)
+    xi = sobol_points(3, 256, rng)
+    y = np.column_stack([ishigami(xi), xi @ np.array([1.0, 2.0, 0.0])])
+    asked: list[list[int]] = []
+
+    def partial(x: np.ndarray, outputs: list[int]) -> np.ndarray:
+        asked.append(list(outputs))
+        full = np.column_stack([ishigami(x), x @ np.array([1.0, 2.0, 0.0])])
+        return full[:, outputs]
+
+    fit = sa.sobol_pce(xi, y, names=["x1", "x2", "x3"], rng=np.random.default_rng(1),
+                       n_bootstrap=0)
+    res = sa.sensitivity(xi, y, names=["x1", "x2", "x3"], rng=rng, model=partial,
+                         partial_model=True, mc_n=4096, n_bootstrap=50)
+    assert asked and all(a == [0] for a in asked)
+    assert res[0].method == "monte-carlo" and res[0].output == 0
+    assert res[0].loo_error == pytest.approx(fit[0].loo_error)
+    assert res[1].method == "pce" and res[1].output == 1
+    # y = x1 + 2 x2: first indices 1/5 and 4/5 (derived)
+    np.testing.assert_allclose(res[1].first, [0.2, 0.8, 0.0], atol=1e-9)
+    for which, want in (("first", ISH_FIRST), ("total", ISH_TOTAL)):
+        se = (getattr(res[0], which + "_high") - getattr(res[0], which + "_low")) / 3.92
+        assert np.all(np.abs(getattr(res[0], which) - want) <= 4 * se), which
+
+
+def test_shapley_replicates_option_sets_the_correlated_fallback_cost() -> None:
+    """With correlated inputs the fallback is Shapley on the model with the replicates asked
+    for ((d + 1) runs each); a linear Gaussian model z1 + z2 with corr rho has equal Shapley
+    effects 1/2 each (Owen & Prieur 2017: symmetric inputs share the variance)."""
+    rho = 0.6
+    corr = np.array([[1.0, rho, 0.0], [rho, 1.0, 0.0], [0.0, 0.0, 1.0]])
+    lmat = np.linalg.cholesky(corr)
+
+    def model_xi(x: np.ndarray) -> np.ndarray:
+        z = x @ lmat.T
+        return z[:, 0] + z[:, 1] + 0.0 * z[:, 2]
+
+    rng = np.random.default_rng(3)
+    xi = rng.standard_normal((128, 3))
+    res = sa.sensitivity(xi @ lmat.T, model_xi(xi), names=["a", "b", "c"], rng=rng,
+                         corr=corr, model=model_xi, loo_threshold=-1.0, mc_n=10,
+                         shapley_replicates=2000, n_bootstrap=0)[0]
+    assert res.method == "shapley-mc" and res.n_runs == 2000 * 4
+    se = (res.shapley_high - res.shapley_low) / 3.92
+    assert np.all(np.abs(res.shapley - [0.5, 0.5, 0.0]) <= 4 * se + 1e-12)

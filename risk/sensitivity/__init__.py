@@ -28,8 +28,9 @@ Methods
   association (an input merely correlated with an influential one scores high), so they are
   never used to rank inputs (``SensitivityResult.ranking`` refuses them).
 - :func:`sensitivity`: picks the expansion or the Monte-Carlo fallback by
-  :data:`LOO_THRESHOLD`.
-- :func:`tornado`: one-at-a-time swings between P10 and P90 values.
+  :data:`LOO_THRESHOLD` (the run's pipeline calls it, :func:`risk.assessment.assess`).
+- :func:`has_spread`: outputs that leave their plateau often enough for indices to mean anything.
+- :func:`tornado`: one-at-a-time swings between P10 and P90 values, one or many outputs.
 
 Layout (one module per job)
 ---------------------------
@@ -43,7 +44,7 @@ Layout (one module per job)
 - ``montecarlo``: pick-freeze (:func:`mc_sobol`) and given-data estimators.
 - ``shapley_mc``: :func:`mc_shapley`.
 - ``tornado``: :func:`tornado`.
-- ``driver``: :func:`sobol_pce` and :func:`sensitivity`, which pick the method.
+- ``driver``: :func:`sobol_pce` and :func:`sensitivity`, which pick the method; :func:`has_spread`.
 
 Nothing here reads files, prints, or uses a global random state: a seeded
 ``numpy.random.Generator`` is passed in and the caller records its seed.
@@ -83,7 +84,7 @@ Mara, T.A., Tarantola, S., Annoni, P. (2015). Non-parametric methods for global 
 from __future__ import annotations
 
 from risk.sensitivity.common import LOO_THRESHOLD, blas_single_thread
-from risk.sensitivity.driver import families_for, sensitivity, sobol_pce
+from risk.sensitivity.driver import families_for, has_spread, sensitivity, sobol_pce
 from risk.sensitivity.families import Recurrence, stieltjes_family
 from risk.sensitivity.indices import independent_indices, surrogate_bounds
 from risk.sensitivity.montecarlo import given_data_first_order, mc_sobol
@@ -115,6 +116,7 @@ __all__ = [
     "families_for",
     "fit_pce",
     "given_data_first_order",
+    "has_spread",
     "hermite_orthonormal",
     "independent_indices",
     "legendre_orthonormal",

@@ -10,7 +10,7 @@ from typing import Any
 
 import numpy as np
 import scipy.linalg
-from numpy.typing import ArrayLike
+from numpy.typing import ArrayLike, NDArray
 
 from risk.sensitivity.common import LOO_THRESHOLD, Array, Method, bad_argument, blas_single_thread
 from risk.sensitivity.families import stieltjes_family
@@ -247,11 +247,13 @@ def sensitivity(
     *,
     names: Sequence[str],
     rng: np.random.Generator,
-    model: Callable[[Array], ArrayLike] | None = None,
+    model: Callable[..., ArrayLike] | None = None,
     corr: ArrayLike | None = None,
     groups: Mapping[str, Sequence[int | str]] | None = None,
     loo_threshold: float = LOO_THRESHOLD,
     mc_n: int = 1024,
+    shapley_replicates: int | None = None,
+    partial_model: bool = False,
     **pce_options: Any,
 ) -> list[SensitivityResult]:
     """Indices per output: the expansion when it fits, Monte Carlo on the model when not.
@@ -269,9 +271,14 @@ def sensitivity(
     Parameters
     ----------
     z, y, names, rng, corr, groups : as for :func:`sobol_pce`
-    model : maps independent standard normals xi (N, d) [1] to outputs (N,) or (N, k)
+    model : maps independent standard normals xi (N, d) [1] to outputs (N,) or (N, k); with
+        ``partial_model``, ``model(xi, outputs)`` returns only the output columns listed in
+        ``outputs`` (N, len(outputs)), so that a costly model computes only what falls back
     loo_threshold : relative surrogate error above which to fall back [1]
-    mc_n : base sample (independent inputs) or replicates (correlated) of the fallback [1]
+    mc_n : base sample of the Monte-Carlo fallback for independent inputs [1]
+    shapley_replicates : replicates of the Shapley fallback for correlated inputs [1]
+        (default ``mc_n``; ``replicates (d + 1)`` model runs)
+    partial_model : whether ``model`` takes the list of output columns wanted
     pce_options : passed to :func:`sobol_pce`
 
     Returns
@@ -282,19 +289,54 @@ def sensitivity(
     bad = [r.output for r in res if not r.surrogate_error <= loo_threshold]
     if not bad or model is None:
         return res
+    if partial_model:
+        def model_xi(xi_: Array) -> ArrayLike:
+            return model(xi_, bad)
+        place = {c: k for k, c in enumerate(bad)}  # column of the fallback's outputs
+    else:
+        model_xi = model
+        place = {c: c for c in bad}
     if res[0].correlated:
         c_mat = _check_corr(corr, len(names))
         lmat = np.linalg.cholesky(c_mat)
 
         def model_z(z_: Array) -> ArrayLike:
-            return model(scipy.linalg.solve_triangular(lmat, z_.T, lower=True).T)
+            return model_xi(scipy.linalg.solve_triangular(lmat, z_.T, lower=True).T)
 
-        mc = mc_shapley(model_z, corr=c_mat, names=names, replicates=mc_n, rng=rng,
-                        groups=groups, confidence=pce_options.get("confidence", 0.95))
+        mc = mc_shapley(model_z, corr=c_mat, names=names,
+                        replicates=mc_n if shapley_replicates is None else shapley_replicates,
+                        rng=rng, groups=groups, confidence=pce_options.get("confidence", 0.95))
     else:
-        mc = mc_sobol(model, len(names), mc_n, rng, names=names,
+        mc = mc_sobol(model_xi, len(names), mc_n, rng, names=names,
                       n_bootstrap=pce_options.get("n_bootstrap", 200),
                       confidence=pce_options.get("confidence", 0.95))
-    return [dataclasses.replace(mc[r.output], output=r.output, loo_error=r.loo_error,
+    # the fallback keeps the expansion's errors: they say why it fell back
+    return [dataclasses.replace(mc[place[r.output]], output=r.output, loo_error=r.loo_error,
                                 validation_error=r.validation_error)
             if r.output in bad else r for r in res]
+
+
+def has_spread(y: ArrayLike, *, min_fraction: float = 0.02, min_count: int = 20
+               ) -> NDArray[np.bool_]:
+    """Output columns whose samples leave their most common value often enough for indices to
+    mean anything (a plateau such as "fails with no drawdown" holds most samples otherwise).
+
+    Parameters
+    ----------
+    y : outputs (n, k) [unit of y]
+    min_fraction : least share of samples off the most common value [1]
+    min_count : least number of samples off it [1]
+
+    Returns
+    -------
+    boolean array (k,)
+    """
+    y2 = np.asarray(y, dtype=float)
+    if y2.ndim != 2:
+        raise bad_argument("sensitivity.y", y2.shape, "a 2-D array (n, k)")
+    out = np.zeros(y2.shape[1], dtype=bool)
+    for c in range(y2.shape[1]):
+        _, counts = np.unique(y2[:, c], return_counts=True)
+        off = y2.shape[0] - int(counts.max())
+        out[c] = off >= max(min_count, min_fraction * y2.shape[0])
+    return out
