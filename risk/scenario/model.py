@@ -114,6 +114,8 @@ class Scenario:
     warnings: tuple[str, ...] = ()
     options: tuple[CompletionOption, ...] = ()
     phasings: tuple[float, ...] = DEFAULT_PHASINGS
+    #: field sanding history and measurements (risk.calibration.History; None: none given)
+    history: Any = None
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property
