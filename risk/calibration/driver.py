@@ -57,6 +57,8 @@ Array = NDArray[np.float64]
 
 #: Inner rows of the well-to-well inputs per observation in the MCMC likelihood.
 INNER: Final = 64
+#: Floor of the MCMC log density (positions no inner row can explain) [-].
+LOG_FLOOR: Final = -1e12
 #: Rows evaluated under the MCMC posterior for the posterior risk.
 POSTERIOR_ROWS: Final = 8192
 GRID_POINTS: Final = 51
@@ -253,7 +255,8 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
             ll = _loglik(obs, c, sigma).reshape(b, m)
             with np.errstate(divide="ignore"):
                 lp = lp + sc.logsumexp(ll, axis=1) - math.log(m)
-        return np.asarray(lp)
+        # a finite floor keeps the sampler's comparisons defined where no inner row agrees
+        return np.asarray(np.maximum(lp, LOG_FLOOR))
 
     rng = rng_stream(seed, "mcmc")
     walkers = max(16, 4 * len(theta))
