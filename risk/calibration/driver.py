@@ -45,8 +45,9 @@ from risk.calibration.posterior import (
     run_mcmc,
     weighted_curve,
     weighted_quantile,
+    weighted_quantiles,
 )
-from risk.calibration.voi import simulate_measurement, value_of_information
+from risk.calibration.voi import limit_today, simulate_measurement, value_of_information
 from risk.errors import ScenarioError
 from risk.uncertainty import rng_stream
 
@@ -190,8 +191,8 @@ def _refuse(obs_list: tuple[Observation, ...], preds: list[Array], sigma: float,
 def _input_summary(x: Array, w: Array) -> dict[str, float]:
     mean = float(np.sum(w * x) / np.sum(w))
     sd = float(math.sqrt(max(float(np.sum(w * (x - mean) ** 2) / np.sum(w)), 0.0)))
-    return {"mean": mean, "sd": sd, "p10": weighted_quantile(x, w, 0.1),
-            "p50": weighted_quantile(x, w, 0.5), "p90": weighted_quantile(x, w, 0.9)}
+    q = weighted_quantiles(x, w, (0.1, 0.5, 0.9))
+    return {"mean": mean, "sd": sd, "p10": float(q[0]), "p50": float(q[1]), "p90": float(q[2])}
 
 
 def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> PosteriorRisk:
@@ -204,8 +205,9 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
         cs, ls, es = [], [], []
         for k, p_r in enumerate(scenario.reservoir_pressure):
             cs.append(weighted_curve(well[:, k], w, grid))
-            ls.append(min(weighted_quantile(well[:, k], w, scenario.accepted_risk), p_r))
-            es.append(tuple(p_r - weighted_quantile(well[:, k], w, lv) for lv in LEVELS))
+            qs = weighted_quantiles(well[:, k], w, (scenario.accepted_risk, *LEVELS))
+            ls.append(min(float(qs[0]), p_r))
+            es.append(tuple(float(p_r - v) for v in qs[1:]))
         curves[key], limits[key], env[key] = tuple(cs), tuple(ls), tuple(es)
     keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
     sand_free = p0 = None
@@ -387,19 +389,21 @@ def value_of_information_table(scenario: Any, cols: Mapping[str, Array], sand: A
     wanted = [Measurement(f"{n} (perfect)", n) for n in uncertain]
     if history is not None:
         wanted += list(history.measurements)
+    caps = np.asarray(scenario.reservoir_pressure)
+    today = limit_today(output=sand, accepted_risk=scenario.accepted_risk, cap=caps,
+                        weights=weights)
     out = []
     for j, meas in enumerate(wanted):
         rng = rng_stream(seed, "voi", j)
         x = np.asarray(cols[meas.input], dtype=float)
         signal = simulate_measurement(x, error=meas.error, relative_error=meas.relative_error,
                                       rng=rng)
-        vals, errs = [], []
-        for k, p_r in enumerate(scenario.reservoir_pressure):
-            est = value_of_information(signal=signal, output=sand[:, k],
-                                       accepted_risk=scenario.accepted_risk, cap=p_r,
-                                       weights=weights, rng=rng)
-            vals.append(est.value)
-            errs.append(est.error)
+        ests = value_of_information(signal=signal, output=sand,
+                                    accepted_risk=scenario.accepted_risk,
+                                    cap=caps, weights=weights, today=today)
+        assert isinstance(ests, list)
+        vals = [e.value for e in ests]
+        errs = [e.error for e in ests]
         out.append(VoiRow(meas.name, meas.input, meas.error, meas.relative_error,
                           meas.error == 0 and meas.relative_error == 0, tuple(vals),
                           tuple(errs)))

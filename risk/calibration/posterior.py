@@ -24,8 +24,8 @@ from numpy.typing import ArrayLike, NDArray
 from scipy import special as sc
 from scipy import stats
 
-__all__ = ["normalized_weights", "kish_ess", "weighted_quantile", "weighted_curve",
-           "split_rhat", "McmcResult", "run_mcmc"]
+__all__ = ["normalized_weights", "kish_ess", "weighted_quantile", "weighted_quantiles",
+           "weighted_curve", "split_rhat", "McmcResult", "run_mcmc"]
 
 Array = NDArray[np.float64]
 
@@ -58,6 +58,17 @@ def weighted_quantile(x: ArrayLike, w: ArrayLike, q: float) -> float:
     total = cum[-1]
     k = int(np.searchsorted(cum, q * total * (1.0 - 1e-12), side="left"))
     return float(xa[order[min(k, xa.size - 1)]])
+
+
+def weighted_quantiles(x: ArrayLike, w: ArrayLike, qs: ArrayLike) -> Array:
+    """:func:`weighted_quantile` at several levels with one sort [unit of x]."""
+    xa = np.asarray(x, dtype=float)
+    wa = np.asarray(w, dtype=float)
+    order = np.argsort(xa, kind="stable")
+    cum = np.cumsum(wa[order])
+    q = np.asarray(qs, dtype=float)
+    k = np.searchsorted(cum, q * cum[-1] * (1.0 - 1e-12), side="left")
+    return np.asarray(xa[order[np.minimum(k, xa.size - 1)]])
 
 
 def weighted_curve(x: ArrayLike, w: ArrayLike, grid: ArrayLike, confidence: float = 0.95
