@@ -57,9 +57,9 @@ __all__ = ["Calibration", "PosteriorRisk", "VoiRow", "calibrate", "value_of_info
 Array = NDArray[np.float64]
 
 #: Inner rows of the well-to-well inputs per observation in the MCMC likelihood.
-INNER: Final = 64
-#: Floor of the MCMC log density (positions no inner row can explain) [-].
-LOG_FLOOR: Final = -1e12
+INNER: Final = 32
+#: Floor of the MCMC log-likelihood (positions no inner row can explain) [-].
+LOG_FLOOR: Final = -1e6
 #: Rows evaluated under the MCMC posterior for the posterior risk.
 POSTERIOR_ROWS: Final = 8192
 GRID_POINTS: Final = 51
@@ -246,7 +246,8 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
     def log_prob(z: Array) -> Array:
         z = np.atleast_2d(z)
         b = z.shape[0]
-        lp = -0.5 * np.einsum("ij,jk,ik->i", z, prec, z)
+        prior = -0.5 * np.einsum("ij,jk,ik->i", z, prec, z)
+        lp = np.zeros(b)
         x = to_x(z)
         for obs, ck in zip(history.observations, inner, strict=True):
             m = next(iter(ck.values())).shape[0]
@@ -257,8 +258,9 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
             ll = _loglik(obs, c, sigma).reshape(b, m)
             with np.errstate(divide="ignore"):
                 lp = lp + sc.logsumexp(ll, axis=1) - math.log(m)
-        # a finite floor keeps the sampler's comparisons defined where no inner row agrees
-        return np.asarray(np.maximum(lp, LOG_FLOOR))
+        # a finite floor on the likelihood keeps the sampler's comparisons defined where no
+        # inner row agrees; the prior still pulls such walkers back
+        return np.asarray(prior + np.maximum(lp, LOG_FLOOR))
 
     rng = rng_stream(seed, "mcmc")
     walkers = max(16, 4 * len(theta))
@@ -299,7 +301,15 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     preds = _predicted(obs_list, cols, theta, uncertain, seed)
     _refuse(obs_list, preds, sigma, scenario.units)
     ll = np.column_stack([_loglik(o, c, sigma) for o, c in zip(obs_list, preds, strict=True)])
-    w_re = normalized_weights(ll.sum(axis=1))
+    total = ll.sum(axis=1)
+    if not np.any(np.isfinite(total)):
+        raise ScenarioError.single(
+            "history", f"{len(obs_list)} observations",
+            "observations the model can reproduce together within its model error (check "
+            "them and their overrides, widen calibration.model_error, or run more samples)",
+            found_text=f"no sample of the run ({m:,}) agrees with all {len(obs_list)} "
+                       "observations at once")
+    w_re = normalized_weights(total)
     ess = kish_ess(w_re)
     use_mcmc = spec.method == "mcmc" or (spec.method == "auto" and ess < spec.min_ess)
     equal = np.full(m, 1.0 / m)

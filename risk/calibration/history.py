@@ -112,7 +112,7 @@ class CalibrationSpec:
     model_error: float
     method: str = "auto"
     min_ess: int = 200
-    mcmc_steps: int = 600
+    mcmc_steps: int = 1000
 
 
 @dataclass(frozen=True)
@@ -219,7 +219,7 @@ def _calibration(p: _Problems, raw: Any, scenario: Scenario) -> CalibrationSpec:
               "both or neither", found_text=f"{a!r} and {b!r} correlated")
     return CalibrationSpec(names, float(sigma), str(method),
                            int(min_ess) if min_ess is not None else 200,
-                           int(steps) if steps is not None else 600)
+                           int(steps) if steps is not None else 1000)
 
 
 def _overrides(p: _Problems, raw: Any, prefix: str, scenario: Scenario, calibrated: set[str]

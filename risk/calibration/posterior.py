@@ -166,10 +166,9 @@ def run_mcmc(log_prob: Callable[[Array], Array], start: ArrayLike, *, steps: int
     sampler.run_mcmc(p0, steps, progress=False)
     chain = sampler.get_chain()  # (steps, walkers, d)
     kept = chain[burn:]
-    try:
-        tau = np.asarray(sampler.get_autocorr_time(discard=burn, quiet=True), dtype=float)
-    except Exception:  # noqa: BLE001 (emcee raises its own error types for short chains)
-        tau = np.full(d, np.nan)
+    # emcee's estimate (Sokal's adaptive window, c = 5); tol = 0 computes it without emcee's
+    # logged warning: the shortness of the chain is judged by R-hat and reported instead
+    tau = np.asarray(emcee.autocorr.integrated_time(kept, c=5, tol=0, quiet=True), dtype=float)
     return McmcResult(draws=kept.reshape(-1, d), walkers=walkers, steps=steps, burn_in=burn,
                       acceptance=float(np.mean(sampler.acceptance_fraction)),
                       rhat=split_rhat(kept), autocorrelation=tau,

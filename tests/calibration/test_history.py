@@ -133,3 +133,17 @@ def test_mcmc_path_reports_its_diagnostics() -> None:
     assert m["walkers"] >= 16 and 0 < m["acceptance"] < 1
     assert set(m["rhat"]) == {"twc_factor", "ucs"}
     assert np.isfinite(list(m["rhat"].values())).all()
+
+
+def test_history_no_sample_can_reproduce_together_is_refused() -> None:
+    # each observation alone is possible, but with R-3's rock far weaker (UCS 1,000 psi) no
+    # sample both stays sand-free to 1,200 psi there and matches the others
+    from risk.assessment import assess
+
+    doc = _doc()
+    doc["calibration"].update(inputs=["twc_factor"])
+    doc["history"][0]["overrides"] = {"ucs": 1000}
+    with pytest.raises(ScenarioError) as err:
+        assess(parse_scenario(doc), samples=512)  # (with 256, R-3 alone is already refused)
+    assert err.value.problems[0].key == "history"
+    assert "reproduce together" in err.value.problems[0].expected
