@@ -17,6 +17,8 @@ Modelling choices (the memo states them):
 - Reweighting when the Kish effective sample size reaches ``min_ess``; otherwise (or when
   asked) MCMC over the normal scores of ``theta`` with the same likelihood, ``omega``
   integrated by a fixed set of :data:`INNER` common random rows per observation.
+
+docs/derivations.md, sec. 9 lists these choices with the figures measured on them.
 """
 
 from __future__ import annotations
