@@ -82,6 +82,8 @@ class PosteriorRisk:
     sand_free: tuple[float, ...] | None                             # per stage
     p_no_drawdown: tuple[float, ...] | None
     grid: Array
+    #: P(sand) at each planned operating point that lies on a stage (p_r, p_w, probability)
+    points: tuple[tuple[float, float, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -213,13 +215,20 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
         curves[key], limits[key], env[key] = tuple(cs), tuple(ls), tuple(es)
     keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
     sand_free = p0 = None
+    points: list[tuple[float, float, float]] = []
     if keys:
         sand = decision.sand_drawdown(by_direction, keys)
         sand_free = tuple(min(weighted_quantile(sand[:, k], w, scenario.accepted_risk), p_r)
                           for k, p_r in enumerate(scenario.reservoir_pressure))
         p0 = tuple(float(np.sum(w * (sand[:, k] <= 0.0)) / np.sum(w))
                    for k in range(len(scenario.reservoir_pressure)))
-    return PosteriorRisk(curves, limits, env, sand_free, p0, grid)
+        for p_r, p_w in scenario.operating_points:
+            at = [k for k, s in enumerate(scenario.reservoir_pressure)
+                  if math.isclose(s, p_r, rel_tol=1e-9, abs_tol=1e-9)]
+            if at:
+                prob = float(np.sum(w * (sand[:, at[0]] <= p_r - p_w)) / np.sum(w))
+                points.append((p_r, p_w, prob))
+    return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points))
 
 
 def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array],

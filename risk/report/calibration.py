@@ -59,7 +59,9 @@ def _risk(sc: Any, r: Any) -> dict[str, Any]:
                 {"reservoir_pressure": _p(sc, p_r), "drawdown_limit": _p(sc, lim),
                  "p_no_drawdown": _r(p0)}
                 for p_r, lim, p0 in zip(sc.reservoir_pressure, r.sand_free, r.p_no_drawdown or (),
-                                        strict=True)]}
+                                        strict=True)],
+            "operating_points": [{"reservoir_pressure": _p(sc, p_r), "wall_pressure": _p(sc, p_w),
+                                  "probability": _r(prob)} for p_r, p_w, prob in r.points]}
 
 
 def calibration_block(a: Any) -> dict[str, Any] | None:

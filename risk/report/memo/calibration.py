@@ -64,6 +64,12 @@ def calibration_context(results: Mapping[str, Any]) -> dict[str, Any] | None:
                    "prior": _num(a["drawdown_limit"], unit),
                    "posterior": _num(b["drawdown_limit"], unit)}
                   for a, b in zip(prior_sf, post_sf, strict=True)]
+        points = [{"p_r": _num(a["reservoir_pressure"], unit),
+                   "p_w": _num(a["wall_pressure"], unit),
+                   "prior": _num(a["probability"], "", 2),
+                   "posterior": _num(b["probability"], "", 2)}
+                  for a, b in zip(cal["prior"].get("operating_points") or [],
+                                  cal["posterior"].get("operating_points") or [], strict=True)]
         if cal["method"] == "mcmc" and cal.get("mcmc"):
             m = cal["mcmc"]
             how = (f"MCMC (ensemble sampler, {m['walkers']} walkers x {m['steps']} steps, "
@@ -74,7 +80,7 @@ def calibration_context(results: Mapping[str, Any]) -> dict[str, Any] | None:
         else:
             how = ("importance reweighting of the run's own samples (effective sample size "
                    f"{_num(cal['effective_sample_size'], '', 4)} of {cal['posterior_rows']:,})")
-        out.update(observations=obs, inputs=inputs, limits=limits, how=how,
+        out.update(observations=obs, inputs=inputs, limits=limits, points=points, how=how,
                    model_error=_num(cal["model_error_log_sd"], "", 3),
                    warnings=list(cal["warnings"]), note=cal["note"])
     if voi:
