@@ -164,7 +164,7 @@ def _predicted(obs_list: tuple[Observation, ...], cols: Mapping[str, Array],
 
 
 def _refuse(obs_list: tuple[Observation, ...], preds: list[Array], sigma: float,
-            units: str) -> None:
+            units: str, source: str = "") -> None:
     from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
 
     problems = []
@@ -189,7 +189,7 @@ def _refuse(obs_list: tuple[Observation, ...], preds: list[Array], sigma: float,
                 "observation, its overrides, or widen calibration.model_error",
                 found_text=f"outcome {obs.outcome!r} at {value / scale:.6g} {unit}"))
     if problems:
-        raise ScenarioError(problems)
+        raise ScenarioError(problems, source or None)
 
 
 def _input_summary(x: Array, w: Array) -> dict[str, float]:
@@ -310,7 +310,7 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     obs_list = history.observations
     m = next(iter(cols.values())).shape[0]
     preds = _predicted(obs_list, cols, theta, uncertain, seed)
-    _refuse(obs_list, preds, sigma, scenario.units)
+    _refuse(obs_list, preds, sigma, scenario.units, scenario.source_name)
     ll = np.column_stack([_loglik(o, c, sigma) for o, c in zip(obs_list, preds, strict=True)])
     total = ll.sum(axis=1)
     if not np.any(np.isfinite(total)):
@@ -319,7 +319,7 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
             "observations the model can reproduce together within its model error (check "
             "them and their overrides, widen calibration.model_error, or run more samples)",
             found_text=f"no sample of the run ({m:,}) agrees with all {len(obs_list)} "
-                       "observations at once")
+                       "observations at once", source=scenario.source_name or None)
     w_re = normalized_weights(total)
     ess = kish_ess(w_re)
     use_mcmc = spec.method == "mcmc" or (spec.method == "auto" and ess < spec.min_ess)

@@ -147,3 +147,21 @@ def test_history_no_sample_can_reproduce_together_is_refused() -> None:
         assess(parse_scenario(doc), samples=512)  # (with 256, R-3 alone is already refused)
     assert err.value.problems[0].key == "history"
     assert "reproduce together" in err.value.problems[0].expected
+
+
+def test_refusal_through_the_api_writes_nothing(tmp_path: Path) -> None:
+    # the command-line path: one message naming file, observation and key; no output folder
+    from risk.api import run_scenario
+
+    text = EXAMPLE.read_text(encoding="utf-8").replace(
+        'overrides = { depth = 8150, shmin_gradient = { dist = "normal", mean = 0.74, sd = 0.02 '
+        "} }", "overrides = { ucs = 350000 }").replace(
+        'inputs = ["twc_factor", "ucs"]', 'inputs = ["twc_factor"]')
+    path = tmp_path / "bad.toml"
+    path.write_text(text, encoding="utf-8")
+    with pytest.raises(ScenarioError) as err:
+        run_scenario(path, out=tmp_path / "out", samples=256)
+    assert str(path) in err.value.message
+    assert "history[2] ('R-2 sand onset').drawdown: found outcome 'onset' at 1600 psi" in (
+        err.value.message)
+    assert not (tmp_path / "out").exists()
