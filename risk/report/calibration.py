@@ -22,7 +22,9 @@ MODELLING_NOTE = (
     "at the observation's reservoir pressure and overrides; the true onset is taken to be that "
     "prediction times a lognormal model error of the stated standard deviation. Posterior by "
     "importance reweighting of the run's samples when the effective sample size reaches the "
-    "stated minimum, else by ensemble MCMC.")
+    "stated minimum, else by ensemble MCMC. Prior and posterior are both computed on the "
+    "run's stored samples (the first 65,536 at most), so the two columns compare like with "
+    "like.")
 
 
 def _r(x: float | None, digits: int = 6) -> float | None:
