@@ -73,6 +73,12 @@ def test_absent_without_history() -> None:
     assert plot_value_of_information({}) is None
 
 
-def test_figures_draw() -> None:
-    assert isinstance(plot_calibration(_results()), Figure)
-    assert isinstance(plot_value_of_information(_results()), Figure)
+def test_figures_draw_with_units_on_every_axis() -> None:
+    # the project's rule (common practice): every labelled axis names its unit in brackets
+    import re
+
+    for fig in (plot_calibration(_results()), plot_value_of_information(_results())):
+        assert isinstance(fig, Figure)
+        labels = [lab for ax in fig.axes for lab in (ax.get_xlabel(), ax.get_ylabel()) if lab]
+        assert labels
+        assert all(re.search(r"\[[^\]]+\]", lab) for lab in labels), labels
