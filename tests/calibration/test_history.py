@@ -135,6 +135,7 @@ def test_mcmc_path_reports_its_diagnostics() -> None:
     assert np.isfinite(list(m["rhat"].values())).all()
 
 
+@pytest.mark.slow
 def test_history_no_sample_can_reproduce_together_is_refused() -> None:
     # each observation alone is possible, but with R-3's rock far weaker (UCS 1,000 psi) no
     # sample both stays sand-free to 1,200 psi there and matches the others

@@ -54,6 +54,7 @@ def test_conjugate_reweighting_matches_closed_form() -> None:
     assert abs(sd - s) < 4 * s / math.sqrt(2 * ess)
 
 
+@pytest.mark.slow
 def test_conjugate_mcmc_matches_closed_form() -> None:
     def log_prob(z: np.ndarray) -> np.ndarray:
         x = z[:, 0]
