@@ -63,6 +63,7 @@ def test_context_states_units_method_and_rows() -> None:
     assert "effective sample size 812" in ctx["how"]
     assert ctx["limits"] == [{"p_r": "3,000 psi", "prior": "900 psi", "posterior": "800 psi"}]
     assert ctx["voi"]["rows"][0]["gains"] == ["111 ± 61"]
+    assert ctx["voi"]["rows"][1]["gains"] == ["-5 ± 20"]
     assert ctx["voi"]["rows"][1]["error"] == "6%"
     assert ctx["warnings"] == ["history 'A' conflicts"]
 

@@ -4,6 +4,7 @@ its value-of-information table: the template's view of the results' ``calibratio
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from typing import Any
 
@@ -23,9 +24,17 @@ _OUTCOME = {"onset": "sand onset at", "no_sand": "no sand up to",
 
 
 def _num(v: Any, unit: str = "", digits: int = 4) -> str:
+    """``v`` to ``digits`` significant digits (at least the whole number: 1,266 psi, not
+    1.27e+03 psi), thousands separated, without trailing zeros."""
     if v is None:
         return "–"
-    text = f"{float(v):,.{digits}g}"
+    x = float(v)
+    if not math.isfinite(x):
+        return "–"
+    decimals = 0 if x == 0 else max(digits - 1 - math.floor(math.log10(abs(x))), 0)
+    text = f"{round(x, decimals):,.{decimals}f}"
+    if "." in text:  # trailing zeros carry no information here
+        text = text.rstrip("0").rstrip(".")
     return f"{text} {unit}".strip()
 
 
@@ -79,7 +88,7 @@ def calibration_context(results: Mapping[str, Any]) -> dict[str, Any] | None:
                    f"sample size was {_num(cal['effective_sample_size'], '', 3)}")
         else:
             how = ("importance reweighting of the run's own samples (effective sample size "
-                   f"{_num(cal['effective_sample_size'], '', 4)} of {cal['posterior_rows']:,})")
+                   f"{_num(cal['effective_sample_size'], '', 3)} of {cal['posterior_rows']:,})")
         out.update(observations=obs, inputs=inputs, limits=limits, points=points, how=how,
                    model_error=_num(cal["model_error_log_sd"], "", 3),
                    warnings=list(cal["warnings"]), note=cal["note"])
