@@ -96,6 +96,10 @@ class Assessment:
     phasing: decision.PhasingChoice | None = None
     #: completion options of the scenario, evaluated on the same samples
     options: tuple[OptionResult, ...] = ()
+    #: field-history calibration (risk.calibration.Calibration; None: no history)
+    calibration: Any = None
+    #: value of information per measurement (risk.calibration.VoiRow; empty: not asked for)
+    value_of_information: tuple[Any, ...] = ()
     version: str = __version__
     provenance: Mapping[str, object] = field(default_factory=dict)
 
@@ -307,6 +311,27 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     return sens, torn, base
 
 
+def _calibration(scenario: Scenario, joint: Any, cols: Mapping[str, Array],
+                 by_direction: Mapping[str, NDArray[Any]], seed_: int
+                 ) -> tuple[Any, tuple[Any, ...]]:
+    """Calibration to the field history (when given) and the value of information, on the
+    stored samples (risk.calibration)."""
+    from risk.calibration import calibrate, value_of_information_table
+
+    dirs = {k: np.asarray(v, dtype=np.float64) for k, v in by_direction.items()}
+    cal = None
+    if scenario.history.calibration is not None:
+        cal = calibrate(scenario, joint, cols, dirs, seed_)
+    keys = tuple(k for k in decision.SAND_PRODUCTION if k in dirs)
+    if not keys:
+        return cal, ()
+    if cal is not None:
+        vcols, sand, w = cal.samples["cols"], cal.samples["sand"], cal.samples["weights"]
+    else:
+        vcols, sand, w = cols, decision.sand_drawdown(dirs, keys), None
+    return cal, value_of_information_table(scenario, vcols, sand, w, tuple(joint.names), seed_)
+
+
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            progress: Progress | None = None,
            step: Callable[[str], None] | None = None) -> Assessment:
@@ -420,6 +445,13 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     option_results = tuple(
         OptionResult(o.name, o.well, *_decisions(scenario, o.well, dc))
         for o, dc in zip(options, option_dc, strict=True))
+    calibration, voi = None, ()
+    if scenario.history is not None and joint.d > 0:
+        if step is not None:
+            step("calibration to the field history")
+        calibration, voi = _calibration(scenario, joint, col_head,
+                                        {k: r.by_direction[:head] for k, r in mechanisms.items()},
+                                        seed_)
     import scipy
 
     return Assessment(
@@ -430,6 +462,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         compaction=comp_all,
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
         collapse_profile=profile, sand_free=sand, phasing=phasing, options=option_results,
+        calibration=calibration, value_of_information=voi,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
                     "chunk": CHUNK, "sobol_balanced": sampler.balanced},
     )

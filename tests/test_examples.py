@@ -20,7 +20,10 @@ def test_three_examples_ship():
     assert units == {"field", "si"}
 
 
-@pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
+# an example with a field history runs its MCMC at this tiny sample size (about a minute)
+@pytest.mark.parametrize("path", [pytest.param(p, marks=pytest.mark.slow)
+                                  if "history" in p.stem else p for p in EXAMPLES],
+                         ids=lambda p: p.stem)
 def test_example_runs(path):
     s = summarize(assess(load_scenario(path), samples=64))
     json.dumps(s, allow_nan=False)

@@ -482,11 +482,13 @@ def test_named_random_streams_are_reproducible_and_distinct():
     # generators' first draws differ; the same arguments give the same draws
     from risk.uncertainty import STREAMS, rng_stream
 
-    assert set(STREAMS) == {"reliability", "sensitivity"}
+    assert set(STREAMS) == {"reliability", "sensitivity", "calibration", "mcmc", "voi"}
+    assert len(set(STREAMS.values())) == len(STREAMS)  # every key distinct
     a = rng_stream(7, "reliability", 0).random(4)
     assert np.array_equal(a, rng_stream(7, "reliability", 0).random(4))
     others = [rng_stream(7, "reliability", 1).random(4), rng_stream(7, "sensitivity").random(4),
+              rng_stream(7, "calibration", 0).random(4), rng_stream(7, "voi", 0).random(4),
               np.random.default_rng(7).random(4), rng_stream(8, "reliability", 0).random(4)]
     assert all(not np.array_equal(a, b) for b in others)
     with pytest.raises(KeyError):
-        rng_stream(7, "calibration")
+        rng_stream(7, "no-such-stream")

@@ -420,7 +420,7 @@ def summarize(run: Assessment | Result) -> dict[str, Any]:
     if a.collapse_profile and "tunnel_collapse" in mechanisms:
         mechanisms["tunnel_collapse"]["profile"] = _profile(a)
     sens_first, sens_stage, tornado = _sensitivity(a)
-    return {
+    out: dict[str, Any] = {
         "schema": SCHEMA,
         "tool": "risk",
         "version": a.version,
@@ -465,3 +465,12 @@ def summarize(run: Assessment | Result) -> dict[str, Any]:
         "provenance": dict(a.provenance),
         **extensions(a),
     }
+    # field-history calibration and value of information: only when the scenario asks
+    from risk.report.calibration import calibration_block, voi_block
+
+    cal, voi = calibration_block(a), voi_block(a)
+    if cal is not None:
+        out["calibration"] = cal
+    if voi is not None:
+        out["value_of_information"] = voi
+    return out

@@ -127,6 +127,8 @@ class Scenario:
     #: rise in water saturation of the near-well rock over the one its strength was measured
     #: at, per stage [1] (``[production] water_saturation``); empty: no water weakening
     water_saturation: tuple[float, ...] = ()
+    #: field sanding history and measurements (risk.calibration.History; None: none given)
+    history: Any = None
     raw: Mapping[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     @property

@@ -327,4 +327,8 @@ def parse_scenario(doc: Mapping[str, Any], *, source_name: str = "", sha256: str
             build_joint(names, [scenario.inputs[n] for n in names], [list(p) for p in corr])
         except ScenarioError as err:
             raise ScenarioError(err.problems, source_name) from None
+    if any(k in doc for k in ("history", "calibration", "measurement")):
+        from risk.calibration.history import parse_history
+
+        scenario = dataclasses.replace(scenario, history=parse_history(doc, scenario))
     return scenario

@@ -105,7 +105,7 @@ _SPEC: Final = INPUT_SPECS
 
 _SECTIONS: Final[dict[str, tuple[str, ...]]] = {
     "": ("title", "units", "well", "stress", "rock", "production", "analysis", "correlation",
-         "option"),
+         "option", "history", "calibration", "measurement"),
     "well": ("depth", "inclination", "azimuth", "completion", "shot_angles", "tunnel_diameter",
              "hole_diameter", "phasings"),
     "stress": tuple(s.name for s in INPUTS if s.section == "stress"),

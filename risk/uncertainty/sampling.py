@@ -170,7 +170,10 @@ class _FeistelLHS:
 #: independent of each other and of the sampling stream (``default_rng(seed)``), and adding a
 #: stream never changes the others. The keys are part of the reproducibility promise: changing
 #: one changes that stream's results.
-STREAMS: Final[dict[str, int]] = {"reliability": 1, "sensitivity": 2}
+STREAMS: Final[dict[str, int]] = {"reliability": 1, "sensitivity": 2,
+                                  # field-history calibration (issue 17): pairing of the
+                                  # well-to-well inputs, MCMC, value-of-information bootstrap
+                                  "calibration": 17, "mcmc": 18, "voi": 19}
 
 
 def rng_stream(seed: int, name: str, *index: int) -> np.random.Generator:

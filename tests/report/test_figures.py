@@ -22,8 +22,10 @@ PNG_MAGIC = b"\x89PNG\r\n\x1a\n"  # PNG specification (ISO/IEC 15948), section 5
 
 ALL = set(figures.FIGURES)
 #: figures of inputs the shared runs do not give: water weakening needs
-#: production.water_saturation (drawn in test_water_weakening_figure)
-OPTIONAL = {"water_weakening"}
+#: production.water_saturation (drawn in test_water_weakening_figure); the calibration and
+#: value-of-information figures need a field history or measurements in the scenario
+#: (tests/report/test_calibration_report.py draws them)
+OPTIONAL = {"water_weakening", "calibration", "value_of_information"}
 
 
 def _pixels(png: bytes) -> np.ndarray:

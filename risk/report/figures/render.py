@@ -10,6 +10,7 @@ from typing import Any, Final
 
 from matplotlib.figure import Figure
 
+from risk.report.figures.calibration import plot_calibration, plot_value_of_information
 from risk.report.figures.common import DPI, _styled
 from risk.report.figures.curves import (
     plot_envelope,
@@ -37,6 +38,8 @@ FIGURES: Final[dict[str, Callable[..., Any]]] = {
     "tornado": plot_tornado,
     "input_histograms": plot_input_histograms,
     "input_correlation": plot_input_correlation,
+    "calibration": plot_calibration,
+    "value_of_information": plot_value_of_information,
 }
 
 

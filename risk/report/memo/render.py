@@ -14,6 +14,7 @@ from markupsafe import Markup
 
 from risk.errors import visible
 from risk.report.figures import DPI, render_all
+from risk.report.memo.calibration import CALIBRATION_ASSUMPTION, calibration_context
 from risk.report.memo.common import _angle_reference, _punit
 from risk.report.memo.opening import _answer, _summary
 from risk.report.memo.sections import (
@@ -72,6 +73,9 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
                               "name": name, "width": _png_width_in(figures[name])}
     scenario = _scenario(results)
     assumptions = list(ASSUMPTIONS)
+    calibration = calibration_context(results)
+    if results.get("calibration"):
+        assumptions.append(CALIBRATION_ASSUMPTION)
     if scenario["log_based"]:
         assumptions.append("In this scenario these inputs rest at least partly on log "
                            "correlations, with the scatter stated above: "
@@ -106,6 +110,7 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
         "has_profile": bool(((results.get("mechanisms") or {}).get("tunnel_collapse") or {})
                             .get("profile")),
         "sensitivity": _sensitivity(results),
+        "calibration": calibration,
         "assumptions": assumptions,
         "input_warnings": [str(w) for w in results.get("warnings") or ()],
         "cautions": CAUTIONS,

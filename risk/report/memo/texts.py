@@ -30,6 +30,13 @@ CAPTIONS: Final[dict[str, str]] = {
         "on the same samples. A limit at zero means sand is expected with no drawdown."),
     "input_histograms": "Sampled inputs in the scenario's units, with P10, P50 and P90 marked.",
     "input_correlation": "Rank (Spearman) correlation between the sampled inputs, as sampled.",
+    "calibration": (
+        "Calibration to the field history: the sand-free limit over depletion and the first "
+        "stage's failure curves before (prior) and after (posterior) the history, and the "
+        "calibrated inputs' densities."),
+    "value_of_information": (
+        "Value of information: the expected gain of the sand-free drawdown limit at the "
+        "accepted risk per measurement and stage; bars show two Monte-Carlo standard errors."),
     "failure_probability": (
         "Probability of failure vs drawdown for each mechanism and depletion stage, with its "
         "95% confidence band. The dashed line is the accepted risk; each dot marks the drawdown "
