@@ -39,7 +39,8 @@ from risk.uncertainty import UnitSampler, build_joint, input_columns, rng_stream
 Array = NDArray[np.float64]
 Progress = Callable[[int, int], None]
 
-__all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "MECHANISMS", "physical_inputs",
+__all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "ChunkOutcome",
+           "evaluate_chunks", "chunk_count", "MECHANISMS", "physical_inputs",
            "CompactionResult", "DEFAULT_TWC_FACTOR", "cavity_radius", "collapse_profile",
            "depletion_paths", "evaluate_compaction", "PROFILE_POINTS", "PROFILE_SAMPLES"]
 
@@ -251,9 +252,101 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     return sens, torn, base
 
 
+@dataclass(frozen=True)
+class ChunkOutcome:
+    """What one sample chunk of a run evaluates to: the unit of work of a run split over
+    processes (:func:`evaluate_chunks` makes them, ``assess(chunks=...)`` continues from them).
+
+    Chunk ``index`` holds samples ``index * CHUNK`` to ``index * CHUNK + size`` of the run,
+    exactly as :func:`assess` draws and evaluates them itself, so a split run is bit-identical
+    to a single-process run with the same scenario, samples and seed.
+    """
+
+    index: int
+    size: int
+    #: by_direction (size, n_dir, n_stage) [MPa]; theta for the kept leading rows only [rad]
+    mechanisms: Mapping[str, MechanismResult]
+    #: per completion option, sand-production mechanism -> by_direction [MPa]
+    options: tuple[Mapping[str, Array], ...]
+    compaction: CompactionResult | None
+    inputs: Mapping[str, Array]  # the kept leading rows of every input [internal units]
+    xi: Array  # their independent standard normals (kept rows, d)
+    profile: tuple[Mapping[str, Any], ...] = ()  # tunnel-collapse profile (chunk 0 only)
+
+
+def _balanced(rule: str, n: int) -> bool:
+    """What :attr:`UnitSampler.balanced` reports after ``n`` points were drawn."""
+    return rule != "sobol" or (n > 0 and n & (n - 1) == 0)
+
+
+def _evaluate_drawn(scenario: Scenario, joint: Any, option_scenarios: list[Scenario],
+                    u: Array, *, index: int, keep: int) -> ChunkOutcome:
+    """Evaluate one chunk of unit-cube points ``u`` (every mechanism, the options, pore
+    collapse), keeping inputs, normals and wall angles of its first ``keep`` rows."""
+    x, xi = to_inputs(joint, u)
+    cols = input_columns(joint, x)
+    out = evaluate(cols, scenario)
+    profile: tuple[Mapping[str, Any], ...] = ()
+    if index == 0 and "tunnel_collapse" in out:
+        m0 = min(PROFILE_SAMPLES, u.shape[0])
+        profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
+                                   out["tunnel_collapse"].by_direction[:m0])
+    mechanisms = {k: MechanismResult(k, r.by_direction, r.theta[:keep]) for k, r in out.items()}
+    options = tuple({k: r.by_direction for k, r in
+                     evaluate(cols, osc, only=set(decision.SAND_PRODUCTION)).items()}
+                    for osc in option_scenarios)
+    comp = (evaluate_compaction(cols, scenario)
+            if "pore_collapse_pressure" in scenario.inputs else None)
+    return ChunkOutcome(index=index, size=u.shape[0], mechanisms=mechanisms, options=options,
+                        compaction=comp, inputs={k: v[:keep] for k, v in cols.items()},
+                        xi=xi[:keep], profile=profile)
+
+
+def chunk_count(scenario: Scenario, *, samples: int | None = None) -> int:
+    """How many sample chunks :func:`assess` evaluates for this scenario and sample count."""
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    n = scenario.samples if samples is None else int(samples)
+    return 1 if joint.d == 0 else -(-n // CHUNK)
+
+
+def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
+                    start: int, stop: int) -> list[ChunkOutcome]:
+    """Evaluate chunks ``start`` to ``stop - 1`` of the run ``assess(scenario, samples=samples,
+    seed=seed)`` would make, exactly as it would (the split-run hook of :mod:`risk.batch`).
+
+    The unit-cube stream is replayed from the seed up to chunk ``start`` (drawing points is
+    cheap next to evaluating them), so any contiguous range can run on any process and
+    ``assess(scenario, ..., chunks=...)`` fed with all of them gives bit-identical results.
+    """
+    n_req = scenario.samples if samples is None else int(samples)
+    seed_ = scenario.seed if seed is None else int(seed)
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    n = 1 if joint.d == 0 else n_req
+    total = -(-n // CHUNK)
+    if not 0 <= start <= stop <= total:
+        raise ValueError(f"chunks {start} to {stop} outside 0 to {total}")
+    sampler = UnitSampler(scenario.sampling, joint.d, np.random.default_rng(seed_))
+    option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in scenario.options]
+    head = min(n, HEAD_ROWS)
+    out = []
+    for index in range(stop):
+        done = index * CHUNK
+        m = min(CHUNK, n - done)
+        u = sampler.draw(m)
+        if index >= start:
+            out.append(_evaluate_drawn(scenario, joint, option_scenarios, u, index=index,
+                                       keep=max(0, min(m, head - done))))
+    return out
+
+
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            progress: Progress | None = None,
-           step: Callable[[str], None] | None = None) -> Assessment:
+           step: Callable[[str], None] | None = None,
+           chunks: Callable[[int], ChunkOutcome] | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
 
     Parameters
@@ -265,6 +358,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         Called after each evaluated chunk (the CLI shows a progress bar).
     step : callable(text), optional
         Told when a later step starts (small-risk methods, sensitivity).
+    chunks : callable(index) -> ChunkOutcome, optional
+        Outcomes of the sample chunks evaluated elsewhere (:func:`evaluate_chunks`, e.g. on
+        other processes); the run then draws and evaluates nothing itself and continues from
+        them (small-risk methods, sensitivity, decisions) exactly as if it had.
 
     Notes
     -----
@@ -297,19 +394,20 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
     option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
     done = 0
+    index = 0
     while done < n:
         m = min(CHUNK, n - done)
-        u = sampler.draw(m)
-        x, xi = to_inputs(joint, u)
-        cols = input_columns(joint, x)
-        out = evaluate(cols, scenario)
-        if done == 0 and "tunnel_collapse" in out:
-            m0 = min(PROFILE_SAMPLES, u.shape[0])
-            profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
-                                       out["tunnel_collapse"].by_direction[:m0])
         rows = slice(done, done + m)
         h = max(0, min(m, head - done))
-        for key, res in out.items():
+        c = (chunks(index) if chunks is not None else
+             _evaluate_drawn(scenario, joint, option_scenarios, sampler.draw(m), index=index,
+                             keep=h))
+        if c.index != index or c.size != m:
+            raise ValueError(f"chunk {c.index} of {c.size} samples given where chunk {index} "
+                             f"of {m} samples belongs")
+        if index == 0:
+            profile = c.profile
+        for key, res in c.mechanisms.items():
             if key not in dc_all:
                 dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
                 theta_head[key] = np.empty((head, n_dir, n_stage))
@@ -318,20 +416,20 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                 theta_head[key][done:done + h] = res.theta[:h]
         for i, osc in enumerate(option_scenarios):
             o_dir = len(osc.well.shot_angles) if osc.well.completion == "perforated" else 1
-            for key, res in evaluate(cols, osc, only=set(decision.SAND_PRODUCTION)).items():
+            for key, arr in c.options[i].items():
                 if key not in option_dc[i]:
                     option_dc[i][key] = np.empty((n, o_dir, n_stage), dtype=dtype)
-                option_dc[i][key][rows] = res.by_direction
-        if with_compaction:
-            comp = evaluate_compaction(cols, scenario)
-            far_all[rows] = comp.far_field
-            wall_all[rows] = comp.wall
-            p0_all[rows] = comp.initial
+                option_dc[i][key][rows] = arr
+        if with_compaction and c.compaction is not None:
+            far_all[rows] = c.compaction.far_field
+            wall_all[rows] = c.compaction.wall
+            p0_all[rows] = c.compaction.initial
         if h:
             for k in names:
-                col_head[k][done:done + h] = cols[k][:h]
-            xi_head[done:done + h] = xi[:h]
+                col_head[k][done:done + h] = c.inputs[k][:h]
+            xi_head[done:done + h] = c.xi[:h]
         done += m
+        index += 1
         if progress is not None:
             progress(done, n)
     mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key]) for key in dc_all}
@@ -379,5 +477,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         reliability=reliability, sensitivity=sens, tornado=torn, tornado_base=torn_base,
         collapse_profile=profile, sand_free=sand, phasing=phasing, options=option_results,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
-                    "chunk": CHUNK, "sobol_balanced": sampler.balanced},
+                    "chunk": CHUNK,
+                    "sobol_balanced": (sampler.balanced if chunks is None
+                                       else _balanced(scenario.sampling, n))},
     )
