@@ -22,8 +22,11 @@ text; an empty cell overrides nothing.
 
 Merging: the overrides' tables merge into the base key by key, down to the keys of an
 uncertain input's table; a table that names a distribution (``dist``) replaces the whole value.
-A case whose base is the defaults is titled ``"<well>, <interval>: <defaults' title>"`` unless
-it sets a title. Problems with the field file itself (its syntax, a missing well name, two
+A case whose base is the defaults is titled ``"<well>, <interval>: <field title>"`` (the
+defaults' title when the field has none) unless it sets a title. Cases run in the order of the
+``[[case]]`` tables, then the table's rows.
+
+Problems with the field file itself (its syntax, a missing well name, two
 cases with the same name, an unreadable table) are :class:`~risk.errors.ScenarioError` s, all
 gathered; problems of one case's scenario are that case's failure (reported in the results
 table, the others run).
@@ -347,7 +350,7 @@ def _cases(entries: list[tuple[str, Any]], defaults: Mapping[str, Any] | None, t
             base = dict(defaults)
             if "title" not in over:
                 label = f"{well}, {interval}" if interval else well
-                base["title"] = f"{label}: {defaults.get('title') or title or 'field case'}"
+                base["title"] = f"{label}: {title or defaults.get('title') or 'field case'}"
             source = ""
         doc = merge(base, over)
         if over or scen is None:

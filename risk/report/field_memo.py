@@ -145,7 +145,8 @@ def _charts(ctx: Mapping[str, Any]) -> dict[str, bytes]:
     ax.invert_yaxis()
     ax.set_xlabel(f"sand-free drawdown limit [{unit}]")
     ax.grid(axis="x", alpha=0.3)
-    ax.legend(fontsize=7, loc="lower right", title="depletion stage", title_fontsize=7)
+    ax.legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.01, 1.0), title="stage",
+              title_fontsize=7)
     fig.tight_layout()
     out = {"field_limits": _png(fig)}
     env = ctx["envelope"]
