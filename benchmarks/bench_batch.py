@@ -1,0 +1,104 @@
+"""risk batch: scaling from 1 to 2 local workers, and the per-case overhead of the batch path.
+
+Usage::
+
+    python benchmarks/bench_batch.py                       # the issue's 200 cases x 20,000
+    python benchmarks/bench_batch.py --cases 8 --samples 4096   # a quick look
+
+Prints ratios (the machines are shared: absolute times vary, ratios much less):
+
+- scaling = wall time on 1 worker / wall time on 2 workers (goal >= 1.7 on two free cores);
+- overhead = (batch wall time per case on 1 worker) / (bare ``risk.assess`` per case, one
+  process, same cases) - 1 (goal <= 10% at 20,000 samples). The batch path includes what a
+  bare call does not: scenario validation on the client, the task round trip, the JSON summary
+  (results.json, run.json) and writing each case folder; case memos are off (``--memos`` adds
+  them; they cost about as much as the assessment itself).
+
+The cases are the fictional Ravenmoor R-7 scenario at depths a few feet apart (each case its
+own scenario, hence its own digest). Cluster start-up is timed apart.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+R7 = ROOT / "examples" / "ravenmoor_r7_openhole.toml"
+
+
+def field(cases: int) -> dict[str, object]:
+    return {"title": "Ravenmoor benchmark field", "defaults": str(R7),
+            "case": [{"well": f"B-{i:03d}", "overrides": {"well": {"depth": 7800 + i}}}
+                     for i in range(cases)]}
+
+
+def bare(cases: int, samples: int) -> float:
+    """Seconds for the same cases through ``risk.assess`` in this process, one after another."""
+    import risk
+    from risk.batch import load_field
+
+    scenarios = [risk.load_scenario(c.document) for c in load_field(field(cases)).cases]
+    risk.assess(scenarios[0], samples=256)  # numba kernel loaded, imports done
+    t = time.perf_counter()
+    for sc in scenarios:
+        risk.assess(sc, samples=samples)
+    return time.perf_counter() - t
+
+
+def batch(cases: int, samples: int, workers: int, memos: bool) -> tuple[float, float]:
+    """(start-up, batch) seconds on a fresh local cluster of ``workers`` processes."""
+    from distributed import Client, LocalCluster
+
+    from risk.batch import run_field
+
+    t0 = time.perf_counter()
+    one = dict.fromkeys(("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS"), "1")
+    with LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
+                      dashboard_address=":0", env=one) as cluster, Client(cluster) as client:
+        client.run(_warm)
+        start = time.perf_counter() - t0
+        with tempfile.TemporaryDirectory() as tmp:
+            t = time.perf_counter()
+            res = run_field(field(cases), out=Path(tmp) / "out", client=client,
+                            samples=samples, memos=memos)
+            took = time.perf_counter() - t
+        if res.failed:
+            raise SystemExit(f"failed cases: {res.failed}")
+    return start, took
+
+
+def _warm() -> None:
+    import risk
+
+    risk.assess(risk.load_scenario(R7), samples=256)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__,
+                                 formatter_class=argparse.RawDescriptionHelpFormatter)
+    ap.add_argument("--cases", type=int, default=200)
+    ap.add_argument("--samples", type=int, default=20_000)
+    ap.add_argument("--memos", action="store_true")
+    args = ap.parse_args()
+    os.environ.setdefault("NUMBA_NUM_THREADS", "1")
+    os.environ.setdefault("OMP_NUM_THREADS", "1")
+    print(f"{args.cases} cases x {args.samples:,} samples, CPUs available: "
+          f"{len(os.sched_getaffinity(0))}")
+    t_bare = bare(args.cases, args.samples)
+    s1, t1 = batch(args.cases, args.samples, 1, args.memos)
+    s2, t2 = batch(args.cases, args.samples, 2, args.memos)
+    print(f"bare risk.assess, one process : {t_bare / args.cases:8.3f} s per case")
+    print(f"batch, 1 worker               : {t1 / args.cases:8.3f} s per case "
+          f"(cluster start {s1:.1f} s)")
+    print(f"batch, 2 workers              : {t2 / args.cases:8.3f} s per case "
+          f"(cluster start {s2:.1f} s)")
+    print(f"scaling 1 -> 2 workers        : {t1 / t2:8.2f}  (goal >= 1.7 on two free cores)")
+    print(f"per-case overhead vs bare     : {t1 / t_bare - 1:8.1%}  (goal <= 10% at 20,000)")
+
+
+if __name__ == "__main__":
+    main()
