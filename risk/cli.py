@@ -238,13 +238,8 @@ def batch(
     from risk.batch import EXIT_CASES_FAILED, run_field
 
     show = not quiet and sys.stderr.isatty()
-    if show:
-        result = _guard(_batch_with_progress, run_field, field, out=out, workers=workers,
-                        scheduler=scheduler, samples=samples, seed=seed, memos=memos,
-                        force=force)
-    else:
-        result = _guard(run_field, field, out=out, workers=workers, scheduler=scheduler,
-                        samples=samples, seed=seed, memos=memos, force=force)
+    result = _guard(_batch_run, run_field, field, show=show, out=out, workers=workers,
+                    scheduler=scheduler, samples=samples, seed=seed, memos=memos, force=force)
     if result.kept_foreign and not quiet:
         _warn_kept(result.out_dir, result.kept_foreign)
     if not quiet:
@@ -256,6 +251,16 @@ def batch(
             typer.echo(f"failed: {_plain(st.case)}: {_plain(st.message)}", err=True)
     if result.failed:
         raise typer.Exit(EXIT_CASES_FAILED)
+
+
+def _batch_run(run: Any, field: Path, *, show: bool, **kwargs: Any) -> Any:
+    """The batch (with progress bars when shown); an interruption keeps the finished cases."""
+    try:
+        return _batch_with_progress(run, field, **kwargs) if show else run(field, **kwargs)
+    except KeyboardInterrupt:
+        _fail("interrupted; the cases that finished are kept in "
+              f"{_escape(repr(str(kwargs['out'])))}/cases and the same command resumes from "
+              "them", 130)
 
 
 def _batch_with_progress(run: Any, field: Path, **kwargs: Any) -> Any:

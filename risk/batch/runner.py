@@ -324,7 +324,8 @@ def _run(fld: Field, top: Any, workers: int | None, scheduler: str | None, clien
                 finish(case, True, True, None, digest, 0.0)
                 continue
         n = chunk_count(scenario, samples=samples)
-        tasks[case.id] = (case, task, n * CHUNK > split_samples and n > 1)
+        wanted = scenario.samples if samples is None else samples
+        tasks[case.id] = (case, task, wanted > split_samples and n > 1)
     if tasks:
         _compute(tasks, workers, scheduler, client, split_samples // CHUNK, top, force,
                  summaries, finish, tell)

@@ -56,7 +56,10 @@ def test_a_bad_case_is_reported_and_the_others_complete(tmp_path, client):
     assert set(sf["seed"]) == {written["seed"]} and set(sf["version"]) == {written["version"]}
     csv = pd.read_csv(out / "results.csv")
     assert len(csv) == len(table)
-    assert (out / "field_memo.html").is_file() and (out / "batch.json").is_file()
+    memo = (out / "field_memo.html").read_text()
+    assert "Safety cautions" in memo and "[psi]" in memo and "rock.ucs.median" in memo
+    assert (out / "field_memo.pdf").read_bytes()[:5] == b"%PDF-"
+    assert json.loads((out / "batch.json").read_text())["failed"] == 1
 
 
 def test_cli_exit_codes_bad_field_file_2_bad_case_3(tmp_path, client):
@@ -159,3 +162,17 @@ def test_batch_of_the_examples_equals_separate_runs(tmp_path, client):
         batch = json.loads((tmp_path / "batch" / "cases" / n / "results.json").read_text())
         assert batch == single  # value by value, provenance and scenario digest included
         assert (tmp_path / "batch" / "cases" / n / "memo.pdf").is_file()
+
+
+@pytest.mark.slow
+def test_cli_runs_the_example_field_on_its_own_local_cluster(tmp_path):
+    import pandas as pd
+
+    r = CliRunner().invoke(app, ["batch", str(EXAMPLES / "ravenmoor_field.toml"), "--out",
+                                 str(tmp_path / "field"), "--samples", "256", "--workers", "2",
+                                 "--no-memos"])
+    assert r.exit_code == 0, r.output
+    table = pd.read_parquet(tmp_path / "field" / "results.parquet")
+    assert set(table["status"]) == {"ok"} and table["case"].nunique() == 6
+    html = (tmp_path / "field" / "field_memo.html").read_text()
+    assert "Safety cautions" in html and "R-9/Lower Tarn" in html
