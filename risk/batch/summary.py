@@ -51,7 +51,8 @@ def _scale(summary: Mapping[str, Any], units: str) -> float:
 
 def ranking(fld: Field, summaries: Mapping[str, Mapping[str, Any]]) -> list[dict[str, Any]]:
     """Cases with a sand-free limit, smallest limit over the stages first (the most
-    constraining well first); ties by case name."""
+    constraining well first); at equal limits the one reaching it earlier in depletion (at
+    the higher reservoir pressure) first, then by case name."""
     out = []
     for cid, s in summaries.items():
         sf = s.get("sand_free")
@@ -71,7 +72,7 @@ def ranking(fld: Field, summaries: Mapping[str, Mapping[str, Any]]) -> list[dict
                     "lower": low, "p_planned_max": max(pts) if pts else None,
                     "accepted_risk": s.get("accepted_risk"),
                     "limits": [t[0] for t in stages], "pressures": [t[1] for t in stages]})
-    out.sort(key=lambda r: (r["limit"], r["case"]))
+    out.sort(key=lambda r: (r["limit"], -r["reservoir_pressure"], r["case"]))
     return out
 
 
