@@ -274,6 +274,12 @@ class ChunkOutcome:
     profile: tuple[Mapping[str, Any], ...] = ()  # tunnel-collapse profile (chunk 0 only)
 
 
+def _sampler(scenario: Scenario, joint: Any, seed: int, n: int) -> UnitSampler:
+    """The run's unit-cube sampler for ``n`` samples in all (the one place both
+    :func:`assess` and :func:`evaluate_chunks` make it, so that they draw the same points)."""
+    return UnitSampler(scenario.sampling, joint.d, np.random.default_rng(seed))
+
+
 def _balanced(rule: str, n: int) -> bool:
     """What :attr:`UnitSampler.balanced` reports after ``n`` points were drawn."""
     return rule != "sobol" or (n > 0 and n & (n - 1) == 0)
@@ -329,7 +335,7 @@ def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int
     total = -(-n // CHUNK)
     if not 0 <= start <= stop <= total:
         raise ValueError(f"chunks {start} to {stop} outside 0 to {total}")
-    sampler = UnitSampler(scenario.sampling, joint.d, np.random.default_rng(seed_))
+    sampler = _sampler(scenario, joint, seed_, n)
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in scenario.options]
     head = min(n, HEAD_ROWS)
     out = []
@@ -375,8 +381,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                         [list(p) for p in scenario.correlation])
     deterministic = joint.d == 0
     n = 1 if deterministic else n_req
-    rng = np.random.default_rng(seed_)
-    sampler = UnitSampler(scenario.sampling, joint.d, rng)
+    sampler = _sampler(scenario, joint, seed_, n)
     n_dir = len(scenario.well.shot_angles) if scenario.well.completion == "perforated" else 1
     n_stage = len(scenario.reservoir_pressure)
     dtype = np.float64 if n <= LARGE_RUN else np.float32
