@@ -151,12 +151,13 @@ def run_chunks(task: CaseTask, start: int, stop: int) -> list[Any]:
 
 def finish_case(task: CaseTask, *parts: list[Any]) -> CaseOutcome:
     """Continue a split case from its evaluated chunks (``assess(chunks=...)``)."""
-    chunks = [c for part in parts for c in part]
+    # each chunk is let go once assess has copied it in (its arrays are not held twice)
+    chunks = {c.index: c for part in parts for c in part}
 
     def work() -> dict[str, Any]:
         from risk.assessment import assess
         from risk.report.results import summarize
 
         return summarize(assess(scenario_of(task), samples=task.samples, seed=task.seed,
-                                chunks=chunks.__getitem__))
+                                chunks=chunks.pop))
     return _guarded(task, work)
