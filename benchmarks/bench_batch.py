@@ -64,12 +64,13 @@ def batch(client: object, cases: int, first: int, samples: int, memos: bool) -> 
 
 
 def cluster(workers: int) -> tuple[object, object, float]:
-    from distributed import Client, LocalCluster
+    """The local cluster ``risk batch`` starts (risk.batch.runner.local_cluster)."""
+    from distributed import Client
+
+    from risk.batch.runner import local_cluster
 
     t0 = time.perf_counter()
-    one = dict.fromkeys(("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS"), "1")
-    c = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
-                     dashboard_address=":0", env=one)
+    c = local_cluster(workers, dashboard_address=":0")
     client = Client(c)
     client.run(_warm)
     return c, client, time.perf_counter() - t0

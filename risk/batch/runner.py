@@ -45,7 +45,7 @@ from risk.batch.tasks import (
 from risk.errors import ScenarioError
 
 __all__ = ["run_field", "FieldResult", "CaseStatus", "ProgressEvent", "EXIT_CASES_FAILED",
-           "SPLIT_SAMPLES", "CASES_DIR"]
+           "SPLIT_SAMPLES", "CASES_DIR", "local_cluster", "LOCAL_CONFIG"]
 
 #: Exit code of ``risk batch`` when the batch ran but at least one case failed (bad input to
 #: the field file or the options is 2, before anything runs).
@@ -155,11 +155,43 @@ def _reusable(folder: Path, digest: str) -> dict[str, Any] | None:
     return summary if isinstance(summary, dict) else None
 
 
+#: Worker settings of the local cluster. Measured (benchmarks/bench_batch.py, README there):
+#: with distributed's defaults a case took 1.6-2.2x as long on a worker as in a plain process
+#: on a loaded two-core machine: the statistical profiler (a thread waking every 10 ms) and
+#: the GIL monitor take the GIL from the computing thread, and MALLOC_TRIM_THRESHOLD_ turns
+#: off glibc's dynamic mmap threshold so that every sample-sized temporary array is mapped
+#: and unmapped again (15-25% alone). Off, a case costs what it costs in a plain process.
+LOCAL_CONFIG: Final[dict[str, Any]] = {
+    "distributed.worker.profile.enabled": False,
+    "distributed.admin.system-monitor.gil.enabled": False,
+    "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
+}
+
+
+def local_cluster(workers: int | None = None, **kwargs: Any) -> Any:
+    """A local Dask cluster for cases: ``workers`` processes (default: the CPUs this process
+    may use) of one thread each, numerical libraries single-threaded, the settings of
+    :data:`LOCAL_CONFIG`. Extra keyword arguments go to :class:`distributed.LocalCluster`."""
+    import logging
+
+    import dask
+    from distributed import LocalCluster
+
+    n = workers or max(1, len(os.sched_getaffinity(0)))
+    one = dict.fromkeys(("NUMBA_NUM_THREADS", "OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS",
+                         "MKL_NUM_THREADS"), "1")
+    options: dict[str, Any] = {"n_workers": n, "threads_per_worker": 1, "processes": True,
+                               "dashboard_address": None, "silence_logs": logging.CRITICAL,
+                               "env": one, **kwargs}
+    with dask.config.set(LOCAL_CONFIG):
+        return LocalCluster(**options)
+
+
 class _Cluster:
     """The client to submit to, and what to close afterwards."""
 
     def __init__(self, workers: int | None, scheduler: str | None, client: Any) -> None:
-        from distributed import Client, LocalCluster
+        from distributed import Client
 
         self.cluster: Any = None
         self.own = client is None
@@ -174,14 +206,7 @@ class _Cluster:
                     "scheduler (such as tcp://10.0.0.5:8786)",
                     found_text=f"{scheduler!r} (no scheduler answered: {exc})") from None
         else:
-            import logging
-
-            n = workers or max(1, len(os.sched_getaffinity(0)))
-            one = dict.fromkeys(("NUMBA_NUM_THREADS", "OMP_NUM_THREADS",
-                                 "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"), "1")
-            self.cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True,
-                                        dashboard_address=None, silence_logs=logging.CRITICAL,
-                                        env=one)
+            self.cluster = local_cluster(workers)
             self.client = Client(self.cluster)
         try:
             versions = self.client.run(_version)
