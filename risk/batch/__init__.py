@@ -4,7 +4,7 @@ on an existing ``dask.distributed`` cluster.
 From a notebook::
 
     import risk.batch
-    res = risk.batch.run_field("examples/ravenmoor_field.toml", out="reports/field",
+    res = risk.batch.run_field("examples/field/ravenmoor_field.toml", out="reports/field",
                                workers=2, samples=4096)
     res.table                       # pandas: one row per well x interval x mechanism x stage
     res.failed                      # cases that did not finish, with their messages

@@ -168,9 +168,9 @@ def test_batch_of_the_examples_equals_separate_runs(tmp_path, client):
 def test_cli_runs_the_example_field_on_its_own_local_cluster(tmp_path):
     import pandas as pd
 
-    r = CliRunner().invoke(app, ["batch", str(EXAMPLES / "ravenmoor_field.toml"), "--out",
-                                 str(tmp_path / "field"), "--samples", "256", "--workers", "2",
-                                 "--no-memos"])
+    field = EXAMPLES / "field" / "ravenmoor_field.toml"
+    r = CliRunner().invoke(app, ["batch", str(field), "--out", str(tmp_path / "field"),
+                                 "--samples", "256", "--workers", "2", "--no-memos"])
     assert r.exit_code == 0, r.output
     table = pd.read_parquet(tmp_path / "field" / "results.parquet")
     assert set(table["status"]) == {"ok"} and table["case"].nunique() == 6
