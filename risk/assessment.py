@@ -39,7 +39,8 @@ from risk.uncertainty import UnitSampler, build_joint, input_columns, rng_stream
 Array = NDArray[np.float64]
 Progress = Callable[[int, int], None]
 
-__all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "MECHANISMS", "physical_inputs",
+__all__ = ["MechanismResult", "Assessment", "assess", "evaluate", "ChunkOutcome",
+           "evaluate_chunks", "chunk_count", "MECHANISMS", "physical_inputs",
            "CompactionResult", "DEFAULT_TWC_FACTOR", "cavity_radius", "collapse_profile",
            "depletion_paths", "evaluate_compaction", "PROFILE_POINTS", "PROFILE_SAMPLES"]
 
@@ -332,9 +333,108 @@ def _calibration(scenario: Scenario, joint: Any, cols: Mapping[str, Array],
     return cal, value_of_information_table(scenario, vcols, sand, w, tuple(joint.names), seed_)
 
 
+@dataclass(frozen=True)
+class ChunkOutcome:
+    """What one sample chunk of a run evaluates to: the unit of work of a run split over
+    processes (:func:`evaluate_chunks` makes them, ``assess(chunks=...)`` continues from them).
+
+    Chunk ``index`` holds samples ``index * CHUNK`` to ``index * CHUNK + size`` of the run,
+    exactly as :func:`assess` draws and evaluates them itself, so a split run is bit-identical
+    to a single-process run with the same scenario, samples and seed.
+    """
+
+    index: int
+    size: int
+    #: by_direction (size, n_dir, n_stage) [MPa]; theta for the kept leading rows only [rad]
+    mechanisms: Mapping[str, MechanismResult]
+    #: per completion option, sand-production mechanism -> by_direction [MPa]
+    options: tuple[Mapping[str, Array], ...]
+    compaction: CompactionResult | None
+    inputs: Mapping[str, Array]  # the kept leading rows of every input [internal units]
+    xi: Array  # their independent standard normals (kept rows, d)
+    profile: tuple[Mapping[str, Any], ...] = ()  # tunnel-collapse profile (chunk 0 only)
+
+
+def _sampler(scenario: Scenario, joint: Any, seed: int, n: int) -> UnitSampler:
+    """The run's unit-cube sampler for ``n`` samples in all (the one place both
+    :func:`assess` and :func:`evaluate_chunks` make it, so that they draw the same points)."""
+    return UnitSampler(scenario.sampling, joint.d, np.random.default_rng(seed), total=n)
+
+
+def _balanced(rule: str, n: int) -> bool:
+    """What :attr:`UnitSampler.balanced` reports after ``n`` points were drawn."""
+    return rule != "sobol" or (n > 0 and n & (n - 1) == 0)
+
+
+def _evaluate_drawn(scenario: Scenario, joint: Any, option_scenarios: list[Scenario],
+                    u: Array, *, index: int, keep: int) -> ChunkOutcome:
+    """Evaluate one chunk of unit-cube points ``u`` (every mechanism, the options, pore
+    collapse), keeping inputs, normals and wall angles of its first ``keep`` rows."""
+    x, xi = to_inputs(joint, u)
+    cols = input_columns(joint, x)
+    out = evaluate(cols, scenario, parts=True)
+    profile: tuple[Mapping[str, Any], ...] = ()
+    if index == 0 and "tunnel_collapse" in out:
+        m0 = min(PROFILE_SAMPLES, u.shape[0])
+        profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
+                                   out["tunnel_collapse"].by_direction[:m0])
+    mechanisms = {k: MechanismResult(k, r.by_direction, r.theta[:keep], r.parts)
+                  for k, r in out.items()}
+    options = tuple({k: r.by_direction for k, r in
+                     evaluate(cols, osc, only=set(decision.SAND_PRODUCTION)).items()}
+                    for osc in option_scenarios)
+    comp = (evaluate_compaction(cols, scenario)
+            if "pore_collapse_pressure" in scenario.inputs else None)
+    return ChunkOutcome(index=index, size=u.shape[0], mechanisms=mechanisms, options=options,
+                        compaction=comp, inputs={k: v[:keep] for k, v in cols.items()},
+                        xi=xi[:keep], profile=profile)
+
+
+def chunk_count(scenario: Scenario, *, samples: int | None = None) -> int:
+    """How many sample chunks :func:`assess` evaluates for this scenario and sample count."""
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    n = scenario.samples if samples is None else int(samples)
+    return 1 if joint.d == 0 else -(-n // CHUNK)
+
+
+def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
+                    start: int, stop: int) -> list[ChunkOutcome]:
+    """Evaluate chunks ``start`` to ``stop - 1`` of the run ``assess(scenario, samples=samples,
+    seed=seed)`` would make, exactly as it would (the split-run hook of :mod:`risk.batch`).
+
+    The unit-cube stream is replayed from the seed up to chunk ``start`` (drawing points is
+    cheap next to evaluating them), so any contiguous range can run on any process and
+    ``assess(scenario, ..., chunks=...)`` fed with all of them gives bit-identical results.
+    """
+    n_req = scenario.samples if samples is None else int(samples)
+    seed_ = scenario.seed if seed is None else int(seed)
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    n = 1 if joint.d == 0 else n_req
+    total = -(-n // CHUNK)
+    if not 0 <= start <= stop <= total:
+        raise ValueError(f"chunks {start} to {stop} outside 0 to {total}")
+    sampler = _sampler(scenario, joint, seed_, n)
+    option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in scenario.options]
+    head = min(n, HEAD_ROWS)
+    out = []
+    for index in range(stop):
+        done = index * CHUNK
+        m = min(CHUNK, n - done)
+        u = sampler.draw(m)
+        if index >= start:
+            out.append(_evaluate_drawn(scenario, joint, option_scenarios, u, index=index,
+                                       keep=max(0, min(m, head - done))))
+    return out
+
+
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            progress: Progress | None = None,
-           step: Callable[[str], None] | None = None) -> Assessment:
+           step: Callable[[str], None] | None = None,
+           chunks: Callable[[int], ChunkOutcome] | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
 
     Parameters
@@ -346,6 +446,10 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         Called after each evaluated chunk (the CLI shows a progress bar).
     step : callable(text), optional
         Told when a later step starts (small-risk methods, sensitivity).
+    chunks : callable(index) -> ChunkOutcome, optional
+        Outcomes of the sample chunks evaluated elsewhere (:func:`evaluate_chunks`, e.g. on
+        other processes); the run then draws and evaluates nothing itself and continues from
+        them (small-risk methods, sensitivity, decisions) exactly as if it had.
 
     Notes
     -----
@@ -359,8 +463,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                         [list(p) for p in scenario.correlation])
     deterministic = joint.d == 0
     n = 1 if deterministic else n_req
-    rng = np.random.default_rng(seed_)
-    sampler = UnitSampler(scenario.sampling, joint.d, rng, total=n)
+    sampler = _sampler(scenario, joint, seed_, n)
     n_dir = len(scenario.well.shot_angles) if scenario.well.completion == "perforated" else 1
     n_stage = len(scenario.reservoir_pressure)
     dtype = np.float64 if n <= LARGE_RUN else np.float32
@@ -381,19 +484,20 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
     option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
     done = 0
+    index = 0
     while done < n:
         m = min(CHUNK, n - done)
-        u = sampler.draw(m)
-        x, xi = to_inputs(joint, u)
-        cols = input_columns(joint, x)
-        out = evaluate(cols, scenario, parts=True)
-        if done == 0 and "tunnel_collapse" in out:
-            m0 = min(PROFILE_SAMPLES, u.shape[0])
-            profile = collapse_profile({k: v[:m0] for k, v in cols.items()}, scenario,
-                                       out["tunnel_collapse"].by_direction[:m0])
         rows = slice(done, done + m)
         h = max(0, min(m, head - done))
-        for key, res in out.items():
+        c = (chunks(index) if chunks is not None else
+             _evaluate_drawn(scenario, joint, option_scenarios, sampler.draw(m), index=index,
+                             keep=h))
+        if c.index != index or c.size != m:
+            raise ValueError(f"chunk {c.index} of {c.size} samples given where chunk {index} "
+                             f"of {m} samples belongs")
+        if index == 0:
+            profile = c.profile
+        for key, res in c.mechanisms.items():
             if key not in dc_all:
                 dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
                 theta_head[key] = np.empty((head, n_dir, n_stage))
@@ -407,26 +511,26 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
                 theta_head[key][done:done + h] = res.theta[:h]
         for i, osc in enumerate(option_scenarios):
             o_dir = len(osc.well.shot_angles) if osc.well.completion == "perforated" else 1
-            for key, res in evaluate(cols, osc, only=set(decision.SAND_PRODUCTION)).items():
+            for key, arr in c.options[i].items():
                 if key not in option_dc[i]:
                     option_dc[i][key] = np.empty((n, o_dir, n_stage), dtype=dtype)
-                option_dc[i][key][rows] = res.by_direction
-        if with_compaction:
-            comp = evaluate_compaction(cols, scenario)
-            far_all[rows] = comp.far_field
-            wall_all[rows] = comp.wall
-            p0_all[rows] = comp.initial
-            if comp.far_field_mean_stress is not None:
+                option_dc[i][key][rows] = arr
+        if with_compaction and c.compaction is not None:
+            far_all[rows] = c.compaction.far_field
+            wall_all[rows] = c.compaction.wall
+            p0_all[rows] = c.compaction.initial
+            if c.compaction.far_field_mean_stress is not None:
                 if mean_far_all is None:
                     mean_far_all = np.empty(n, dtype=dtype)
-                mean_far_all[rows] = comp.far_field_mean_stress
-            if comp.wall_at_max_drawdown is not None:
-                wall_dd_all[rows] = comp.wall_at_max_drawdown
+                mean_far_all[rows] = c.compaction.far_field_mean_stress
+            if c.compaction.wall_at_max_drawdown is not None:
+                wall_dd_all[rows] = c.compaction.wall_at_max_drawdown
         if h:
             for k in names:
-                col_head[k][done:done + h] = cols[k][:h]
-            xi_head[done:done + h] = xi[:h]
+                col_head[k][done:done + h] = c.inputs[k][:h]
+            xi_head[done:done + h] = c.xi[:h]
         done += m
+        index += 1
         if progress is not None:
             progress(done, n)
     mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key],
@@ -464,5 +568,7 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         collapse_profile=profile, sand_free=sand, phasing=phasing, options=option_results,
         calibration=calibration, value_of_information=voi,
         provenance={"numpy": np.__version__, "scipy": scipy.__version__,
-                    "chunk": CHUNK, "sobol_balanced": sampler.balanced},
+                    "chunk": CHUNK,
+                    "sobol_balanced": (sampler.balanced if chunks is None
+                                       else _balanced(scenario.sampling, n))},
     )

@@ -1,7 +1,9 @@
 """Command line: parse, call one library function, map the domain error to exit code 2.
 
 Exit codes: 0 success; 2 bad input (scenario, options, paths) with one message and no
-traceback; 1 an internal error (a bug: please report it with the scenario).
+traceback; 1 an internal error (a bug: please report it with the scenario); 3 (``risk batch``
+only) the batch ran but at least one case failed: the others finished and the results table
+names the failed cases and why; 130 interrupted.
 Heavy libraries are imported inside the commands so that ``risk --help`` answers fast.
 """
 
@@ -215,6 +217,90 @@ def memo(
 
     path = _guard(render_memo, out, force=force)
     typer.echo(f"memo: {_plain(path)}")
+
+
+@app.command()
+def batch(
+    field: Annotated[Path, typer.Argument(help="Field file (TOML): shared defaults and, per "
+                                          "well and interval, what differs.",
+                                          metavar="FIELD")],
+    out: Annotated[Path, typer.Option(
+        "--out", "-o", help="Output folder: results.parquet, results.csv, field_memo.html, "
+        "and each case's outputs in cases/ (new, empty, or written by risk before).",
+        metavar="DIR")] = Path("reports/field"),
+    workers: Annotated[str | None, typer.Option(
+        help="Worker processes of the local cluster (default: one per CPU).",
+        metavar="N")] = None,
+    scheduler: Annotated[str | None, typer.Option(
+        help="Run on an existing dask.distributed scheduler instead (tcp://host:8786).",
+        metavar="ADDRESS")] = None,
+    samples: Annotated[str | None, typer.Option(
+        help="Override every case's analysis.samples.", metavar="N")] = None,
+    seed: Annotated[str | None, typer.Option(
+        help="Override every case's analysis.seed.", metavar="N")] = None,
+    memos: Annotated[bool, typer.Option(
+        "--memos/--no-memos", help="Write each case's memo and figures (--no-memos: "
+        "results.json and run.json only; `risk memo` draws one later).")] = True,
+    quiet: Annotated[bool, typer.Option("--quiet", "-q", help="Print nothing.", metavar="")
+                     ] = False,
+    force: Annotated[bool, typer.Option(
+        "--force", help="Replace outputs of earlier runs even if they were edited since "
+        "(files risk did not write are never replaced).", metavar="")] = False,
+) -> None:
+    """Run every well and interval of a field file (Dask; reruns recompute only what changed).
+
+    Exit 0: every case finished; 3: at least one case failed (named in the table, the others
+    finished); 2: bad input to the batch itself (nothing run)."""
+    from risk.batch import EXIT_CASES_FAILED, run_field
+
+    show = not quiet and sys.stderr.isatty()
+    result = _guard(_batch_run, run_field, field, show=show, out=out, workers=workers,
+                    scheduler=scheduler, samples=samples, seed=seed, memos=memos, force=force)
+    if result.kept_foreign and not quiet:
+        _warn_kept(result.out_dir, result.kept_foreign)
+    if not quiet:
+        n = len(result.cases)
+        typer.echo(f"{n} case(s): {result.computed} computed, {result.reused} reused "
+                   f"unchanged, {len(result.failed)} failed; results: "
+                   f"{_plain(result.out_dir)}/results.parquet")
+        for st in result.failed:
+            typer.echo(f"failed: {_plain(st.case)}: {_plain(st.message)}", err=True)
+    if result.failed:
+        raise typer.Exit(EXIT_CASES_FAILED)
+
+
+def _batch_run(run: Any, field: Path, *, show: bool, **kwargs: Any) -> Any:
+    """The batch (with progress bars when shown); an interruption keeps the finished cases."""
+    try:
+        return _batch_with_progress(run, field, **kwargs) if show else run(field, **kwargs)
+    except KeyboardInterrupt:
+        _fail("interrupted; the cases that finished are kept in "
+              f"{_escape(repr(str(kwargs['out'])))}/cases and the same command resumes from "
+              "them", 130)
+
+
+def _batch_with_progress(run: Any, field: Path, **kwargs: Any) -> Any:
+    """The batch with a bar for the field and one per running case."""
+    from rich.progress import Progress
+
+    with Progress(transient=True) as bar:
+        total = bar.add_task("cases", total=None)
+        per_case: dict[str, Any] = {}
+        finished: set[str] = set()
+
+        def show(ev: Any) -> None:
+            if ev.kind == "batch":
+                bar.update(total, completed=ev.done, total=ev.total)
+                finished.add(ev.case)
+                task = per_case.pop(ev.case, None)
+                if task is not None:
+                    bar.remove_task(task)
+            elif ev.case is not None and ev.case not in finished:
+                if ev.case not in per_case:
+                    per_case[ev.case] = bar.add_task(_escape(str(ev.case)), total=ev.total)
+                bar.update(per_case[ev.case], completed=ev.done, total=ev.total)
+
+        return run(field, progress=show, **kwargs)
 
 
 def main() -> None:  # pragma: no cover - console entry point
