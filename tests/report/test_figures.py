@@ -311,3 +311,9 @@ def test_tornado_axis_ends_at_the_cap_and_marks_capped_bars(perforated):
     assert any(b.get_hatch() for b in ax.patches)
     arrows = [ln for ln in ax.get_lines() if ln.get_marker() == ">"]
     assert arrows and np.allclose(arrows[0].get_xdata(), p_r)
+
+
+def test_figures_drawn_in_processes_are_the_same_bytes(legacy):
+    # drawing in forked processes (render_all's default on a multi-core machine) must give
+    # the bytes drawn one after the other (determinism: same results -> same PNGs)
+    assert figures.render_all(legacy, workers=2) == figures.render_all(legacy, workers=1)
