@@ -12,12 +12,15 @@ $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
 
+# after installing, compile the kernels once with a progress message (not inside the first run)
 $(STAMP_RUN): pyproject.toml | $(BIN)/python
 	$(BIN)/python -m pip install --quiet -e .
+	$(BIN)/risk warm-up
 	touch $@
 
 $(STAMP_TEST): pyproject.toml | $(BIN)/python
 	$(BIN)/python -m pip install --quiet -e ".[test,bench]"
+	$(BIN)/risk warm-up
 	touch $@ $(STAMP_RUN)
 
 demo: $(STAMP_RUN)

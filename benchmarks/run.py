@@ -141,12 +141,20 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--quick", action="store_true", help="smaller sizes")
     ap.add_argument("--full", action="store_true", help="also run 10^7 samples (minutes)")
+    ap.add_argument("--only", choices=("criteria", "memo"),
+                    help="only the per-criterion rows, or only the memo's fixed cost")
     args = ap.parse_args()
     quick = args.quick
     rng = np.random.default_rng(1)
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python "
           f"{platform.python_version()}, numpy {np.__version__}")
     rows: list[tuple[str, str, str]] = []
+    if args.only:
+        (criteria_rows if args.only == "criteria" else memo_rows)(rows, quick)
+        _print(rows)
+        return
+    criteria_rows(rows, quick)
+    memo_rows(rows, quick)
 
     # 1. yield onset: vectorised vs per-sample scipy loop vs bare numpy probe
     # 40,960 cases a call: what a run passes for an open hole (4,096 samples x 10 stages)
@@ -257,10 +265,85 @@ def main() -> None:
         rows.append(("peak RSS at 10^7 samples (measured)", f"{r10 / 1e9:.2f} GB",
                      f"goal < 1 GB; run took {time.perf_counter() - t10:.0f} s"))
 
+    _print(rows)
+    print("sensitivity: python benchmarks/bench_sensitivity.py (about a minute)")
+
+
+def _print(rows: list[tuple[str, str, str]]) -> None:
     width = max(len(r[0]) for r in rows)
     for name, value, note in rows:
         print(f"{name:<{width}}  {value:>24}  {note}")
-    print("sensitivity: python benchmarks/bench_sensitivity.py (about a minute)")
+
+
+def well_cases(samples: int, seed: int) -> tuple[st.LocalStress, np.ndarray, StrengthParameters]:
+    """The throughput well: samples x 12 shots (tunnels from a 34-degree well) x 10 stages."""
+    shots = st.tunnel_frame(well_inclination=0.6, well_azimuth=1.0,
+                            shot_angle=np.radians(np.arange(0, 360, 30)))[None, :, None]
+    p_r = np.linspace(32.0, 18.0, 10)[None, None, :]
+    g = np.random.default_rng(seed)
+    loc = st.local_stress(
+        st.far_field_tensor(shmax=g.uniform(55, 65, (samples, 1, 1)), shmin=48.0, sv=70.0,
+                            shmax_azimuth=0.3), shots)
+    # Hoek-Brown constants of a good-quality sandstone (m_i 17, GSI 75; Hoek, Carranza-Torres
+    # & Corkum 2002, eqs. 2-4)
+    strength = StrengthParameters(g.uniform(60, 140, (samples, 1, 1)), 0.55, 6.96, 0.0622,
+                                  0.5009)
+    return loc, p_r, strength
+
+
+def criteria_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
+    """Every criterion on the throughput well, side by side with Mohr-Coulomb in one run:
+    ns per case (best of 3), the ratio to the Mohr-Coulomb kernel, the numpy reference path's
+    cost, and 10^6 samples x 12 x 10 extrapolated."""
+    samples = 200 if quick else 1000
+    loc, p_r, strength = well_cases(samples, 0)
+    n = samples * 120
+
+    def call(name: str, compiled: bool = True) -> object:
+        return critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=0.5,
+                                      poisson_ratio=0.25, strength=strength,
+                                      tensile_strength=3.0, criterion=name, compiled=compiled)
+
+    call("mohr-coulomb")
+    t_mc = best_of(lambda: call("mohr-coulomb")) / n
+    rows.append(("Mohr-Coulomb kernel, the throughput well", f"{t_mc * 1e9:.0f} ns per case",
+                 f"10^6 x 12 x 10: {t_mc * 1.2e8:.0f} s"))
+    for name in sorted(CRITERIA):
+        if name == "mohr-coulomb":
+            continue
+        call(name)
+        t = best_of(lambda name=name: call(name)) / n
+        t_ref = best_of(lambda name=name: call(name, compiled=False), repeat=1) / n
+        rows.append((f"  {name}", f"{t * 1e9:.0f} ns per case",
+                     f"{t / t_mc:.0f}x Mohr-Coulomb (goal <= 3x); numpy reference path "
+                     f"{t_ref / t:.1f}x slower; 10^6 x 12 x 10: {t * 1.2e8:.0f} s "
+                     "(goal < 30 s)"))
+
+
+def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
+    """The fixed cost of a run's memo on the demo's results (figures, HTML, PDF), in this
+    process after one warm-up rendering (fonts and caches loaded, as in a run)."""
+    import json
+
+    from risk.report.figures import render_all
+    from risk.report.memo.render import render_html, render_pdf
+
+    del quick
+    out = Path(os.environ.get("TMPDIR", "/tmp")) / "risk-bench-memo"
+    demo = ROOT / "examples" / "ravenmoor_r7_openhole.toml"
+    subprocess.run([RISK, "run", str(demo), "--out", str(out), "--force", "-q"], check=True)
+    results = json.loads((out / "results.json").read_text(encoding="utf-8"))
+    render_pdf(render_html(results, render_all(results, workers=1)))  # warm-up
+    t_seq = best_of(lambda: render_all(results, workers=1), repeat=2)
+    t_par = best_of(lambda: render_all(results), repeat=2)
+    figs = render_all(results)
+    t_html = best_of(lambda: render_html(results, figs), repeat=2)
+    html = render_html(results, figs)
+    t_pdf = best_of(lambda: render_pdf(html), repeat=2)
+    rows.append(("memo of the demo: figures (one process / two)",
+                 f"{t_seq:.2f} s / {t_par:.2f} s", f"{t_seq / t_par:.2f}x"))
+    rows.append(("  HTML / PDF (WeasyPrint)", f"{t_html:.2f} s / {t_pdf:.2f} s",
+                 f"figures + PDF: {t_par + t_html + t_pdf:.2f} s (goal <= 1.5 s)"))
 
 
 if __name__ == "__main__":

@@ -129,7 +129,8 @@ def _output_files(summary: dict[str, Any], run_info: dict[str, Any]
     return output_files(summary, run_info)
 
 
-def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, str | bytes]:
+def _memo_files(summary: dict[str, Any], run_info: dict[str, Any],
+                reuse: dict[str, bytes] | None = None) -> dict[str, str | bytes]:
     if summary.get("kind") == "logs":
         from risk.report.depth_outputs import log_output_files
 
@@ -137,7 +138,28 @@ def _memo_files(summary: dict[str, Any], run_info: dict[str, Any]) -> dict[str, 
         return {k: v for k, v in files.items() if k not in ("results.json", "run.json")}
     from risk.report import memo_files
 
-    return memo_files(summary, run_info)
+    return memo_files(summary, run_info, reuse=reuse)
+
+
+def _written_figures(folder: Path) -> dict[str, bytes]:
+    """The figures of an output folder exactly as the tool wrote them (digest equal to the
+    manifest's), by name: candidates for reuse when the memo is drawn again."""
+    from risk.report.writer import read_manifest, sha256_of
+
+    out: dict[str, bytes] = {}
+    for rel, digest in (read_manifest(folder) or {}).items():
+        if not (rel.startswith("figures/") and rel.endswith(".png")) or rel.count("/") != 1:
+            continue
+        path = folder / rel
+        try:
+            if path.is_symlink() or not path.is_file():
+                continue
+            png = path.read_bytes()
+        except OSError:
+            continue
+        if sha256_of(png) == digest:
+            out[rel[len("figures/"):-len(".png")]] = png
+    return out
 
 
 def render_memo(out: str | Path, *, force: bool = False) -> Path:
@@ -184,7 +206,7 @@ def render_memo(out: str | Path, *, force: bool = False) -> Path:
             except (OSError, UnicodeDecodeError, json.JSONDecodeError):
                 run_info = {}
         try:
-            files = _memo_files(summary, run_info)
+            files = _memo_files(summary, run_info, _written_figures(folder))
         except (KeyError, TypeError, ValueError) as exc:
             raise ScenarioError.single("results.json", str(res),
                                        "results.json of this version of risk",

@@ -179,6 +179,7 @@ def run(
     note = first_use_note()
     if note and not quiet:
         typer.echo(f"note: {_plain(note)}", err=True)
+    _load_kernels(quiet=quiet)
 
     result = _guard(run_scenario, file, out=out, samples=samples, seed=seed, force=force,
                     show_progress=not quiet and not as_json and sys.stderr.isatty())
@@ -192,6 +193,29 @@ def run(
         from risk.report.console import print_summary
 
         _guard(print_summary, result.summary, result.out_dir)
+
+
+def _load_kernels(*, quiet: bool) -> float:
+    """Load the compiled kernels before the run, saying so on stderr when they are being
+    compiled (the first run on a machine), so the wait is never silent inside the run."""
+    from risk.kernel_cache import warm_up
+
+    def say(message: str) -> None:
+        typer.echo(f"note: {message}", err=True)
+
+    return float(_guard(warm_up, notify=None if quiet else say))
+
+
+@app.command("warm-up")
+def warm_up() -> None:
+    """Compile (or load) the yield-onset kernels now: once per machine, about 15-60 s; later
+    runs load them in about a second. `make demo` and `make test` call it after installing."""
+    from risk.kernel_cache import configure
+
+    choice = configure()
+    where = "beside the package" if choice.path is None else _plain(choice.path)
+    seconds = _load_kernels(quiet=False)
+    typer.echo(f"kernels ready in {seconds:.1f} s (cached {where})")
 
 
 def _warn_kept(out_dir: Path, kept: tuple[str, ...]) -> None:

@@ -22,10 +22,19 @@ from __future__ import annotations
 import os
 import sys
 import tempfile
+import threading
+import time
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-__all__ = ["CacheChoice", "choose", "configure", "choice"]
+__all__ = ["CacheChoice", "choose", "configure", "choice", "warm_up", "COMPILING"]
+
+#: What the command line says when loading the kernels takes long: they are being compiled.
+COMPILING = ("compiling the yield-onset kernels (once per machine and version, about 15-60 s; "
+             "`risk warm-up` does it ahead of a run)...")
+#: The compiled modules, in the order they are loaded.
+KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel")
 
 _MECHANICS = Path(__file__).resolve().parent / "mechanics"
 
@@ -108,3 +117,34 @@ def first_use_note() -> str | None:
         return (f"the install folder is read-only: compiled kernels are cached in "
                 f"{str(c.path)!r} (compiled once, about 15 s)")
     return None
+
+
+def _load(name: str) -> None:
+    import importlib
+
+    importlib.import_module(name)
+
+
+def warm_up(*, notify: Callable[[str], None] | None = None, after: float = 1.5) -> float:
+    """Load the compiled kernels, compiling them first where numba has no valid cache.
+
+    Their modules compile at import (fixed signatures), so importing them is the whole work:
+    from the cache it takes about a second; compiling takes 15-60 s once per machine and
+    version. ``notify`` is called once with :data:`COMPILING` if it is still loading after
+    ``after`` seconds (from a timer thread, so the message appears while the compiler works and
+    never when the cache is warm). Returns the time taken [s].
+    """
+    configure()
+    start = time.perf_counter()
+    timer = None
+    if notify is not None:
+        timer = threading.Timer(after, notify, args=(COMPILING,))
+        timer.daemon = True
+        timer.start()
+    try:
+        for name in KERNEL_MODULES:
+            _load(name)
+    finally:
+        if timer is not None:
+            timer.cancel()
+    return time.perf_counter() - start

@@ -169,3 +169,38 @@ def test_version_and_short_help():
         assert "<bool>" not in r.output and "<str>" not in r.output
     r = RUNNER.invoke(app, ["run", "-h"])
     assert "--samples N" in r.output and "analysis.samples" in r.output
+
+
+@pytest.mark.slow
+def test_memo_redraw_reuses_unchanged_figures_but_not_edited_ones(tmp_path, write, field_doc,
+                                                                   monkeypatch):
+    # `risk memo` on an untouched run draws no figure again; a figure edited by hand (and
+    # replaced with --force) is drawn again, never kept
+    from risk.report.figures import render as rn
+
+    out = tmp_path / "out"
+    r = RUNNER.invoke(app, ["run", str(write(field_doc)), "--out", str(out), "--samples", "64",
+                            "-q"])
+    assert r.exit_code == 0, r.output
+    before = {p.name: p.read_bytes() for p in (out / "figures").glob("*.png")}
+    drawn: list[str] = []
+    real = rn._render_one
+
+    def counting(name, res, key=""):
+        png = real(name, res, key)
+        if png is not None:  # figures that do not apply are asked again (cheap: no drawing)
+            drawn.append(name)
+        return png
+
+    monkeypatch.setattr(rn, "_render_one", counting)
+    monkeypatch.setattr(rn, "_workers", lambda: 1)
+    r = RUNNER.invoke(app, ["memo", str(out)])
+    assert r.exit_code == 0, r.output
+    assert drawn == []
+    assert {p.name: p.read_bytes() for p in (out / "figures").glob("*.png")} == before
+    name = sorted(before)[0]
+    edited = out / "figures" / name
+    edited.write_bytes(before[name][:-12] + b"edited" + before[name][-6:])
+    r = RUNNER.invoke(app, ["memo", str(out), "--force"])
+    assert r.exit_code == 0, r.output
+    assert drawn == [name[:-4]] and edited.read_bytes() == before[name]

@@ -79,3 +79,32 @@ def test_first_use_note_names_the_folder(monkeypatch: pytest.MonkeyPatch, tmp_pa
     assert note is not None and str(tmp_path / "c") in note and "read-only" in note
     monkeypatch.setattr(kc, "choice", kc.CacheChoice(tmp_path / "c", "user-cache", False))
     assert kc.first_use_note() is None
+
+
+def test_warm_up_says_compiling_only_when_it_takes_long(monkeypatch: pytest.MonkeyPatch) -> None:
+    # a slow load (compiling) is announced once, while it runs; a fast one (cached) is silent
+    import time
+
+    said: list[str] = []
+    real = kc._load
+
+    def slow(name: str) -> None:
+        time.sleep(0.4)
+        real(name)
+
+    monkeypatch.setattr(kc, "_load", slow)
+    took = kc.warm_up(notify=said.append, after=0.05)
+    assert said == [kc.COMPILING] and took >= 0.4
+    monkeypatch.setattr(kc, "_load", real)
+    said.clear()
+    kc.warm_up(notify=said.append, after=5.0)
+    assert said == []
+
+
+def test_warm_up_command() -> None:
+    from typer.testing import CliRunner
+
+    from risk.cli import app
+
+    res = CliRunner().invoke(app, ["warm-up"])
+    assert res.exit_code == 0 and "kernels ready in" in res.output

@@ -22,12 +22,16 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
   a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
   arguments, and on the remaining arc it is the root of the closed form's slope.
-- **the other criteria**: a vectorised envelope iteration (Notes of
-  :func:`critical_wall_pressure`): bracketed roots in the wall pressure (Chandrupatla 1997,
+- **the other criteria**: the envelope iteration (Notes of :func:`critical_wall_pressure`),
+  compiled by default (:mod:`risk.mechanics._onset_kernel`, one case per loop iteration, the
+  Drucker-Prager crossing at one angle in closed form); its numpy form is kept as the reference
+  path (``compiled=False``): bracketed roots in the wall pressure (Chandrupatla 1997,
   ``scipy.optimize.elementwise.find_root``) and maxima over ``n_theta`` grid angles refined by
   parabolic steps on shrinking brackets.
 
-The two agree to 1e-8 MPa on Mohr-Coulomb (tests/mechanics/test_yield_onset.py).
+The numpy iteration agrees with the Mohr-Coulomb kernel to 1e-8 MPa
+(tests/mechanics/test_yield_onset.py) and with the compiled iteration to 1e-9 MPa on every
+criterion (tests/mechanics/test_onset_kernel.py).
 
 Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with no drawdown and
 ``p_wc = -inf`` when it does not fail for any wall pressure in [0, p_r] ("never").
@@ -118,6 +122,7 @@ def critical_wall_pressure(
     tensile_strength: ArrayLike,
     criterion: str = "mohr-coulomb",
     n_theta: int = 24,
+    compiled: bool = True,
 ) -> OnsetResult:
     """Highest wall pressure in [0, p_r] at which the cavity wall reaches yield onset.
 
@@ -140,6 +145,10 @@ def critical_wall_pressure(
     n_theta : int
         Number of wall angles in the bracketing grid over [0, pi) of the envelope iteration
         (criteria other than Mohr-Coulomb).
+    compiled : bool
+        Criteria other than Mohr-Coulomb: the compiled envelope iteration
+        (:mod:`risk.mechanics._onset_kernel`, the default) or the numpy one (False: the
+        reference path, kept for checks). Mohr-Coulomb always takes its own kernel.
 
     Returns
     -------
@@ -173,6 +182,8 @@ def critical_wall_pressure(
     shape = np.broadcast_shapes(*(a.shape for a in arrays))
     if criterion == "mohr-coulomb":
         return _compiled_mohr_coulomb(arrays, shape)
+    if compiled:
+        return _compiled_general(arrays, shape, criterion, n_theta)
     parts = np.broadcast_arrays(*arrays)
     flat = [np.ascontiguousarray(p).ravel() for p in parts]
     loc = LocalStress(*flat[:6])
@@ -218,6 +229,56 @@ def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> Onset
     theta += 0.0  # no -0.0
     theta = np.transpose(theta.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, theta)
+
+
+def _folded_views(arrays: list[Array], shape: tuple[int, ...]
+                  ) -> tuple[list[Array], tuple[int, ...], tuple[int, ...]]:
+    """Read-only 3-D broadcast views of the inputs (no copies up to three axes), the longest
+    axis first so that a parallel loop has work to share; also the kernel's shape and the
+    axis order (to return outputs in the caller's order)."""
+    if len(shape) <= 3:
+        full = (1,) * (3 - len(shape)) + tuple(shape)
+        order = tuple(int(i) for i in np.argsort([-n for n in full], kind="stable"))
+    else:
+        full = (int(np.prod(shape)), 1, 1)
+        order = (0, 1, 2)
+    out = tuple(full[i] for i in order)
+    views = []
+    for a in arrays:
+        b = np.broadcast_to(a, shape)
+        b = np.ascontiguousarray(b).reshape(full) if len(shape) > 3 else b.reshape(full)
+        views.append(np.broadcast_to(np.transpose(b, order), out))  # read-only views
+    return views, out, order
+
+
+def _theta_from_psi(psi: Array, out: tuple[int, ...], order: tuple[int, ...],
+                    shape: tuple[int, ...]) -> Array:
+    """theta = psi/2 in [0, pi) (nan stays nan), in the caller's axis order."""
+    theta = np.mod(psi, 2.0 * np.pi, out=psi)
+    theta *= 0.5
+    np.copyto(theta, 0.0, where=theta >= np.pi)  # [0, pi): rounding can reach pi
+    theta += 0.0  # no -0.0
+    inverse = tuple(int(i) for i in np.argsort(order))
+    return np.transpose(theta.reshape(out), inverse).reshape(shape)
+
+
+def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
+                      n_theta: int) -> OnsetResult:
+    """Any criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
+    from risk.mechanics._onset_kernel import CODES, onset
+
+    if n_theta < 3:
+        raise ValueError(f"n_theta must be at least 3; found {n_theta}")
+    sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0 = arrays[:10]
+    strength = arrays[10:15]  # UCS, friction angle, m_b, s, a
+    views, out, order = _folded_views(
+        [sxx + syy, sxx - syy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, *strength], shape)
+    size = int(np.prod(out))
+    p_k, psi = np.empty(size), np.empty(size)
+    onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
+    inverse = tuple(int(i) for i in np.argsort(order))
+    p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
+    return OnsetResult(p_wc, _theta_from_psi(psi, out, order, shape))
 
 
 def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,

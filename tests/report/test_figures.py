@@ -331,3 +331,38 @@ def test_tornado_axis_ends_at_the_cap_and_marks_capped_bars(perforated):
     assert any(b.get_hatch() for b in ax.patches)
     arrows = [ln for ln in ax.get_lines() if ln.get_marker() == ">"]
     assert arrows and np.allclose(arrows[0].get_xdata(), p_r)
+
+
+def test_figures_drawn_in_processes_are_the_same_bytes(legacy):
+    # drawing in forked processes (render_all's default on a multi-core machine) must give
+    # the bytes drawn one after the other (determinism: same results -> same PNGs)
+    assert figures.render_all(legacy, workers=2) == figures.render_all(legacy, workers=1)
+
+
+def test_figures_of_the_same_results_are_reused_not_drawn(legacy, monkeypatch):
+    # `risk memo` keeps a figure whose stored key (results + drawing code) matches; anything
+    # else is drawn again (derived design: equal keys give equal figures)
+    from risk.report.figures import render as rn
+
+    first = figures.render_all(legacy, workers=1)
+    assert first and all(rn.png_key(p) == rn.figure_key(legacy) for p in first.values())
+    drawn: list[str] = []
+    real = rn._render_one
+
+    def counting(name, results, key=""):
+        png = real(name, results, key)
+        if png is not None:  # figures that do not apply are asked again (cheap: no drawing)
+            drawn.append(name)
+        return png
+
+    monkeypatch.setattr(rn, "_render_one", counting)
+    assert figures.render_all(legacy, workers=1, reuse=first) == first
+    assert drawn == []
+    changed = {**legacy, "seed": 12345}  # another run: every figure is drawn again
+    again = figures.render_all(changed, workers=1, reuse=first)
+    assert sorted(drawn) == sorted(again) and again.keys() == first.keys()
+    drawn.clear()
+    stale = {name: png.replace(rn.figure_key(legacy).encode(), b"0" * 64)
+             for name, png in first.items()}  # a key that does not match
+    figures.render_all(legacy, workers=1, reuse=stale)
+    assert sorted(drawn) == sorted(first)

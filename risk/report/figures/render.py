@@ -1,11 +1,24 @@
 """Every figure that applies to a run as PNG bytes: the :data:`FIGURES` registry (memo order),
 the provenance stored in each PNG and :func:`render_all`.
+
+Each PNG also carries a key (:func:`figure_key`: a digest of the results and of the code that
+draws figures), so that re-drawing a memo (`risk memo`) can keep the figures that would come
+out the same (``reuse`` of :func:`render_all`).
 """
 
 from __future__ import annotations
 
+import functools
+import hashlib
 import io
+import json
+import multiprocessing
+import os
+import struct
+import zlib
 from collections.abc import Callable, Mapping
+from concurrent.futures import ProcessPoolExecutor
+from pathlib import Path
 from typing import Any, Final
 
 from matplotlib.figure import Figure
@@ -50,24 +63,121 @@ def provenance_text(results: Mapping[str, Any]) -> str:
             f"sampling {results.get('sampling')}")
 
 
-def _png(fig: Figure, description: str = "") -> bytes:
+#: The PNG text keyword of :func:`figure_key`.
+KEY_CHUNK: Final = "risk-figure-key"
+
+
+@functools.lru_cache(maxsize=1)
+def _code_digest() -> str:
+    """Digest of what draws the figures: this package's sources, the shared formatting, and
+    the versions of the tool and of matplotlib and seaborn."""
+    import matplotlib
+    import seaborn
+
+    from risk import __version__
+
+    here = Path(__file__).resolve().parent
+    h = hashlib.sha256(f"{__version__} {matplotlib.__version__} {seaborn.__version__}".encode())
+    for path in (*sorted(here.glob("*.py")), here.parent / "formatting.py"):
+        h.update(path.name.encode() + b"\0" + path.read_bytes())
+    return h.hexdigest()
+
+
+def figure_key(results: Mapping[str, Any]) -> str:
+    """The key stored in every PNG of these results: sha256 of the results (canonical JSON)
+    and of the drawing code (:func:`_code_digest`). Equal keys give equal figures."""
+    text = json.dumps(results, sort_keys=True, separators=(",", ":"), default=str)
+    return hashlib.sha256(f"{_code_digest()}\n{text}".encode()).hexdigest()
+
+
+def png_key(png: bytes) -> str | None:
+    """The :data:`KEY_CHUNK` text of a PNG (None if absent or not a PNG)."""
+    if png[:8] != b"\x89PNG\r\n\x1a\n":
+        return None
+    pos = 8
+    while pos + 8 <= len(png):
+        (length,) = struct.unpack(">I", png[pos:pos + 4])
+        kind = png[pos + 4:pos + 8]
+        data = png[pos + 8:pos + 8 + length]
+        if kind == b"tEXt" and b"\0" in data:
+            word, _, text = data.partition(b"\0")
+            if word == KEY_CHUNK.encode("latin-1"):
+                return text.decode("latin-1")
+        elif kind == b"zTXt" and b"\0" in data:
+            word, _, rest = data.partition(b"\0")
+            if word == KEY_CHUNK.encode("latin-1"):
+                try:
+                    return zlib.decompress(rest[1:]).decode("latin-1")
+                except zlib.error:
+                    return None
+        elif kind == b"IDAT":
+            return None  # text chunks written before the image data only
+        pos += 12 + length
+    return None
+
+
+def _png(fig: Figure, description: str = "", key: str = "") -> bytes:
     buf = io.BytesIO()
     meta: dict[str, Any] = {"Software": None}
     if description:
         meta["Description"] = description
+    if key:
+        meta[KEY_CHUNK] = key
     with _styled():
         fig.savefig(buf, format="png", dpi=DPI, metadata=meta)
     return buf.getvalue()
 
 
-def render_all(results: Mapping[str, Any]) -> dict[str, bytes]:
+def _render_one(name: str, results: Mapping[str, Any], key: str = "") -> bytes | None:
+    """PNG bytes of one figure, or None where it does not apply to these results."""
+    drawn = FIGURES[name](results)
+    if drawn is None:
+        return None
+    fig = drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True)
+    return _png(fig, provenance_text(results), key)
+
+
+def _workers() -> int:
+    """Processes for drawing: 2 when this process may use two cores and one of them is idle
+    (one-minute load average below cores - 1), else 1. Measured: on two busy cores a second
+    process only adds its start-up and colder caches (0.87-0.91x); the figures' CPU time
+    splits about evenly over two (3.9 s in one process, 4.6 s over two; benchmarks/README.md)."""
+    try:
+        cores = len(os.sched_getaffinity(0))
+        load = os.getloadavg()[0]
+    except (AttributeError, OSError):  # pragma: no cover - not on Linux
+        return 1
+    return 2 if cores >= 2 and load < cores - 1 else 1
+
+
+def render_all(results: Mapping[str, Any], *, workers: int | None = None,
+               reuse: Mapping[str, bytes] | None = None) -> dict[str, bytes]:
     """PNG bytes (150 dpi) of every figure that applies to these results, by name
-    (:data:`FIGURES` order); figures whose sections are absent are left out."""
+    (:data:`FIGURES` order); figures whose sections are absent are left out.
+
+    With ``workers`` > 1 (default: 2 where a second core is idle, see :func:`_workers`) the
+    figures are drawn in that many forked processes (figures are independent and drawn under a
+    fixed style, so the bytes are the same as drawn one after the other; where fork is
+    unavailable, one process).
+    ``reuse``: PNGs drawn before, by name; one whose key (:func:`png_key`) equals
+    :func:`figure_key` of these results is returned as it is instead of being drawn again.
+    """
+    key = figure_key(results)
+    kept = {name: png for name, png in (reuse or {}).items()
+            if name in FIGURES and png_key(png) == key}
+    names = [name for name in FIGURES if name not in kept]
+    n = min(_workers() if workers is None else int(workers), len(names))
+    if n > 1 and "fork" in multiprocessing.get_all_start_methods():
+        ctx = multiprocessing.get_context("fork")
+        with ProcessPoolExecutor(max_workers=n, mp_context=ctx) as pool:
+            pngs = list(pool.map(_render_one, names, [results] * len(names),
+                                 [key] * len(names)))
+    else:
+        pngs = [_render_one(name, results, key) for name in names]
+    drawn = dict(zip(names, pngs, strict=True))
     out: dict[str, bytes] = {}
-    for name, plot in FIGURES.items():
-        drawn = plot(results)
-        if drawn is None:
-            continue
-        fig = drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True)
-        out[name] = _png(fig, provenance_text(results))
+    for name in FIGURES:
+        png = kept.get(name, drawn.get(name))
+        if png is not None:
+            out[name] = png
     return out

@@ -174,9 +174,11 @@ def render_pdf(html: str) -> bytes:
     return bytes(pdf) if pdf is not None else b""
 
 
-def build_memo(results: Mapping[str, Any]) -> Memo:
-    """Figures, HTML and PDF of a run's memo, from its results dict alone."""
-    figures = render_all(results)
+def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None = None
+               ) -> Memo:
+    """Figures, HTML and PDF of a run's memo, from its results dict alone (``reuse``: figures
+    drawn before, kept where they would come out the same: :func:`render_all`)."""
+    figures = render_all(results, reuse=reuse)
     html = render_html(results, figures)
     return Memo(html=html, pdf=render_pdf(html), figures=dict(figures))
 
