@@ -97,7 +97,8 @@ def test_same_results_give_identical_png(perforated, perforated_figures):
     # regression check of determinism: a second rendering is byte-identical
     for name in ("failure_probability", "shot_directions", "input_correlation"):
         again = figures.render._png(_figure(figures.FIGURES[name](perforated)),
-                                    figures.provenance_text(perforated))
+                                    figures.provenance_text(perforated),
+                                    figures.render.figure_key(perforated))
         assert again == perforated_figures[name], name
 
 
