@@ -18,7 +18,9 @@
                                        # or "ratio": S_h = k (Sv - Pp) + Pp, k_min, k_max [-]
     step = 0.5                         # optional: resample the logs to this step [length]
     core = [[7841, 2900], [7866, 5200]]   # optional: core UCS tests [length, pressure] that
-                                       # calibrate the transform (one factor, geometric mean)
+                                       # calibrate the transform near each core depth
+    core_influence = 10                # optional: influence distance of a core [length];
+                                       # "inf" (default) = one factor over the interval
     zoning = "fixed"                   # plan zones: "fixed" thickness, or "breaks" where the
     zone_break = 0.2                   # transform's UCS changes by more than this fraction
     planned_drawdown = 500             # [pressure]
@@ -55,7 +57,7 @@ LOG_KEYS: Final = ("file", "top", "base", "curves", "max_gap", "ucs_transform", 
                    "correlation_length", "friction_transform", "friction_sd", "overburden",
                    "overburden_gradient_above", "horizontal", "strain_min", "strain_max",
                    "planned_drawdown", "zone_thickness", "min_interval", "standoff", "step",
-                   "k_min", "k_max", "core", "zoning", "zone_break")
+                   "k_min", "k_max", "core", "zoning", "zone_break", "core_influence")
 
 
 @dataclass(frozen=True)
@@ -84,6 +86,7 @@ class LogScenario:
     core: tuple[tuple[float, float], ...] = ()  # (depth [m], UCS [MPa]) core tests
     zoning: str = "fixed"  # "fixed" or "breaks"
     zone_break: float = 0.2  # relative change of the transform's UCS that starts a zone [-]
+    core_influence: float = math.inf  # [m] influence distance of a core test
     las_path: str = ""  # the LAS file as found (an input: its folder is never an output)
 
 
@@ -106,7 +109,7 @@ def _num(t: Mapping[str, Any], key: str, problems: list[Problem], expected: str,
         problems.append(Problem(f"logs.{key}", None, expected,
                                 found_text="nothing (the key is missing)"))
         return math.nan
-    if allow_inf and v == "inf":
+    if allow_inf and (v == "inf" or (isinstance(v, float) and v == math.inf)):
         return math.inf
     if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v) or (
             v < low if inclusive else v <= low):
@@ -193,6 +196,9 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
                          inclusive=False) if out["horizontal"] == "ratio" else math.nan)
     out["zone_break"] = _num(t, "zone_break", p, "a relative change > 0 [-]", 0.2,
                              inclusive=False)
+    out["core_influence"] = _num(t, "core_influence", p, f"the influence distance of a core "
+                                 f"test > 0 [{disp['length']}] or \"inf\"", math.inf,
+                                 inclusive=False, allow_inf=True) * L
     core = t.get("core", [])
     pairs: list[tuple[float, float]] = []
     if not isinstance(core, list):
