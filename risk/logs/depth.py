@@ -46,6 +46,7 @@ from risk import decision
 from risk.limit_states import evaluate, evaluate_compaction
 from risk.logs.scenario import LogScenario
 from risk.logs.stresses import overburden, poroelastic_horizontal
+from risk.logs.survey import minimum_curvature_tvd
 from risk.uncertainty import Marginal, UnitSampler, build_joint, input_columns, to_inputs
 from risk.uncertainty.copula import correlated_normals
 from risk.uncertainty.sampling import STREAMS
@@ -53,7 +54,8 @@ from risk.uncertainty.sampling import STREAMS
 Array = NDArray[np.float64]
 
 __all__ = ["DepthResult", "assess_depth", "ar1_normals", "depth_scores", "LOG_STREAM", "ROWS",
-           "DEPTH_VARYING", "core_factor"]
+           "DEPTH_VARYING", "core_factor",
+           "true_vertical_depth"]
 
 #: Inputs whose error varies along depth (the transforms' errors), in this order.
 DEPTH_VARYING: Final = ("ucs", "friction_angle")
@@ -95,6 +97,7 @@ class DepthResult:
     friction: Array  # (d,) median friction angle [rad]
     profile: Mapping[str, Array]
     warnings: tuple[str, ...] = field(default=())
+    tvd: Array | None = None  # (d,) true vertical depth [m]
     collapse_far: NDArray[np.float32] | None = None
     collapse_wall: NDArray[np.float32] | None = None
     ucs_calibration: Array | None = None  # (d,) local core factor applied to the transform [-]
@@ -144,6 +147,20 @@ def depth_scores(*, first: Array, corr: Array, vary: list[int], depth: Array,
     out += mean[None]
     out[0] = z0[:, vary]  # exactly the sampled scores at the first depth
     return out
+
+
+def true_vertical_depth(ls: LogScenario, depth: Array) -> Array:
+    """TVD [m] of the log depths: themselves (``depth_reference = "tvd"``), by minimum
+    curvature on the survey, or, without one, ``MD cos I`` with the [well] inclination held
+    from surface (:mod:`risk.logs.survey`)."""
+    if ls.depth_reference != "md":
+        return np.asarray(depth, dtype=float)
+    w = ls.scenario.well
+    stations = (np.asarray(ls.survey, dtype=float) if ls.survey else
+                np.array([[0.0, w.inclination, w.azimuth],
+                          [float(depth[-1]) + 1.0, w.inclination, w.azimuth]]))
+    tvd0 = ls.survey_tvd if ls.survey else 0.0
+    return minimum_curvature_tvd(md=depth, stations=stations, tvd0=tvd0)
 
 
 def core_factor(*, depth: Array, core_depth: Array, ratio: Array, influence: float) -> Array:
@@ -251,7 +268,7 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     seed_ = sc.seed if seed is None else int(seed)
     depth = np.asarray(ls.logs.depth)
     nd = depth.size
-    tvd = depth  # the log depth is taken as true vertical depth (stated in the memo)
+    tvd = true_vertical_depth(ls, depth)
     curves = ls.logs.curves
     t_ucs = np.asarray(ls.ucs_transform.apply(curves), dtype=float)
     if not np.all(t_ucs > 0.0):
@@ -374,6 +391,19 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     def shown(z: float) -> str:
         return f"{sc.to_display(z, 'length'):,.1f} {sc.display_unit('length')}"
 
+    if ls.depth_reference == "md":
+        notes.append(f"logs: depths are measured depth; TVD {shown(float(tvd[0]))} to "
+                     f"{shown(float(tvd[-1]))} by "
+                     + ("minimum curvature on the survey" if ls.survey else
+                        "the [well] inclination held from surface (no survey)"))
+        if ls.survey:
+            st_ = np.asarray(ls.survey)
+            inc = np.interp(depth, st_[:, 0], st_[:, 1])
+            off = float(np.max(np.abs(inc - sc.well.inclination)))
+            if off > math.radians(5.0):
+                notes.append(f"logs.survey: the survey inclination over the interval differs "
+                             f"from [well] inclination by up to {math.degrees(off):.1f} deg; "
+                             "the mechanics use the [well] orientation at every depth")
     warn = range_warnings(ls.ucs_transform, curves, depth, t_ucs, show_depth=shown)
     if ls.friction_transform is not None and t_fric is not None:
         warn += range_warnings(ls.friction_transform, curves, depth,
@@ -381,5 +411,6 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     return DepthResult(ls=ls, depth=depth, stages=tuple(sc.reservoir_pressure), samples=n,
                        seed=seed_, dc=dc, sand=sand, ucs=ucs_all, ucs_transform=t_ucs,
                        friction=np.asarray(fric), profile=prof_acc,
-                       collapse_far=c_far, collapse_wall=c_wall, ucs_calibration=calib,
+                       tvd=np.asarray(tvd), collapse_far=c_far, collapse_wall=c_wall,
+                       ucs_calibration=calib,
                        warnings=tuple(ls.warnings) + tuple(warn) + ls.logs.notes + tuple(notes))

@@ -21,6 +21,10 @@
                                        # calibrate the transform near each core depth
     core_influence = 10                # optional: influence distance of a core [length];
                                        # "inf" (default) = one factor over the interval
+    depth_reference = "md"             # optional: the log depth is "tvd" (default) or "md";
+    survey = [[7000, 0, 0], [7900, 24, 40]]   # with "md": stations [MD, inc deg, azi deg]
+    survey_tvd = 7000                  # TVD of the first station [length] (minimum curvature;
+                                       # no survey: constant [well] inclination from surface)
     zoning = "fixed"                   # plan zones: "fixed" thickness, or "breaks" where the
     zone_break = 0.2                   # transform's UCS changes by more than this fraction
     planned_drawdown = 500             # [pressure]
@@ -57,7 +61,8 @@ LOG_KEYS: Final = ("file", "top", "base", "curves", "max_gap", "ucs_transform", 
                    "correlation_length", "friction_transform", "friction_sd", "overburden",
                    "overburden_gradient_above", "horizontal", "strain_min", "strain_max",
                    "planned_drawdown", "zone_thickness", "min_interval", "standoff", "step",
-                   "k_min", "k_max", "core", "zoning", "zone_break", "core_influence")
+                   "k_min", "k_max", "core", "zoning", "zone_break", "core_influence",
+                   "depth_reference", "survey", "survey_tvd")
 
 
 @dataclass(frozen=True)
@@ -87,6 +92,9 @@ class LogScenario:
     zoning: str = "fixed"  # "fixed" or "breaks"
     zone_break: float = 0.2  # relative change of the transform's UCS that starts a zone [-]
     core_influence: float = math.inf  # [m] influence distance of a core test
+    depth_reference: str = "tvd"  # the log depth is "tvd" or "md"
+    survey: tuple[tuple[float, float, float], ...] = ()  # (MD [m], inc [rad], azi [rad])
+    survey_tvd: float = 0.0  # TVD of the first station [m]
     las_path: str = ""  # the LAS file as found (an input: its folder is never an output)
 
 
@@ -199,6 +207,28 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
     out["core_influence"] = _num(t, "core_influence", p, f"the influence distance of a core "
                                  f"test > 0 [{disp['length']}] or \"inf\"", math.inf,
                                  inclusive=False, allow_inf=True) * L
+    ref = t.get("depth_reference", "tvd")
+    if ref not in ("tvd", "md"):
+        p.append(Problem("logs.depth_reference", ref, '"tvd" or "md"'))
+    out["depth_reference"] = ref
+    survey = t.get("survey", [])
+    rows: list[tuple[float, float, float]] = []
+    if not isinstance(survey, list):
+        survey = [survey]
+    for i, row in enumerate(survey):
+        if (isinstance(row, list) and len(row) == 3 and all(
+                isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+                for v in row) and row[0] >= 0 and 0 <= row[1] <= 180 and 0 <= row[2] < 360
+                and (not rows or row[0] * L > rows[-1][0])):
+            rows.append((float(row[0]) * L, math.radians(row[1]), math.radians(row[2])))
+        else:
+            p.append(Problem(f"logs.survey[{i}]", row, f"[MD >= 0 {disp['length']}, "
+                             "inclination 0-180 deg, azimuth 0-360 deg], MD increasing"))
+    if rows and ref != "md":
+        p.append(Problem("logs.survey", survey, 'no survey unless logs.depth_reference = "md"'))
+    out["survey"] = tuple(rows)
+    out["survey_tvd"] = _num(t, "survey_tvd", p, f"the TVD of the first survey station >= 0 "
+                             f"[{disp['length']}]", rows[0][0] / L if rows else 0.0) * L
     core = t.get("core", [])
     pairs: list[tuple[float, float]] = []
     if not isinstance(core, list):
@@ -305,6 +335,13 @@ def load_log_scenario(path: str | Path) -> LogScenario:
         if not logs["top"] <= z <= logs["base"]:
             raise ScenarioError.single(f"logs.core[{i}]", z / conv["length"],
                                        "a core depth within logs.top to logs.base", name)
+    if logs["depth_reference"] == "md" and logs["survey"]:
+        sv_ = logs["survey"]
+        if not sv_[0][0] <= logs["top"] or not logs["base"] <= sv_[-1][0]:
+            raise ScenarioError.single(
+                "logs.survey", f"MD {sv_[0][0] / conv['length']:g} to "
+                f"{sv_[-1][0] / conv['length']:g} {disp['length']}",
+                "survey stations spanning logs.top to logs.base", name)
     kw = {k: v for k, v in logs.items()
           if k not in ("file", "top", "base", "curves", "max_gap", "step")}
     return LogScenario(scenario=sc, logs=ls, warnings=sc.warnings, las_path=str(file), **kw)

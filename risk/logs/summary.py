@@ -60,6 +60,8 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
     risk_ = sc.accepted_risk
     dd = ls.planned_drawdown
     table: dict[str, list[Any]] = {f"depth [{l_unit}]": _col(res.depth * l_scale, nd=4)}
+    if ls.depth_reference == "md" and res.tvd is not None:
+        table[f"tvd [{l_unit}]"] = _col(res.tvd * l_scale, nd=4)
     for role, values in ls.logs.curves.items():
         fu, ff, su, sf = _LOG_DISPLAY[role]
         unit, f = (fu, ff) if units == "field" else (su, sf)
@@ -95,6 +97,7 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
                       "friction": (ls.friction_transform.name if ls.friction_transform
                                    else None),
                       "core": _core_text(res)},
+        "depth_reference": ls.depth_reference,
         "stress_model": {"overburden": ls.overburden, "horizontal": ls.horizontal,
                          "strain_min": ls.strain_min, "strain_max": ls.strain_max},
         "stages": stages_disp, "accepted_risk": risk_,

@@ -135,3 +135,36 @@ def test_correlation_pairs_hold_at_every_depth(length: float) -> None:
     expect = b0 + (1.0 - b0) * r
     assert np.corrcoef(sc[4, :, 0], sc[5, :, 0])[0, 1] == pytest.approx(expect, abs=tol)
     np.testing.assert_array_equal(sc[0], z0[:, :2])
+
+
+def _gradient_base() -> str:
+    return (BASE.replace("sv = 7700\n", "sv_gradient = 1.0\n")
+            .replace("shmax = 6900\n", "shmax_gradient = 0.9\n")
+            .replace('shmin = { dist = "normal", mean = 5700, sd = 150 }\n',
+                     "shmin_gradient = 0.75\n")
+            .replace("pp = 3450\n", "pp_gradient = 0.44\n"))
+
+
+def test_measured_depth_logs_use_tvd_from_the_survey(tmp_path: Path) -> None:
+    # logs in MD along a straight hold at 30 deg from a station at MD 7000 ft, TVD 6500 ft:
+    # TVD = 6500 + (MD - 7000) cos 30 deg (common practice); the pore pressure over depth is
+    # then the gradient times TVD (Zoback 2007, sec. 1.2)
+    from risk.errors import ScenarioError
+
+    _las(tmp_path / "t.las", [100.0] * 9)
+    table = (_logs_table("2") + 'depth_reference = "md"\n'
+             "survey = [[7000, 30, 40], [8000, 30, 40]]\nsurvey_tvd = 6500\n")
+    (tmp_path / "logs.toml").write_text(_gradient_base() + table)
+    res = assess_depth(load_log_scenario(tmp_path / "logs.toml"), samples=16)
+    md_ft = 7840.0 + 0.5 * np.arange(9)
+    tvd_ft = 6500.0 + (md_ft - 7000.0) * math.cos(math.radians(30.0))
+    assert res.tvd is not None
+    np.testing.assert_allclose(res.tvd / 0.3048, tvd_ft, rtol=1e-12)
+    np.testing.assert_allclose(res.profile["pp"], 0.44 * tvd_ft * PSI_TO_MPA, rtol=1e-9)
+    s = summarize_depth(res)
+    assert s["table"]["tvd [ft]"][0] == pytest.approx(tvd_ft[0], abs=1e-3)
+    assert any("minimum curvature" in w for w in res.warnings)
+    # a survey that does not reach the interval is one clear message naming the key
+    (tmp_path / "bad.toml").write_text(_gradient_base() + table.replace("8000", "7842"))
+    with pytest.raises(ScenarioError, match="logs.survey"):
+        load_log_scenario(tmp_path / "bad.toml")

@@ -15,8 +15,10 @@ __all__ = ["log_memo_html", "LOG_ASSUMPTIONS"]
 
 #: What every log run assumes (the memo states each).
 LOG_ASSUMPTIONS: Final[tuple[str, ...]] = (
-    "The log depth is taken as true vertical depth (vertical well); a deviated well needs a "
-    "TVD index before the stresses over depth mean anything.",
+    "Stresses and pore pressure use true vertical depth: the log depth itself, or, where the "
+    "logs are in measured depth, TVD by minimum curvature on the survey (Sawaryn & Thorogood "
+    "2005) or the [well] inclination held from surface; the mechanics use the [well] "
+    "inclination and azimuth at every depth.",
     "UCS comes from a published empirical transform fitted to other rocks; its scatter is "
     "sampled as a lognormal error of the stated coefficient of variation, correlated along "
     "depth with an exponential correlation of the stated length. The transform should be "
