@@ -228,7 +228,8 @@ def _stress_field(ls: LogScenario, name: str, cols: Mapping[str, Array], tvd: Ar
 
 
 def _stresses(ls: LogScenario, cols: Mapping[str, Array], tvd: Array,
-              sv_log: Array | None) -> dict[str, Array]:
+              sv_log: Array | None, elastic: tuple[Array, Array] | None = None
+              ) -> dict[str, Array]:
     """Sv, Shmin, SHmax and Pp [MPa] of a block of depths (b, n)."""
     m = next(iter(cols.values())).size
     pp = _stress_field(ls, "pp", cols, tvd)
@@ -238,11 +239,14 @@ def _stresses(ls: LogScenario, cols: Mapping[str, Array], tvd: Array,
         shmin = ls.k_min * (sv - pp) + pp
         shmax = ls.k_max * (sv - pp) + pp
     elif ls.horizontal == "poroelastic":
+        if elastic is not None:  # static moduli from the logs, per depth (b, 1)
+            e_mod, nu = elastic[0][:, None], elastic[1][:, None]
+        else:
+            e_mod = cols.get("young_modulus", np.zeros(m))[None, :]
+            nu = cols["poisson_ratio"][None, :]
         shmin, shmax = poroelastic_horizontal(
-            sv=sv, pore_pressure=pp, poisson_ratio=cols["poisson_ratio"][None, :],
-            biot=cols["biot"][None, :],
-            young_modulus=cols.get("young_modulus", np.zeros(m))[None, :],
-            strain_min=ls.strain_min, strain_max=ls.strain_max)
+            sv=sv, pore_pressure=pp, poisson_ratio=nu, biot=cols["biot"][None, :],
+            young_modulus=e_mod, strain_min=ls.strain_min, strain_max=ls.strain_max)
     else:
         shmin = _stress_field(ls, "shmin", cols, tvd)
         shmax = _stress_field(ls, "shmax", cols, tvd)
@@ -318,6 +322,23 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     sv_log = (overburden(depth=tvd, density=curves["rhob"],
                          top_stress=ls.overburden_gradient_above * tvd[0])
               if ls.overburden == "density" else None)
+    elastic = None
+    if ls.elastic == "logs":
+        from risk.errors import ScenarioError
+        from risk.logs.transforms import static_elastic
+
+        elastic = static_elastic(curves)
+        bad = ~((elastic[0] > 0.0) & (elastic[1] > 0.0) & (elastic[1] < 0.5))
+        if np.any(bad):
+            i = int(np.nonzero(bad)[0][0])
+            raise ScenarioError.single(
+                "logs.elastic", "logs", "logs giving a static Young's modulus > 0 and a "
+                "Poisson's ratio in (0, 0.5) at every depth (check dt, dts, rhob)",
+                found_text=f"E = {elastic[0][i]:.4g} MPa, nu = {elastic[1][i]:.3f} at "
+                f"{sc.to_display(float(depth[i]), 'length'):,.1f} {sc.display_unit('length')}")
+        notes.append("logs.elastic: the poroelastic stresses use the dynamic Poisson's ratio "
+                     "and the static Young's modulus of Eissa & Kazi (1988) from dt, dts and "
+                     "rhob at each depth (the mechanics keep the scenario's values)")
     with_collapse = "pore_collapse_pressure" in sc.inputs
     c_far = np.empty((nd, n), dtype=np.float32) if with_collapse else None
     c_wall = np.empty((nd, n), dtype=np.float32) if with_collapse else None
@@ -350,7 +371,9 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                 ucs = np.broadcast_to(t_ucs[d0:d1, None] * cols["ucs"][None, :], (nb, m))
             ucs_all[d0:d1, done:done + m] = ucs
             fields = _stresses(ls, cols, tvd[d0:d1],
-                               None if sv_log is None else sv_log[d0:d1])
+                               None if sv_log is None else sv_log[d0:d1],
+                               None if elastic is None else (elastic[0][d0:d1],
+                                                             elastic[1][d0:d1]))
             if done == 0:
                 for key, arr in fields.items():
                     prof_acc.setdefault(key, np.empty(nd))[d0:d1] = np.median(arr, axis=1)

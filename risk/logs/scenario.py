@@ -15,6 +15,9 @@
     overburden = "density"             # or "scenario" ([stress] sv / sv_gradient)
     overburden_gradient_above = 0.95   # Sv at the log top = gradient x top [gradient]
     horizontal = "poroelastic"         # or "scenario"; tectonic strains strain_min/max [-]
+    elastic = "logs"                   # optional, with "poroelastic": Poisson's ratio and
+                                       # Young's modulus of the stresses from dt, dts, rhob
+                                       # (static by Eissa & Kazi 1988); default "scenario"
                                        # or "ratio": S_h = k (Sv - Pp) + Pp, k_min, k_max [-]
     step = 0.5                         # optional: resample the logs to this step [length]
     core = [[7841, 2900], [7866, 5200]]   # optional: core UCS tests [length, pressure] that
@@ -62,7 +65,7 @@ LOG_KEYS: Final = ("file", "top", "base", "curves", "max_gap", "ucs_transform", 
                    "overburden_gradient_above", "horizontal", "strain_min", "strain_max",
                    "planned_drawdown", "zone_thickness", "min_interval", "standoff", "step",
                    "k_min", "k_max", "core", "zoning", "zone_break", "core_influence",
-                   "depth_reference", "survey", "survey_tvd")
+                   "depth_reference", "survey", "survey_tvd", "elastic")
 
 
 @dataclass(frozen=True)
@@ -95,6 +98,7 @@ class LogScenario:
     depth_reference: str = "tvd"  # the log depth is "tvd" or "md"
     survey: tuple[tuple[float, float, float], ...] = ()  # (MD [m], inc [rad], azi [rad])
     survey_tvd: float = 0.0  # TVD of the first station [m]
+    elastic: str = "scenario"  # "logs": static nu and E of the poroelastic stresses from logs
     las_path: str = ""  # the LAS file as found (an input: its folder is never an output)
 
 
@@ -176,7 +180,7 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
     out["friction_sd"] = math.radians(_num(t, "friction_sd", p, "a scatter >= 0 [deg]", 0.0))
     for key, opts in (("overburden", ("scenario", "density")),
                       ("horizontal", ("scenario", "poroelastic", "ratio")),
-                      ("zoning", ("fixed", "breaks"))):
+                      ("zoning", ("fixed", "breaks")), ("elastic", ("scenario", "logs"))):
         v = t.get(key, opts[0])
         if v not in opts:
             p.append(Problem(f"logs.{key}", v, " or ".join(f'"{o}"' for o in opts)))
@@ -207,6 +211,10 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
     out["core_influence"] = _num(t, "core_influence", p, f"the influence distance of a core "
                                  f"test > 0 [{disp['length']}] or \"inf\"", math.inf,
                                  inclusive=False, allow_inf=True) * L
+    if out["elastic"] == "logs" and out["horizontal"] != "poroelastic":
+        p.append(Problem("logs.elastic", "logs", 'logs.horizontal = "poroelastic" (the log '
+                         'moduli feed the uniaxial-strain stresses only), or elastic = '
+                         '"scenario"'))
     ref = t.get("depth_reference", "tvd")
     if ref not in ("tvd", "md"):
         p.append(Problem("logs.depth_reference", ref, '"tvd" or "md"'))
@@ -309,7 +317,7 @@ def load_log_scenario(path: str | Path) -> LogScenario:
     except ScenarioError as err:
         raise ScenarioError(problems + err.problems, name) from None
     if logs["horizontal"] == "poroelastic" and (logs["strain_min"] or logs["strain_max"]) \
-            and "young_modulus" not in sc.inputs:
+            and "young_modulus" not in sc.inputs and logs["elastic"] != "logs":
         problems.append(Problem("rock.young_modulus", None, "the static Young's modulus, needed "
                                 "by logs.strain_min/strain_max", found_text="nothing"))
     if problems:
@@ -319,6 +327,8 @@ def load_log_scenario(path: str | Path) -> LogScenario:
                             if logs["friction_transform"] is not None else set())
     if logs["overburden"] == "density":
         needs.add("rhob")
+    if logs["elastic"] == "logs":
+        needs |= {"dt", "dts", "rhob"}
     file = Path(logs["file"])
     if not file.is_absolute():
         file = p.parent / file

@@ -168,3 +168,40 @@ def test_measured_depth_logs_use_tvd_from_the_survey(tmp_path: Path) -> None:
     (tmp_path / "bad.toml").write_text(_gradient_base() + table.replace("8000", "7842"))
     with pytest.raises(ScenarioError, match="logs.survey"):
         load_log_scenario(tmp_path / "bad.toml")
+
+
+def test_eissa_kazi_check_points() -> None:
+    # Eissa & Kazi (1988): E_static = 0.74 E_dynamic - 0.82 [GPa] (from memory)
+    from risk.logs.transforms import eissa_kazi_1988
+
+    np.testing.assert_allclose(eissa_kazi_1988(e_dynamic=[20.0, 10.0]), [13.98, 6.58],
+                               rtol=1e-12)
+
+
+def test_log_elastic_moduli_feed_the_poroelastic_stresses(tmp_path: Path) -> None:
+    # Vp/Vs = sqrt(3) gives nu = 1/4 and E_dyn = 2.5 rho Vs^2 (isotropic elasticity, Mavko et
+    # al. 2009, sec. 2.2); E_static by Eissa & Kazi (1988); then S_h = nu/(1-nu)(Sv - a Pp)
+    # + a Pp + E/(1-nu^2)(eps_h + nu eps_H) (Blanton & Olson 1999, from memory)
+    vs = 1500.0  # [m/s]
+    dt_ft = 0.3048e6 / (vs * math.sqrt(3.0))
+    dts_ft = 0.3048e6 / vs
+    head = ("~VERSION INFORMATION\n VERS.   2.0 : CWLS LOG ASCII STANDARD - VERSION 2.0\n"
+            " WRAP.   NO  : ONE LINE PER DEPTH STEP\n~WELL INFORMATION\n"
+            " NULL.    -999.25 : NULL VALUE\n~CURVE INFORMATION\n DEPT.FT     : DEPTH\n"
+            " DT  .US/FT  : SONIC\n DTS .US/FT  : SHEAR SONIC\n RHOB.G/CM3  : DENSITY\n~A\n")
+    rows = "".join(f"{7840.0 + 0.5 * i} {dt_ft} {dts_ft} 2.2\n" for i in range(9))
+    (tmp_path / "t.las").write_text(head + rows)
+    doc = (BASE.replace("shmax = 6900\n", "").replace(
+        'shmin = { dist = "normal", mean = 5700, sd = 150 }\n', "")
+        + _logs_table("2") + 'horizontal = "poroelastic"\nelastic = "logs"\n'
+        "strain_min = 0.0002\nstrain_max = 0.0006\n")
+    (tmp_path / "logs.toml").write_text(doc)
+    res = assess_depth(load_log_scenario(tmp_path / "logs.toml"), samples=16)
+    nu = 0.25
+    e_s = (0.74 * 2.5 * 2200.0 * vs**2 * 1e-9 - 0.82) * 1e3  # [MPa]
+    sv, pp, a = 7700 * PSI_TO_MPA, 3450 * PSI_TO_MPA, 0.9
+    base = nu / (1 - nu) * (sv - a * pp) + a * pp
+    k = e_s / (1 - nu * nu)
+    np.testing.assert_allclose(res.profile["shmin"], base + k * (2e-4 + nu * 6e-4), rtol=1e-9)
+    np.testing.assert_allclose(res.profile["shmax"], base + k * (6e-4 + nu * 2e-4), rtol=1e-9)
+    assert any("Eissa & Kazi" in w for w in res.warnings)
