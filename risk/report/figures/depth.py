@@ -80,7 +80,9 @@ def plot_depth_tracks(s: Mapping[str, Any]) -> Figure:
                         color=PALETTE[(3 + k) % len(PALETTE)], label=f"collapse {k + 1}")
         ax.axvline(s["accepted_risk"], color="k", ls=":", lw=0.8, label="accepted risk")
         ax.set_xlim(-0.02, 1.02)
-        ax.set_xlabel("P(sanding) at the\nplanned drawdown [-]")
+        ax.set_xlabel("P(sanding) at the\nplanned drawdown [-]"
+                      + ("\n(dashed: P(pore collapse))" if "P(pore collapse) stage 1 [-]" in t
+                         else ""))
         ax.legend(loc="lower right", fontsize=6)
         ax = axes[5]
         perf = np.array(t["perforated [-]"], dtype=bool)
