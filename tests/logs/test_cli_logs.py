@@ -98,6 +98,10 @@ def test_log_example_outputs_and_rerun(tmp_path: Path) -> None:
     assert plan["length"] == pytest.approx(float(csv["perforated [-]"].sum()) * 0.5, abs=2.0)
     memo = (a / "memo.html").read_text()
     assert "Safety cautions" in memo and "Assumptions and limitations" in memo
+    # the demo's pore collapse over depth and its local core calibration reach the outputs
+    assert "Pore collapse over depth" in memo and "Core calibration: local factors" in memo
+    assert "P(pore collapse) stage 1 [-]" in csv.columns
+    assert len(summary["pore_collapse"]["probability_whole"]) == len(summary["stages"])
     r = RUNNER.invoke(app, ["memo", str(a)])
     assert r.exit_code == 0, r.output
 
