@@ -3,7 +3,7 @@
 ``[logs]`` keys (lengths, pressures and gradients in the scenario's units)::
 
     file = "ravenmoor_r9_logs.las"     # relative to the scenario file
-    top = 7800  base = 7900            # interval to assess (the log depth is taken as TVD)
+    top = 7800  base = 7900            # interval to assess, in the log depth (TVD or MD)
     curves = { dt = "DTC" }            # optional: mnemonics in place of the recognised ones
     max_gap = 5                        # optional: longest null run / gap filled [length]
     ucs_transform = "mcnally_1987"     # risk.logs.transforms.UCS_TRANSFORMS
