@@ -3,7 +3,7 @@
 ``[logs]`` keys (lengths, pressures and gradients in the scenario's units)::
 
     file = "ravenmoor_r9_logs.las"     # relative to the scenario file
-    top = 7800  base = 7900            # interval to assess (the log depth is taken as TVD)
+    top = 7800  base = 7900            # interval to assess, in the log depth (TVD or MD)
     curves = { dt = "DTC" }            # optional: mnemonics in place of the recognised ones
     max_gap = 5                        # optional: longest null run / gap filled [length]
     ucs_transform = "mcnally_1987"     # risk.logs.transforms.UCS_TRANSFORMS
@@ -15,10 +15,19 @@
     overburden = "density"             # or "scenario" ([stress] sv / sv_gradient)
     overburden_gradient_above = 0.95   # Sv at the log top = gradient x top [gradient]
     horizontal = "poroelastic"         # or "scenario"; tectonic strains strain_min/max [-]
+    elastic = "logs"                   # optional, with "poroelastic": Poisson's ratio and
+                                       # Young's modulus of the stresses from dt, dts, rhob
+                                       # (static by Eissa & Kazi 1988); default "scenario"
                                        # or "ratio": S_h = k (Sv - Pp) + Pp, k_min, k_max [-]
     step = 0.5                         # optional: resample the logs to this step [length]
     core = [[7841, 2900], [7866, 5200]]   # optional: core UCS tests [length, pressure] that
-                                       # calibrate the transform (one factor, geometric mean)
+                                       # calibrate the transform near each core depth
+    core_influence = 10                # optional: influence distance of a core [length];
+                                       # "inf" (default) = one factor over the interval
+    depth_reference = "md"             # optional: the log depth is "tvd" (default) or "md";
+    survey = [[7000, 0, 0], [7900, 24, 40]]   # with "md": stations [MD, inc deg, azi deg]
+    survey_tvd = 7000                  # TVD of the first station [length] (minimum curvature;
+                                       # no survey: constant [well] inclination from surface)
     zoning = "fixed"                   # plan zones: "fixed" thickness, or "breaks" where the
     zone_break = 0.2                   # transform's UCS changes by more than this fraction
     planned_drawdown = 500             # [pressure]
@@ -55,7 +64,8 @@ LOG_KEYS: Final = ("file", "top", "base", "curves", "max_gap", "ucs_transform", 
                    "correlation_length", "friction_transform", "friction_sd", "overburden",
                    "overburden_gradient_above", "horizontal", "strain_min", "strain_max",
                    "planned_drawdown", "zone_thickness", "min_interval", "standoff", "step",
-                   "k_min", "k_max", "core", "zoning", "zone_break")
+                   "k_min", "k_max", "core", "zoning", "zone_break", "core_influence",
+                   "depth_reference", "survey", "survey_tvd", "elastic")
 
 
 @dataclass(frozen=True)
@@ -84,6 +94,11 @@ class LogScenario:
     core: tuple[tuple[float, float], ...] = ()  # (depth [m], UCS [MPa]) core tests
     zoning: str = "fixed"  # "fixed" or "breaks"
     zone_break: float = 0.2  # relative change of the transform's UCS that starts a zone [-]
+    core_influence: float = math.inf  # [m] influence distance of a core test
+    depth_reference: str = "tvd"  # the log depth is "tvd" or "md"
+    survey: tuple[tuple[float, float, float], ...] = ()  # (MD [m], inc [rad], azi [rad])
+    survey_tvd: float = 0.0  # TVD of the first station [m]
+    elastic: str = "scenario"  # "logs": static nu and E of the poroelastic stresses from logs
     las_path: str = ""  # the LAS file as found (an input: its folder is never an output)
 
 
@@ -106,7 +121,7 @@ def _num(t: Mapping[str, Any], key: str, problems: list[Problem], expected: str,
         problems.append(Problem(f"logs.{key}", None, expected,
                                 found_text="nothing (the key is missing)"))
         return math.nan
-    if allow_inf and v == "inf":
+    if allow_inf and (v == "inf" or (isinstance(v, float) and v == math.inf)):
         return math.inf
     if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v) or (
             v < low if inclusive else v <= low):
@@ -165,7 +180,7 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
     out["friction_sd"] = math.radians(_num(t, "friction_sd", p, "a scatter >= 0 [deg]", 0.0))
     for key, opts in (("overburden", ("scenario", "density")),
                       ("horizontal", ("scenario", "poroelastic", "ratio")),
-                      ("zoning", ("fixed", "breaks"))):
+                      ("zoning", ("fixed", "breaks")), ("elastic", ("scenario", "logs"))):
         v = t.get(key, opts[0])
         if v not in opts:
             p.append(Problem(f"logs.{key}", v, " or ".join(f'"{o}"' for o in opts)))
@@ -193,6 +208,35 @@ def parse_log_section(t: Any, units: str) -> tuple[dict[str, Any], list[Problem]
                          inclusive=False) if out["horizontal"] == "ratio" else math.nan)
     out["zone_break"] = _num(t, "zone_break", p, "a relative change > 0 [-]", 0.2,
                              inclusive=False)
+    out["core_influence"] = _num(t, "core_influence", p, f"the influence distance of a core "
+                                 f"test > 0 [{disp['length']}] or \"inf\"", math.inf,
+                                 inclusive=False, allow_inf=True) * L
+    if out["elastic"] == "logs" and out["horizontal"] != "poroelastic":
+        p.append(Problem("logs.elastic", "logs", 'logs.horizontal = "poroelastic" (the log '
+                         'moduli feed the uniaxial-strain stresses only), or elastic = '
+                         '"scenario"'))
+    ref = t.get("depth_reference", "tvd")
+    if ref not in ("tvd", "md"):
+        p.append(Problem("logs.depth_reference", ref, '"tvd" or "md"'))
+    out["depth_reference"] = ref
+    survey = t.get("survey", [])
+    rows: list[tuple[float, float, float]] = []
+    if not isinstance(survey, list):
+        survey = [survey]
+    for i, row in enumerate(survey):
+        if (isinstance(row, list) and len(row) == 3 and all(
+                isinstance(v, int | float) and not isinstance(v, bool) and math.isfinite(v)
+                for v in row) and row[0] >= 0 and 0 <= row[1] <= 180 and 0 <= row[2] < 360
+                and (not rows or row[0] * L > rows[-1][0])):
+            rows.append((float(row[0]) * L, math.radians(row[1]), math.radians(row[2])))
+        else:
+            p.append(Problem(f"logs.survey[{i}]", row, f"[MD >= 0 {disp['length']}, "
+                             "inclination 0-180 deg, azimuth 0-360 deg], MD increasing"))
+    if rows and ref != "md":
+        p.append(Problem("logs.survey", survey, 'no survey unless logs.depth_reference = "md"'))
+    out["survey"] = tuple(rows)
+    out["survey_tvd"] = _num(t, "survey_tvd", p, f"the TVD of the first survey station >= 0 "
+                             f"[{disp['length']}]", rows[0][0] / L if rows else 0.0) * L
     core = t.get("core", [])
     pairs: list[tuple[float, float]] = []
     if not isinstance(core, list):
@@ -273,7 +317,7 @@ def load_log_scenario(path: str | Path) -> LogScenario:
     except ScenarioError as err:
         raise ScenarioError(problems + err.problems, name) from None
     if logs["horizontal"] == "poroelastic" and (logs["strain_min"] or logs["strain_max"]) \
-            and "young_modulus" not in sc.inputs:
+            and "young_modulus" not in sc.inputs and logs["elastic"] != "logs":
         problems.append(Problem("rock.young_modulus", None, "the static Young's modulus, needed "
                                 "by logs.strain_min/strain_max", found_text="nothing"))
     if problems:
@@ -283,6 +327,8 @@ def load_log_scenario(path: str | Path) -> LogScenario:
                             if logs["friction_transform"] is not None else set())
     if logs["overburden"] == "density":
         needs.add("rhob")
+    if logs["elastic"] == "logs":
+        needs |= {"dt", "dts", "rhob"}
     file = Path(logs["file"])
     if not file.is_absolute():
         file = p.parent / file
@@ -299,6 +345,13 @@ def load_log_scenario(path: str | Path) -> LogScenario:
         if not logs["top"] <= z <= logs["base"]:
             raise ScenarioError.single(f"logs.core[{i}]", z / conv["length"],
                                        "a core depth within logs.top to logs.base", name)
+    if logs["depth_reference"] == "md" and logs["survey"]:
+        sv_ = logs["survey"]
+        if not sv_[0][0] <= logs["top"] or not logs["base"] <= sv_[-1][0]:
+            raise ScenarioError.single(
+                "logs.survey", f"MD {sv_[0][0] / conv['length']:g} to "
+                f"{sv_[-1][0] / conv['length']:g} {disp['length']}",
+                "survey stations spanning logs.top to logs.base", name)
     kw = {k: v for k, v in logs.items()
           if k not in ("file", "top", "base", "curves", "max_gap", "step")}
     return LogScenario(scenario=sc, logs=ls, warnings=sc.warnings, las_path=str(file), **kw)

@@ -60,6 +60,8 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
     risk_ = sc.accepted_risk
     dd = ls.planned_drawdown
     table: dict[str, list[Any]] = {f"depth [{l_unit}]": _col(res.depth * l_scale, nd=4)}
+    if ls.depth_reference == "md" and res.tvd is not None:
+        table[f"tvd [{l_unit}]"] = _col(res.tvd * l_scale, nd=4)
     for role, values in ls.logs.curves.items():
         fu, ff, su, sf = _LOG_DISPLAY[role]
         unit, f = (fu, ff) if units == "field" else (su, sf)
@@ -70,7 +72,10 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
     q_ucs = depth_percentiles(res.ucs, QUANTILES)
     for j, qv in enumerate(QUANTILES):
         table[f"ucs P{round(100 * qv)} [{p_unit}]"] = _col(q_ucs[:, j] * p_scale, nd=2)
+    if res.ucs_calibration is not None:
+        table["core calibration factor [-]"] = _col(res.ucs_calibration, nd=5)
     stages_disp = [round(s * p_scale, 3) for s in res.stages]
+    collapse = _collapse_columns(res, table, p_unit, p_scale)
     for key, dc in res.dc.items():
         for k in range(len(res.stages)):
             qk = depth_percentiles(dc[:, :, k], QUANTILES)
@@ -90,9 +95,12 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
                       "correlation_length": (None if math.isinf(ls.correlation_length)
                                              else _num(ls.correlation_length, 1 / l_scale, 3)),
                       "friction": (ls.friction_transform.name if ls.friction_transform
-                                   else None)},
+                                   else None),
+                      "core": _core_text(res)},
+        "depth_reference": ls.depth_reference,
         "stress_model": {"overburden": ls.overburden, "horizontal": ls.horizontal,
-                         "strain_min": ls.strain_min, "strain_max": ls.strain_max},
+                         "strain_min": ls.strain_min, "strain_max": ls.strain_max,
+                         "elastic": ls.elastic},
         "stages": stages_disp, "accepted_risk": risk_,
         "planned_drawdown": _num(dd, 1 / p_scale, 3),
         "max_drawdown": _num(sc.max_drawdown, 1 / p_scale, 3),
@@ -100,6 +108,8 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
         "sand_mechanisms": [k for k in decision.SAND_PRODUCTION if k in res.dc],
         "warnings": list(res.warnings),
     }
+    if collapse is not None:
+        out["pore_collapse"] = collapse
     if res.sand is None:
         out["table"] = table
         out["plan"] = None
@@ -154,8 +164,54 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
         "weak_zones": int(plan.weak.sum()), "excluded_zones": int(plan.excluded.sum()),
         "zones": int(plan.perforated.size), "optimal": plan.optimal, "search_nodes": plan.nodes,
     }
+    if collapse is not None and res.collapse_far is not None:
+        collapse["probability_plan"] = [
+            round(interval_probability(res.collapse_far >= p_k, mask), 6) for p_k in res.stages]
     out["table"] = table
     return out
+
+
+def _core_text(res: DepthResult) -> str | None:
+    """The core calibration rule and its range, in words (None without core tests)."""
+    ls = res.ls
+    if not ls.core or res.ucs_calibration is None:
+        return None
+    sc = ls.scenario
+    lu = sc.display_unit("length")
+    pts = ", ".join(f"{sc.to_display(z, 'length'):,.1f} {lu}" for z, _ in ls.core)
+    c = res.ucs_calibration
+    if math.isinf(ls.core_influence):
+        return (f"one factor {float(c[0]):.3f} over the interval (geometric mean of the "
+                f"core/transform ratios at {pts})")
+    return (f"local factors {float(c.min()):.3f} to {float(c.max()):.3f} from cores at {pts}, "
+            f"influence distance {sc.to_display(ls.core_influence, 'length'):g} {lu}")
+
+
+def _collapse_columns(res: DepthResult, table: dict[str, list[Any]], p_unit: str,
+                      p_scale: float) -> dict[str, Any] | None:
+    """Pore collapse per depth (the datum stage pressure at or below which a depth collapses,
+    P10 > P50 > P90 as in the single-interval summary; P per stage, far field and wall) and
+    over the interval (any depth collapsed, from the joint samples)."""
+    if res.collapse_far is None or res.collapse_wall is None:
+        return None
+    # the depth collapses at stage pressure p when its critical datum pressure >= p: the
+    # quantiles of "deplete to it and a fraction q has collapsed" are the 1 - q quantiles
+    neg = depth_percentiles(-res.collapse_far, QUANTILES)
+    for j, qq in enumerate(QUANTILES):
+        table[f"pore collapse pressure P{round(100 * qq)} [{p_unit}]"] = _col(
+            -neg[:, j] * p_scale, nd=2)
+    whole, wall = [], []
+    for k, p_k in enumerate(res.stages):
+        f = res.collapse_far >= p_k
+        table[f"P(pore collapse) stage {k + 1} [-]"] = _col(f.mean(axis=1), nd=5)
+        table[f"P(pore collapse at wall) stage {k + 1} [-]"] = _col(
+            (res.collapse_wall >= p_k).mean(axis=1), nd=5)
+        whole.append(interval_probability(f))
+        wall.append(interval_probability(res.collapse_wall >= p_k))
+    return {"probability_whole": [round(v, 6) for v in whole],
+            "wall_probability_whole": [round(v, 6) for v in wall],
+            "rule": "far-field mean effective stress reaches the pore-collapse pressure at some "
+                    "depth of the interval (joint samples), at each stage's datum pressure"}
 
 
 def _runs(chosen: NDArray[np.bool_], top: NDArray[np.float64], base: NDArray[np.float64]

@@ -48,8 +48,8 @@ Array = NDArray[np.float64]
 
 __all__ = ["mcnally_1987", "fjaer_1992", "gulf_coast_weak_sandstone", "moos_1999",
            "vernik_1993", "chang_2006_porosity", "bradford_1998", "weingarten_perkins_1995",
-           "dynamic_moduli", "Transform", "UCS_TRANSFORMS", "FRICTION_TRANSFORMS",
-           "range_warnings"]
+           "dynamic_moduli", "eissa_kazi_1988", "static_elastic", "Transform", "UCS_TRANSFORMS",
+           "FRICTION_TRANSFORMS", "range_warnings"]
 
 _US_PER_FT_PER_US_PER_M: Final = 0.3048  # [us/ft] = [us/m] x 0.3048 (exact)
 
@@ -168,6 +168,29 @@ def dynamic_moduli(*, rho: ArrayLike, vp: ArrayLike, vs: ArrayLike) -> tuple[Arr
     e = r * s2 * (3.0 * p2 - 4.0 * s2) / (p2 - s2)
     nu = (p2 - 2.0 * s2) / (2.0 * (p2 - s2))
     return np.asarray(e), np.asarray(nu)
+
+
+def eissa_kazi_1988(*, e_dynamic: ArrayLike) -> Array:
+    """Static Young's modulus [GPa] = 0.74 E_dyn - 0.82, E_dyn dynamic modulus [GPa].
+
+    Fitted to 76 rocks of many kinds (sedimentary and igneous); the static/dynamic gap it
+    describes is largest for soft rock, where it is least certain.
+
+    References
+    ----------
+    Eissa, E.A., Kazi, A. (1988). Relation between static and dynamic Young's moduli of
+    rocks. Int. J. Rock Mech. Min. Sci. & Geomech. Abstr. 25(6), 479-482 (from memory).
+    """
+    return np.asarray(0.74 * np.asarray(e_dynamic, dtype=float) - 0.82)
+
+
+def static_elastic(curves: Mapping[str, Array]) -> tuple[Array, Array]:
+    """Static Young's modulus [MPa] and Poisson's ratio [-] over depth from the dt, dts and
+    rhob logs (internal units): :func:`dynamic_moduli`, then :func:`eissa_kazi_1988` for the
+    modulus; the dynamic Poisson's ratio is taken as the static one (common practice)."""
+    e_dyn, nu = dynamic_moduli(rho=curves["rhob"], vp=_vp(curves),
+                               vs=1.0e6 / np.asarray(curves["dts"]))
+    return np.asarray(1e3 * eissa_kazi_1988(e_dynamic=e_dyn * 1e-9)), nu
 
 
 def _dt_ft(c: Mapping[str, Array]) -> Array:

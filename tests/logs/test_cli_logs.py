@@ -46,6 +46,12 @@ def test_malformed_las_exit_2(tmp_path: Path, name: str) -> None:
     (("[rock]\n", "[rock]\nucs = 3000\n"), "rock.ucs"),
     (("top = 7800", "top = 7000"), "logs.top/logs.base"),
     (("zone_thickness = 2 ", "zone_thikness = 2 "), "logs.zone_thikness"),
+    (("core_influence = 10 ", "core_influence = -3 "), "logs.core_influence"),
+    (("zone_thickness = 2 ", 'depth_reference = "md"\nsurvey = [[7000, 10, 400]]\n'
+      "zone_thickness = 2 "), "logs.survey[0]"),
+    (("zone_thickness = 2 ", 'depth_reference = "md"\nsurvey = [[7000, 10, 40], '
+      "[7850, 12, 40]]\nzone_thickness = 2 "), "logs.survey"),
+    (("zone_thickness = 2 ", 'elastic = "logs"\nzone_thickness = 2 '), "logs.elastic"),
 ])
 def test_bad_logs_table_exit_2(tmp_path: Path, edit: tuple[str, str], fragment: str) -> None:
     text = EXAMPLE.read_text()
@@ -92,6 +98,10 @@ def test_log_example_outputs_and_rerun(tmp_path: Path) -> None:
     assert plan["length"] == pytest.approx(float(csv["perforated [-]"].sum()) * 0.5, abs=2.0)
     memo = (a / "memo.html").read_text()
     assert "Safety cautions" in memo and "Assumptions and limitations" in memo
+    # the demo's pore collapse over depth and its local core calibration reach the outputs
+    assert "Pore collapse over depth" in memo and "Core calibration: local factors" in memo
+    assert "P(pore collapse) stage 1 [-]" in csv.columns
+    assert len(summary["pore_collapse"]["probability_whole"]) == len(summary["stages"])
     r = RUNNER.invoke(app, ["memo", str(a)])
     assert r.exit_code == 0, r.output
 

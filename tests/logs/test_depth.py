@@ -219,7 +219,7 @@ def test_ratio_stresses_core_calibration_and_resampling(tmp_path: Path) -> None:
     sv, pp = 7700 * PSI_TO_MPA, 3450 * PSI_TO_MPA
     np.testing.assert_allclose(res.profile["shmin"], 0.6 * (sv - pp) + pp, rtol=1e-12)
     np.testing.assert_allclose(res.profile["shmax"], 0.8 * (sv - pp) + pp, rtol=1e-12)
-    assert any("calibrated by a factor 2.000" in w for w in res.warnings)
+    assert any("ratio(s) 2.00 to 2.00" in w and "one factor" in w for w in res.warnings)
 
 
 def test_depth_percentiles_match_probability_percentiles() -> None:

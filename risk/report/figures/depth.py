@@ -74,9 +74,15 @@ def plot_depth_tracks(s: Mapping[str, Any]) -> Figure:
         for k in range(n_st):
             ax.plot(_a(t, f"P(sanding) stage {k + 1} [-]"), z, lw=0.9,
                     color=PALETTE[(3 + k) % len(PALETTE)], label=f"stage {k + 1}")
+            pc = t.get(f"P(pore collapse) stage {k + 1} [-]")
+            if pc is not None:
+                ax.plot(np.array(pc, dtype=float), z, lw=0.8, ls="--",
+                        color=PALETTE[(3 + k) % len(PALETTE)], label=f"collapse {k + 1}")
         ax.axvline(s["accepted_risk"], color="k", ls=":", lw=0.8, label="accepted risk")
         ax.set_xlim(-0.02, 1.02)
-        ax.set_xlabel("P(sanding) at the\nplanned drawdown [-]")
+        ax.set_xlabel("P(sanding) at the\nplanned drawdown [-]"
+                      + ("\n(dashed: P(pore collapse))" if "P(pore collapse) stage 1 [-]" in t
+                         else ""))
         ax.legend(loc="lower right", fontsize=6)
         ax = axes[5]
         perf = np.array(t["perforated [-]"], dtype=bool)

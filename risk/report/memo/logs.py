@@ -15,8 +15,10 @@ __all__ = ["log_memo_html", "LOG_ASSUMPTIONS"]
 
 #: What every log run assumes (the memo states each).
 LOG_ASSUMPTIONS: Final[tuple[str, ...]] = (
-    "The log depth is taken as true vertical depth (vertical well); a deviated well needs a "
-    "TVD index before the stresses over depth mean anything.",
+    "Stresses and pore pressure use true vertical depth: the log depth itself, or, where the "
+    "logs are in measured depth, TVD by minimum curvature on the survey (Sawaryn & Thorogood "
+    "2005) or the [well] inclination held from surface; the mechanics use the [well] "
+    "inclination and azimuth at every depth.",
     "UCS comes from a published empirical transform fitted to other rocks; its scatter is "
     "sampled as a lognormal error of the stated coefficient of variation, correlated along "
     "depth with an exponential correlation of the stated length. The transform should be "
@@ -30,6 +32,13 @@ LOG_ASSUMPTIONS: Final[tuple[str, ...]] = (
     "samples over depth, not from a product of per-depth probabilities.",
     "The plan counts a sample as failing if it sands at the planned drawdown at any stage; "
     "zones with unassessed depths are never perforated.",
+    "Core tests calibrate the transform by a factor exp(sum w_i ln r_i / max(1, sum w_i)), "
+    "w_i = exp(-|z - z_i|/D) with D the stated influence distance and r_i each core's "
+    "core/transform UCS ratio; away from the cores the uncalibrated transform applies, and "
+    "the transform's scatter is not reduced near a core.",
+    "Pore collapse uses each depth's stresses and the scenario's pore-collapse pressure "
+    "(not from the logs); the depth collapses when the stage's pressure there reaches its "
+    "critical pressure.",
     "Short null runs and depth gaps (up to logs.max_gap) are filled by linear interpolation.",
 )
 
@@ -88,17 +97,34 @@ def log_memo_html(s: Mapping[str, Any], figure_png: bytes, run_date: str | None 
             f" Rule: {e(plan['rule'])}."
             + ("" if plan["optimal"] else " The search stopped at its node budget: this is the "
                "best plan found, not a proven optimum.") + "</p>")
+    pc = s.get("pore_collapse")
+    if pc is not None:
+        rows = "".join(
+            f"<tr><td>{k + 1}</td><td>{_fmt(st, pu)}</td>"
+            f"<td>{pc['probability_whole'][k]:.3f}</td>"
+            f"<td>{pc['wall_probability_whole'][k]:.3f}</td>"
+            + (f"<td>{pc['probability_plan'][k]:.3f}</td>" if "probability_plan" in pc else "")
+            + "</tr>" for k, st in enumerate(s["stages"]))
+        parts.append(
+            "<h2>Pore collapse over depth</h2><p>Depletion, not drawdown, drives pore collapse;"
+            " the probability that some depth of the interval has collapsed by each stage "
+            "(joint samples over depth):</p><table><tr><th>stage</th><th>reservoir pressure "
+            "(datum)</th><th>P(far field, whole interval)</th><th>P(at a cavity wall, whole "
+            "interval)</th>" + ("<th>P(far field, plan)</th>" if "probability_plan" in pc
+                                else "") + f"</tr>{rows}</table>")
     uri = "data:image/png;base64," + base64.b64encode(figure_png).decode("ascii")
     parts.append(f"<h2>Depth tracks</h2><img src='{uri}' style='width:100%' alt='depth tracks'>"
                  "<p class='caption'>Input logs, UCS from the transform with its P10-P90 band, "
                  "the sand-free critical drawdown (P10-P50) per stage against the planned "
-                 "drawdown, P(sanding) per depth at the planned drawdown, and the plan.</p>")
+                 "drawdown, P(sanding) per depth at the planned drawdown (dashed: P(pore collapse) "
+                 "at each stage, when assessed), and the plan.</p>")
     tr = s["transform"]
     corr = ("one error for the whole interval" if tr["correlation_length"] is None
             else f"correlation length {_fmt(tr['correlation_length'], lu, 1)}")
     parts.append(f"<h2>Strength from logs</h2><p>UCS from {e(tr['source'])} "
                  f"({e(tr['lithology'])}), lognormal error with cov {tr['cov']:.2f}, {corr}."
-                 "</p>")
+                 + (f" Core calibration: {e(tr['core'])}." if tr.get("core") else "")
+                 + "</p>")
     if s["warnings"]:
         parts.append("<h2>Warnings and data notes</h2>" + _li(list(s["warnings"])))
     parts.append("<h2>Assumptions and limitations</h2>" + _li(list(LOG_ASSUMPTIONS)))
