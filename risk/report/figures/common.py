@@ -59,16 +59,6 @@ def _arr(values: Sequence[Any]) -> np.ndarray:
     return np.array([_f(v) for v in values], dtype=float)
 
 
-def _drawdown_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[str, Any]]]:
-    """Mechanisms whose stages carry failure-probability curves (not pore collapse)."""
-    out = []
-    for key, mech in results.get("mechanisms", {}).items():
-        stages = mech.get("stages") or []
-        if stages and all("failure_probability" in s for s in stages):
-            out.append((key, mech))
-    return out
-
-
 def _grid(n: int, max_cols: int) -> tuple[int, int]:
     ncols = min(n, max_cols)
     if n == 4 and max_cols >= 2:

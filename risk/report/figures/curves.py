@@ -24,7 +24,6 @@ from risk.report.figures.common import (
     PR,
     PWF,
     _arr,
-    _drawdown_mechanisms,
     _f,
     _grid,
     _hide_unused,
@@ -35,6 +34,7 @@ from risk.report.figures.common import (
     mechanism_color,
 )
 from risk.report.formatting import format_value
+from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
 
 # --------------------------------------------------------------------------- failure probability
 

@@ -18,13 +18,13 @@ from risk.report.figures.common import (
     PALETTE,
     PR,
     _arr,
-    _drawdown_mechanisms,
     _f,
     _new_figure,
     _styled,
     _unit,
 )
 from risk.report.formatting import format_value
+from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
 
 
 def _shot_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[str, Any]]]:

@@ -18,7 +18,6 @@ from risk.report.figures.common import (
     PALETTE,
     PR,
     _arr,
-    _drawdown_mechanisms,
     _f,
     _hide_unused,
     _new_figure,
@@ -27,6 +26,8 @@ from risk.report.figures.common import (
     _unit,
 )
 from risk.report.formatting import format_value, input_label, output_name
+from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
+from risk.report.reading import rank_value
 
 
 def _mech_name(results: Mapping[str, Any], key: str) -> str:
@@ -37,14 +38,11 @@ def _input_units(results: Mapping[str, Any]) -> dict[str, str]:
     return {str(i["name"]): str(i.get("unit") or "") for i in results.get("inputs") or []}
 
 
-def _rank_value(row: Mapping[str, Any]) -> float:
-    """What ranks an input (as in the memo's tables): the Shapley effect, else the total index,
-    else the first-order index; -1 when the row has none."""
-    for k in ("rank_value", "shapley", "total", "first"):
-        v = _f(row.get(k))
-        if math.isfinite(v):
-            return v
-    return -1.0
+def _sort_value(row: Mapping[str, Any]) -> float:
+    """The memo's ranking value of a row (:func:`risk.report.reading.rank_value`); -1 when the
+    row has none, so that it sorts last."""
+    v = rank_value(row)
+    return -1.0 if v is None else v
 
 
 def plot_sensitivity(results: Mapping[str, Any], *, fig: Figure | None = None) -> Figure | None:
@@ -64,7 +62,7 @@ def plot_sensitivity(results: Mapping[str, Any], *, fig: Figure | None = None) -
         for rows in sens.values():
             for r in rows:
                 name = str(r["input"])
-                best[name] = max(best.get(name, -1.0), _rank_value(r))
+                best[name] = max(best.get(name, -1.0), _sort_value(r))
         order = sorted(best, key=lambda k: -best[k])
         y = np.arange(len(order))
         fig = fig or _new_figure(min(len(order) * 0.34 + 1.6, MAX_HEIGHT))

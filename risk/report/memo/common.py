@@ -12,6 +12,7 @@ from typing import Any
 from markupsafe import Markup, escape
 
 from risk.report.formatting import format_value
+from risk.report.reading import rank_value as _rank_value
 
 
 def _p(results: Mapping[str, Any], v: Any, *, none: str = "never") -> str:
@@ -58,23 +59,6 @@ def _num(v: Any) -> str:
 def _raw(v: Any) -> str:
     """The JSON text of a value, for machine-readable ``data-value`` attributes."""
     return json.dumps(v)
-
-
-def _drawdown_mechanisms(results: Mapping[str, Any]) -> list[tuple[str, Mapping[str, Any]]]:
-    out = []
-    for key, mech in (results.get("mechanisms") or {}).items():
-        stages = mech.get("stages") or []
-        if stages and all("failure_probability" in s for s in stages):
-            out.append((key, mech))
-    return out
-
-
-def _rank_value(row: Mapping[str, Any]) -> float | None:
-    """What ranks an input: Shapley effect, else total index, else first-order index."""
-    for k in ("rank_value", "shapley", "total", "first"):
-        if row.get(k) is not None:
-            return float(row[k])
-    return None
 
 
 def _rank_basis(row: Mapping[str, Any]) -> str:

@@ -9,18 +9,18 @@ from typing import Any
 
 from risk.report.formatting import format_value, input_label
 from risk.report.memo.common import (
-    _drawdown_mechanisms,
     _lower,
     _p,
     _pct,
     _prob,
     _punit,
     _rank_basis,
-    _rank_value,
     _raw,
     _rich,
     _top_sensitivity,
 )
+from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
+from risk.report.reading import rank_value as _rank_value
 
 # --------------------------------------------------------------------------- shot sets
 

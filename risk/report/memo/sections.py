@@ -13,20 +13,20 @@ import numpy as np
 from risk.report.formatting import format_value, input_label, output_name
 from risk.report.memo.common import (
     _angle_reference,
-    _drawdown_mechanisms,
     _lower,
     _num,
     _p,
     _pct,
     _prob,
     _rank_basis,
-    _rank_value,
     _rich,
     _sci,
     _tied,
     _top_sensitivity,
 )
 from risk.report.memo.texts import _SECTION_TITLES
+from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
+from risk.report.reading import rank_value as _rank_value
 
 _SHOT_STAGES: Final = 3  # depletion stages per per-shot table (keeps it within the page)
 
