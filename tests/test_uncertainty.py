@@ -482,7 +482,7 @@ def test_named_random_streams_are_reproducible_and_distinct():
     # generators' first draws differ; the same arguments give the same draws
     from risk.uncertainty import STREAMS, rng_stream
 
-    assert set(STREAMS) == {"reliability", "sensitivity", "calibration", "mcmc", "voi"}
+    assert set(STREAMS) == {"reliability", "sensitivity", "logs", "calibration", "mcmc", "voi"}
     assert len(set(STREAMS.values())) == len(STREAMS)  # every key distinct
     a = rng_stream(7, "reliability", 0).random(4)
     assert np.array_equal(a, rng_stream(7, "reliability", 0).random(4))

@@ -49,7 +49,7 @@ from risk.logs.stresses import overburden, poroelastic_horizontal
 from risk.logs.survey import minimum_curvature_tvd
 from risk.uncertainty import Marginal, UnitSampler, build_joint, input_columns, to_inputs
 from risk.uncertainty.copula import correlated_normals
-from risk.uncertainty.sampling import STREAMS
+from risk.uncertainty.sampling import STREAMS, rng_stream
 
 Array = NDArray[np.float64]
 
@@ -60,11 +60,9 @@ __all__ = ["DepthResult", "assess_depth", "ar1_normals", "depth_scores", "LOG_ST
 #: Inputs whose error varies along depth (the transforms' errors), in this order.
 DEPTH_VARYING: Final = ("ucs", "friction_angle")
 
-#: Key of the transform-error stream (numpy SeedSequence entropy [seed, key, chunk]); kept
-#: apart from :data:`risk.uncertainty.STREAMS` keys so that no other stream changes.
-LOG_STREAM: Final = 16
-if LOG_STREAM in STREAMS.values():  # pragma: no cover - a module invariant
-    raise RuntimeError("risk.logs.depth.LOG_STREAM collides with a key of uncertainty.STREAMS")
+#: Key of the transform-error stream (:func:`risk.uncertainty.rng_stream` "logs", indexed by
+#: the sample chunk; its key 16 was chosen apart from the others so that no stream changed).
+LOG_STREAM: Final = STREAMS["logs"]
 CHUNK: Final = 4096  # samples per chunk, as in risk.assessment
 ROWS: Final = 32_768  # (depth x sample) rows per evaluate call
 
@@ -357,7 +355,7 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
         cols = input_columns(joint, x)
         scores = (depth_scores(first=correlated_normals(joint, xi), corr=joint.normal_corr,
                                vary=vary, depth=depth, length=ls.correlation_length,
-                               rng=np.random.default_rng([seed_, LOG_STREAM, chunk_no]))
+                               rng=rng_stream(seed_, "logs", chunk_no))
                   if vary else np.zeros((nd, m, 0)))
         pp_datum = (cols["pp"] if sc.stress_given["pp"] == "absolute"
                     else cols["pp_gradient"] * datum)

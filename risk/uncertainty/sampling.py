@@ -171,6 +171,8 @@ class _FeistelLHS:
 #: stream never changes the others. The keys are part of the reproducibility promise: changing
 #: one changes that stream's results.
 STREAMS: Final[dict[str, int]] = {"reliability": 1, "sensitivity": 2,
+                                  # transform errors along depth of a log run (issue 16)
+                                  "logs": 16,
                                   # field-history calibration (issue 17): pairing of the
                                   # well-to-well inputs, MCMC, value-of-information bootstrap
                                   "calibration": 17, "mcmc": 18, "voi": 19}
