@@ -331,7 +331,9 @@ def print_summary(summary: dict[str, Any], out_dir: Path, console: Console | Non
             t.add_column(col, justify="right" if col != "input" else "left")
 
         def num(v: float | None) -> str:
-            return "-" if v is None else f"{v:.2f}"
+            # a Monte-Carlo estimate of a null effect may come out slightly negative: shown
+            # as 0.00 (results.json keeps the estimate)
+            return "-" if v is None else f"{v + 0.0:.2f}".replace("-0.00", "0.00")
 
         for r in ranked[:8]:
             t.add_row(safe(r["input"]), num(r["total"]), num(r["first"]), num(r["shapley"]))
