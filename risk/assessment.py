@@ -400,13 +400,16 @@ def chunk_count(scenario: Scenario, *, samples: int | None = None) -> int:
 
 
 def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
-                    start: int, stop: int) -> list[ChunkOutcome]:
+                    start: int, stop: int, progress: Progress | None = None
+                    ) -> list[ChunkOutcome]:
     """Evaluate chunks ``start`` to ``stop - 1`` of the run ``assess(scenario, samples=samples,
     seed=seed)`` would make, exactly as it would (the split-run hook of :mod:`risk.batch`).
 
     The unit-cube stream is replayed from the seed up to chunk ``start`` (drawing points is
     cheap next to evaluating them), so any contiguous range can run on any process and
     ``assess(scenario, ..., chunks=...)`` fed with all of them gives bit-identical results.
+    ``progress(done, total)``, when given, is called after each evaluated chunk with the
+    samples of this range evaluated so far and the range's sample count.
     """
     n_req = scenario.samples if samples is None else int(samples)
     seed_ = scenario.seed if seed is None else int(seed)
@@ -421,6 +424,8 @@ def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in scenario.options]
     head = min(n, HEAD_ROWS)
     out = []
+    in_range = max(0, min(n, stop * CHUNK) - start * CHUNK)
+    evaluated = 0
     for index in range(stop):
         done = index * CHUNK
         m = min(CHUNK, n - done)
@@ -428,6 +433,9 @@ def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int
         if index >= start:
             out.append(_evaluate_drawn(scenario, joint, option_scenarios, u, index=index,
                                        keep=max(0, min(m, head - done))))
+            evaluated += m
+            if progress is not None:
+                progress(evaluated, in_range)
     return out
 
 

@@ -372,6 +372,8 @@ def _compute(tasks: dict[str, tuple[Case, CaseTask, Any]], workers: int | None,
     from distributed import wait
 
     events: collections.deque[Any] = collections.deque()
+    split_done: dict[str, dict[int, int]] = {}  # case -> first chunk of a range -> samples done
+    split_total: dict[str, int] = {}
     held = _Cluster(workers, scheduler, client)
     c = held.client
     futures: dict[Any, str] = {}
@@ -384,9 +386,12 @@ def _compute(tasks: dict[str, tuple[Case, CaseTask, Any]], workers: int | None,
             if split:
                 from risk.assessment import chunk_count
 
-                n = chunk_count(scenario_of(task), samples=task.samples)
+                scenario = scenario_of(task)
+                n = chunk_count(scenario, samples=task.samples)
                 parts = [c.submit(run_chunks, task, a, min(a + per_part, n), pure=False)
                          for a in range(0, n, per_part)]
+                split_done[cid] = {}
+                split_total[cid] = scenario.samples if task.samples is None else task.samples
                 fut = c.submit(finish_case, task, *parts, pure=False)
             else:
                 fut = c.submit(run_case, task, pure=False)
@@ -401,8 +406,7 @@ def _compute(tasks: dict[str, tuple[Case, CaseTask, Any]], workers: int | None,
                 ev = events.popleft()
                 msg = ev[1] if isinstance(ev, tuple) and len(ev) == 2 else ev
                 if isinstance(msg, dict):
-                    tell(ProgressEvent("case", msg.get("case"), int(msg.get("done", 0)),
-                                       int(msg.get("total", 0)), "running"))
+                    tell(_case_event(msg, split_done, split_total))
             for fut in done:
                 cid = futures.pop(fut)
                 case, task, _ = tasks[cid]
@@ -418,6 +422,19 @@ def _compute(tasks: dict[str, tuple[Case, CaseTask, Any]], workers: int | None,
         except Exception:  # noqa: BLE001
             pass
         held.close()
+
+
+def _case_event(msg: dict[str, Any], split_done: dict[str, dict[int, int]],
+                split_total: dict[str, int]) -> ProgressEvent:
+    """A worker's progress message as the client's event: for a split case, the samples done
+    summed over its ranges (each range reports its own count, so a range retried on another
+    worker restarts its count rather than adding to it)."""
+    cid = msg.get("case")
+    done, total = int(msg.get("done", 0)), int(msg.get("total", 0))
+    if "part" in msg and cid in split_done:
+        split_done[cid][int(msg["part"])] = done
+        done, total = sum(split_done[cid].values()), split_total[cid]
+    return ProgressEvent("case", cid, done, total, "running")
 
 
 def _collect(fut: Any, case: Case, task: CaseTask, top: Any, force: bool,

@@ -58,8 +58,11 @@ def scenario_of(task: CaseTask) -> Any:
     return parse_scenario(task.document, source_name=task.source_name, sha256=task.sha256)
 
 
-def _progress(case: str) -> Any:
-    """A progress callback that tells the client (a worker event), or None off a worker."""
+def _progress(case: str, part: int | None = None) -> Any:
+    """A progress callback that tells the client (a worker event), or None off a worker.
+
+    ``part`` (the first chunk of a range of a split case) marks the counts as those of that
+    range: the client adds up the ranges of a case."""
     try:
         from distributed import get_worker
 
@@ -72,7 +75,10 @@ def _progress(case: str) -> Any:
         now = time.monotonic()
         if done == total or now - last[0] > 0.25:
             last[0] = now
-            worker.log_event(PROGRESS_TOPIC, {"case": case, "done": done, "total": total})
+            event: dict[str, Any] = {"case": case, "done": done, "total": total}
+            if part is not None:
+                event["part"] = part
+            worker.log_event(PROGRESS_TOPIC, event)
     return tell
 
 
@@ -146,7 +152,7 @@ def run_chunks(task: CaseTask, start: int, stop: int) -> list[Any]:
     with warnings.catch_warnings(), np.errstate(all="ignore"):
         warnings.simplefilter("ignore")
         return evaluate_chunks(scenario_of(task), samples=task.samples, seed=task.seed,
-                               start=start, stop=stop)
+                               start=start, stop=stop, progress=_progress(task.case, start))
 
 
 def finish_case(task: CaseTask, *parts: list[Any]) -> CaseOutcome:

@@ -57,8 +57,31 @@ def test_a_chunk_in_the_wrong_place_is_refused():
 
 def test_one_case_split_over_two_workers_equals_the_single_process_run(tmp_path, client):
     path = write_field(tmp_path, f'[[case]]\nwell = "R-7"\nscenario = "{R7}"\n')
+    events = []
     res = run_field(path, client=client, samples=SAMPLES, seed=5, split_samples=CHUNK,
-                    memos=False)
+                    memos=False, progress=events.append)
     assert not res.failed
+    # progress of a split case counts the samples of the whole case, summed over its ranges
+    shown = [(e.done, e.total) for e in events if e.kind == "case"]
+    assert shown and all(total == SAMPLES and 0 < done <= total for done, total in shown)
     reference = summarize(assess(load_scenario(R7), samples=SAMPLES, seed=5))
     assert dumps(res.summaries["R-7"]) == dumps(reference)
+
+
+def test_progress_of_a_split_case_adds_up_its_ranges():
+    from risk.batch.runner import _case_event
+
+    done: dict[str, dict[int, int]] = {"A": {}}
+    total = {"A": 3000}
+    steps = [({"case": "A", "part": 0, "done": 512, "total": 1024}, 512),
+             ({"case": "A", "part": 1, "done": 1024, "total": 1976}, 1536),
+             ({"case": "A", "part": 0, "done": 1024, "total": 1024}, 2048),
+             # range 1 retried on another worker after a worker died: its count restarts
+             ({"case": "A", "part": 1, "done": 0, "total": 1976}, 1024),
+             ({"case": "A", "part": 1, "done": 1976, "total": 1976}, 3000)]
+    for msg, expected in steps:
+        ev = _case_event(msg, done, total)
+        assert (ev.kind, ev.case, ev.done, ev.total) == ("case", "A", expected, 3000)
+    # a whole case reports its own counts
+    ev = _case_event({"case": "B", "done": 7, "total": 9}, done, total)
+    assert (ev.done, ev.total) == (7, 9)
