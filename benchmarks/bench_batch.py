@@ -8,10 +8,11 @@ Usage::
 Prints ratios (the machines are shared: absolute times vary, ratios much less):
 
 - scaling = wall time on 1 worker / wall time on 2 workers (goal >= 1.7 on two free cores);
-- overhead = (batch wall time per case on 1 worker) / (bare ``risk.assess`` per case, one
-  process, same cases) - 1 (goal <= 10% at 20,000 samples). The batch path includes what a
-  bare call does not: scenario validation on the client, the task round trip, the JSON summary
-  (results.json, run.json) and writing each case folder; case memos are off (``--memos`` adds
+- overhead = (batch wall time per case on 1 worker) / (bare ``risk.assess`` per case, in a
+  fresh process of its own, warmed like the workers, same number of cases) - 1 (goal <= 10%
+  at 20,000 samples). The batch path includes what a bare call does not: scenario validation
+  on the client, the task round trip, the JSON summary (results.json, run.json), writing each
+  case folder and the field's table and summary memo; case memos are off (``--memos`` adds
   them; they cost about as much as the assessment itself).
 
 The cases are the fictional Ravenmoor R-7 scenario at depths a few feet apart (each case its
@@ -82,6 +83,24 @@ def _warm() -> None:
     risk.assess(risk.load_scenario(R7), samples=256)
 
 
+def _peak_rss_mb() -> float:
+    import resource
+
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+
+
+def _bare_pool() -> object:
+    """A fresh process for the bare loop (spawned, warmed like the workers), so that it pays
+    neither the clusters' schedulers and heartbeats that live in this process nor their
+    memory: the same footing as a worker."""
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    pool = ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"))
+    pool.submit(_warm).result()
+    return pool
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__,
                                  formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -97,17 +116,25 @@ def main() -> None:
     print(f"{args.cases} cases x {args.samples:,} samples in {args.rounds} interleaved rounds, "
           f"CPUs available: {len(os.sched_getaffinity(0))}")
     _warm()
+    pool = _bare_pool()
     c1, client1, s1 = cluster(1)
     c2, client2, s2 = cluster(2)
     per = max(1, args.cases // args.rounds)
-    t_bare = t1 = t2 = 0.0
+    t_bare = t1 = t2 = cpu1 = cpu2 = 0.0
     for r in range(args.rounds):
         first = 3 * r * per  # every run its own cases: nothing reused
-        t_bare += bare(per, first, args.samples)
+        t_bare += pool.submit(bare, per, first, args.samples).result()  # type: ignore[attr-defined]
+        c0 = time.process_time()
         t1 += batch(client1, per, first + per, args.samples, args.memos)
+        c1_ = time.process_time()
         t2 += batch(client2, per, first + 2 * per, args.samples, args.memos)
+        cpu1 += c1_ - c0
+        cpu2 += time.process_time() - c1_
         print(f"  round {r + 1}: bare {t_bare:.0f} s, 1 worker {t1:.0f} s, 2 workers {t2:.0f} s "
               "(cumulative)", flush=True)
+    peaks = [*client1.run(_peak_rss_mb).values(),  # type: ignore[attr-defined]
+             *client2.run(_peak_rss_mb).values()]  # type: ignore[attr-defined]
+    pool.shutdown()  # type: ignore[attr-defined]
     for cl, c in ((client1, c1), (client2, c2)):
         cl.close()  # type: ignore[attr-defined]
         c.close()  # type: ignore[attr-defined]
@@ -115,6 +142,9 @@ def main() -> None:
     print(f"bare risk.assess, one process : {t_bare / n:8.3f} s per case")
     print(f"batch, 1 worker               : {t1 / n:8.3f} s per case (cluster start {s1:.1f} s)")
     print(f"batch, 2 workers              : {t2 / n:8.3f} s per case (cluster start {s2:.1f} s)")
+    print(f"client CPU (scheduler, writing, field summary): {cpu1 / n:.3f} / {cpu2 / n:.3f} s "
+          "per case (1 / 2 workers)")
+    print(f"peak memory per worker        : {max(peaks):8.0f} MB")
     print(f"scaling 1 -> 2 workers        : {t1 / t2:8.2f}  (goal >= 1.7 on two free cores)")
     print(f"per-case overhead vs bare     : {t1 / t_bare - 1:8.1%}  (goal <= 10% at 20,000)")
 
