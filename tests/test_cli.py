@@ -12,6 +12,8 @@ from typer.testing import CliRunner
 
 from risk.cli import app
 
+ROOT_DIR = Path(__file__).resolve().parents[1]
+
 RUNNER = CliRunner()
 EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "ravenmoor_r7_openhole.toml"
 
@@ -169,6 +171,15 @@ def test_version_and_short_help():
         assert "<bool>" not in r.output and "<str>" not in r.output
     r = RUNNER.invoke(app, ["run", "-h"])
     assert "--samples N" in r.output and "analysis.samples" in r.output
+
+
+def test_python_dash_m_risk_is_the_same_command_line(tmp_path):
+    from risk import __version__
+
+    r = subprocess.run([sys.executable, "-m", "risk", "--version"], capture_output=True,
+                       text=True, cwd=tmp_path, env={**__import__("os").environ,
+                                                     "PYTHONPATH": str(ROOT_DIR)})
+    assert r.returncode == 0 and r.stdout.strip() == f"risk {__version__}"
 
 
 @pytest.mark.slow
