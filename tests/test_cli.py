@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 from pathlib import Path
@@ -177,8 +178,7 @@ def test_python_dash_m_risk_is_the_same_command_line(tmp_path):
     from risk import __version__
 
     r = subprocess.run([sys.executable, "-m", "risk", "--version"], capture_output=True,
-                       text=True, cwd=tmp_path, env={**__import__("os").environ,
-                                                     "PYTHONPATH": str(ROOT_DIR)})
+                       text=True, cwd=tmp_path, env={**os.environ, "PYTHONPATH": str(ROOT_DIR)})
     assert r.returncode == 0 and r.stdout.strip() == f"risk {__version__}"
 
 
