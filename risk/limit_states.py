@@ -468,6 +468,9 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario, *,
         t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
                                path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
         loc = rotated(t)
+        if rotation == "compiled":  # the same arithmetic, fused (mechanics._compaction_kernel)
+            return _wall_cap_compiled(loc, p_r - drawdown, p_r, a_, nu_, pstar,
+                                      m_ if with_cap else np.full(np.shape(m_), np.inf), theta)
         loc = st.LocalStress(*(c[..., None] for c in loc))  # (..., frames, 1)
         p_w = (p_r - drawdown)[..., None, None]
         w = st.wall_stresses(loc, theta=theta, wall_pressure=p_w,
@@ -510,6 +513,24 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario, *,
     return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"],
                             far_field_mean_stress=mean_far if with_cap else None,
                             wall_at_max_drawdown=at_max)
+
+
+def _wall_cap_compiled(loc: st.LocalStress, p_w: Array, p_r: Array, big_a: Array, nu: Array,
+                       p_star: Array, m: Array, theta: Array) -> Array:
+    """Largest wall compaction excess [MPa] over frames and wall angles by the compiled
+    kernel: loc (..., frames), the others (...) or broadcastable to it."""
+    from risk.mechanics._compaction_kernel import wall_cap_max
+
+    lead = loc.sxx.shape[:-1]
+    comps = [np.ascontiguousarray(c, dtype=float).reshape(-1, c.shape[-1]) for c in loc]
+
+    def flat(a: Array) -> Array:
+        return np.ascontiguousarray(np.broadcast_to(np.asarray(a, dtype=float), lead)).ravel()
+
+    out = np.empty(comps[0].shape[0])
+    wall_cap_max(*comps, *(flat(a) for a in (p_r, p_w, big_a, nu, p_star, m)),  # type: ignore[call-arg]
+                 np.cos(theta), np.sin(theta), np.cos(2.0 * theta), np.sin(2.0 * theta), out)
+    return out.reshape(lead)
 
 
 PROFILE_SAMPLES: Final = 256

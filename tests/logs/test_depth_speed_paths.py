@@ -68,6 +68,32 @@ def test_compiled_rotation_worked_case() -> None:
     np.testing.assert_allclose(got, [60.0, 50.0, 40.0, 0.0, 0.0, 0.0], rtol=0, atol=1e-12)
 
 
+@pytest.mark.parametrize("cap_slope", [1.2, math.inf])
+def test_compiled_wall_cap_equals_numpy_composition(cap_slope: float) -> None:
+    # the fused kernel of the log runs' pore collapse against the numpy composition it
+    # replaces: generalized Kirsch wall stresses (Fjaer et al. 2008, eqs. 4.81-4.86) and the
+    # modified Cam clay excess (Roscoe & Burland 1968), maximised over frames and angles
+    from risk.limit_states import _wall_cap_compiled
+    from risk.mechanics import cap
+
+    rng = np.random.default_rng(4)
+    n, m = 300, 6
+    loc = st.LocalStress(*(rng.normal(40.0 if j < 3 else 0.0, 8.0, (n, m)) for j in range(6)))
+    p_r, dd = rng.uniform(15.0, 25.0, n), rng.uniform(0.0, 10.0, n)
+    big_a, nu = rng.uniform(0.3, 0.6, n), rng.uniform(0.2, 0.3, n)
+    p_star, m_slope = rng.uniform(20.0, 60.0, n), np.full(n, cap_slope)
+    theta = (np.arange(48) + 0.5) * np.pi / 48
+    got = _wall_cap_compiled(loc, p_r - dd, p_r, big_a, nu, p_star, m_slope, theta)
+    p_w = (p_r - dd)[:, None, None]
+    w = st.wall_stresses(st.LocalStress(*(c[..., None] for c in loc)), theta=theta,
+                         wall_pressure=p_w, reservoir_pressure=p_r[:, None, None],
+                         poro_coefficient=big_a[:, None, None], poisson_ratio=nu[:, None, None])
+    ref = cap.wall_cap_excess(hoop=w.hoop - p_w, axial=w.axial - p_w, shear=w.shear_hoop_axial,
+                              collapse_pressure=p_star[:, None, None],
+                              m=m_slope[:, None, None]).max(axis=(-1, -2))
+    np.testing.assert_allclose(got, ref, rtol=0, atol=1e-12 * float(np.max(np.abs(ref))))
+
+
 def test_compiled_rotation_refuses_bad_shapes() -> None:
     with pytest.raises(ValueError, match="expected tensors"):
         st.local_stress_frames(np.zeros((3, 3)), np.eye(3)[None])
