@@ -1,8 +1,13 @@
 """Risk over depth: every mechanism at every log depth, sample and stage, vectorised.
 
 Depth is one more array axis: the rows handed to :func:`risk.limit_states.evaluate` are
-(depth x sample) flattened, in blocks of at most ``rows`` so that memory stays bounded; the
-well-level critical drawdown of each (depth, sample, stage) is kept in single precision.
+(depth x sample) flattened, in blocks of at most ``rows`` so that memory stays bounded (and a
+block's arrays stay in cache); the well-level critical drawdown of each (depth, sample, stage)
+is kept in single precision. The blocks run on a pool of ``workers`` threads (the numpy work
+and the compiled kernels release the GIL); each writes its own slices of the outputs with the
+same arithmetic whatever the block size or thread count, so the results are bit-identical for
+any. The rotation into the tunnel frames is the compiled closed form and the wall angles are
+not computed (``evaluate(..., rotation="compiled", angles=False)``).
 
 Sampling: the scenario's inputs are drawn exactly as :func:`risk.assessment.assess` draws them
 (same sampler, same seed), with ``ucs`` replaced by the transform's lognormal error factor
@@ -274,8 +279,14 @@ def _run_blocks(fn: Callable[[int], None], starts: range, workers: int) -> None:
         fn(d0)
 
     with ThreadPoolExecutor(max_workers=workers) as pool:
-        for fut in [pool.submit(task, d0) for d0 in starts]:
-            fut.result()  # re-raises a worker's exception here
+        futures = [pool.submit(task, d0) for d0 in starts]
+        try:
+            for fut in futures:
+                fut.result()  # re-raises a worker's exception here
+        except BaseException:
+            for fut in futures:  # the blocks not started are dropped
+                fut.cancel()
+            raise
 
 
 def default_workers() -> int:
