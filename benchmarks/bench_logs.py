@@ -1,6 +1,6 @@
 """Risk over depth: the issue-16 case against the single-interval path, per case.
 
-Usage: ``python benchmarks/bench_logs.py [--depths 3000] [--samples 4096]``. Builds a
+Usage: ``python benchmarks/bench_logs.py [--depths 3000] [--samples 4096] [--workers N]``. Builds a
 synthetic LAS file (0.5 ft steps, invented logs) in a temporary folder and a perforated
 scenario with 6 shots and 4 stages (Mohr-Coulomb, yield onset and the TWC onset), runs
 :func:`risk.logs.depth.assess_depth` on it and :func:`risk.assessment.assess` on the
@@ -13,6 +13,7 @@ issue 16: the full case under 60 s on two cores and under 2 GB. Nothing here is 
 from __future__ import annotations
 
 import argparse
+import os
 import resource
 import tempfile
 import time
@@ -77,9 +78,12 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--depths", type=int, default=3000)
     ap.add_argument("--samples", type=int, default=4096)
+    ap.add_argument("--workers", type=int, default=None,
+                    help="threads over depth blocks (default: the usable cores)")
     args = ap.parse_args()
+    load0 = os.getloadavg()
     from risk.assessment import CHUNK, evaluate
-    from risk.logs.depth import assess_depth
+    from risk.logs.depth import assess_depth, default_workers
     from risk.logs.scenario import load_log_scenario
     from risk.uncertainty import UnitSampler, build_joint, input_columns, to_inputs
 
@@ -89,9 +93,9 @@ def main() -> None:
         sc_path.write_text(SCENARIO.format(samples=args.samples, base=base))
         ls = load_log_scenario(sc_path)
         assess_depth(ls, samples=64)  # compile / load the kernel outside the timing
-        t0 = time.perf_counter()
-        res = assess_depth(ls)
-        t_depth = time.perf_counter() - t0
+        t0, c0 = time.perf_counter(), time.process_time()
+        res = assess_depth(ls, workers=args.workers)
+        t_depth, cpu_depth = time.perf_counter() - t0, time.process_time() - c0
         cases = res.depth.size * res.samples * 6 * 4
         sc = ls.scenario
         names = list(sc.inputs)
@@ -108,10 +112,16 @@ def main() -> None:
             done += m
         t_single = (time.perf_counter() - t0) * (cases / 24) / n_single
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024**2  # Linux: kB -> GB
+    workers = default_workers() if args.workers is None else args.workers
+    print(f"load average (1 min) at the start {load0[0]:.1f}, at the end "
+          f"{os.getloadavg()[0]:.1f}; {workers} worker thread(s) for the depth path")
     print(f"depths x samples x shots x stages: {res.depth.size} x {res.samples} x 6 x 4 = "
           f"{cases:,} cases")
     print(f"risk over depth: {t_depth:.1f} s ({1e9 * t_depth / cases:.0f} ns per case; "
           f"goal < 60 s: {'met' if t_depth < 60 else 'NOT met'})")
+    print(f"  CPU time of the process over all its threads {cpu_depth:.1f} s "
+          f"({1e9 * cpu_depth / cases:.0f} ns per case; on {workers} uncontended cores about "
+          f"{cpu_depth / workers:.0f} s)")
     print(f"single-interval evaluation of as many cases (extrapolated from {n_single:,} "
           f"samples): {t_single:.1f} s; ratio depth/single = {t_depth / t_single:.2f}")
     print(f"peak resident memory: {peak:.2f} GB (goal < 2 GB: "

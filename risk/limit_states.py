@@ -65,7 +65,15 @@ class MechanismResult:
     @property
     def well(self) -> Array:
         """Well-level critical drawdown [MPa], (n, n_stages): first direction to fail."""
-        return np.asarray(self.by_direction.min(axis=1))
+        d = self.by_direction
+        if d.ndim != 3 or d.shape[1] < 2:
+            return np.asarray(d.min(axis=1))
+        # pairwise minima over the few directions: the same values as d.min(axis=1) (a
+        # minimum is exact), several times faster than numpy's reduction along a middle axis
+        out = np.minimum(d[:, 0], d[:, 1])
+        for j in range(2, d.shape[1]):
+            np.minimum(out, d[:, j], out=out)
+        return out
 
 
 @dataclass(frozen=True)
@@ -156,7 +164,8 @@ def _frames(scenario: Scenario) -> Array:
 
 def evaluate(cols: Mapping[str, Array], scenario: Scenario,
              only: set[str] | None = None, *, parts: bool = False,
-             reservoir_pressure: Array | None = None) -> dict[str, MechanismResult]:
+             reservoir_pressure: Array | None = None, rotation: str = "einsum",
+             angles: bool = True) -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
     Parameters
@@ -173,6 +182,16 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     reservoir_pressure : ndarray (n, n_stages), optional
         Stage pressures of each sample [MPa] in place of ``scenario.reservoir_pressure``
         (samples at different depths of a log interval, :mod:`risk.logs.depth`).
+    rotation : {"einsum", "compiled"}
+        How the far-field tensors are rotated into the cavity frames: the stacked 3 x 3
+        products of :func:`risk.mechanics.stresses.local_stress` (the default, whose results
+        the single-interval runs keep bit for bit) or the compiled closed form of
+        :func:`risk.mechanics.stresses.local_stress_frames` (equal to rounding, several times
+        faster; the log runs use it).
+    angles : bool
+        False: the wall angles of the yield onset (Mohr-Coulomb) and of the effective-strength
+        onset are not computed (their ``theta`` is then all nan; the log runs keep only the
+        critical drawdowns). The critical drawdowns are the same either way.
 
     Returns
     -------
@@ -192,7 +211,13 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         pore_pressure=p0, path=path[:, None], path_shmax=path_big[:, None],
         shmax_azimuth=np.asarray(cols["shmax_azimuth"])[:, None], reservoir_pressure=stages)
     frames = _frames(scenario)  # (m, 3, 3)
-    local = st.local_stress(tensor[:, None], frames[None, :, None])  # (n, m, k)
+    if rotation == "compiled":
+        local = st.local_stress_frames(
+            np.broadcast_to(tensor, (n,) + tensor.shape[1:]), frames)  # (n, m, k)
+    elif rotation == "einsum":
+        local = st.local_stress(tensor[:, None], frames[None, :, None])  # (n, m, k)
+    else:
+        raise ValueError(f"rotation must be 'einsum' or 'compiled', got {rotation!r}")
 
     def per_sample(a: Array) -> Array:
         return np.asarray(a, dtype=float).reshape(n, 1, 1)
@@ -216,7 +241,7 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
             local, reservoir_pressure=p_r, poro_coefficient=per_sample(big_a),
             poisson_ratio=per_sample(nu), strength=strength,
             tensile_strength=per_sample(cols["tensile_strength"]), criterion=scenario.criterion,
-        )
+            angles=angles)
         out["yield_onset"] = MechanismResult("yield_onset", p_r - onset.wall_pressure,
                                              onset.theta)
     if ("twc" in cols or "twc_ratio" in cols) and (
@@ -237,7 +262,9 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
                                                       reservoir_pressure=p_r,
                                                       poro_coefficient=per_sample(big_a))
         dc_es = sanding.classify_wall_pressure(pw, p_r)
-        if scenario.effective_strength_cavity == "tip":
+        if not angles:
+            th_es = np.broadcast_to(np.nan, dc_es.shape)
+        elif scenario.effective_strength_cavity == "tip":
             th_es = np.full(dc_es.shape, np.nan)
         else:  # the hoop stress peaks where 2 (sxx - syy) cos 2t + 4 sxy sin 2t is least
             th_es = np.mod(0.5 * (np.arctan2(4.0 * local.sxy, 2.0 * (local.sxx - local.syy))
@@ -398,10 +425,14 @@ def _cap_slope(cols: Mapping[str, Array]) -> Array:
     return cap.critical_state_slope(np.asarray(cols["friction_angle"], dtype=float))
 
 
-def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> CompactionResult:
+def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario, *,
+                        rotation: str = "einsum") -> CompactionResult:
     """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa], on the
     compaction cap (``compaction_cap = "modified-cam-clay"``, the default) or the mean
-    effective stress (``"mean-stress"``), and the wall state at the largest drawdown."""
+    effective stress (``"mean-stress"``), and the wall state at the largest drawdown.
+    ``rotation``: as in :func:`evaluate`."""
+    if rotation not in ("einsum", "compiled"):
+        raise ValueError(f"rotation must be 'einsum' or 'compiled', got {rotation!r}")
     phys = physical_inputs(cols, scenario)
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     big_a = st.poroelastic_coefficient(biot=np.asarray(cols["biot"], dtype=float),
@@ -423,12 +454,23 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
     frames = _frames(scenario)
     theta = (np.arange(WALL_ANGLES) + 0.5) * np.pi / WALL_ANGLES
 
+    def rotated(t: Array) -> st.LocalStress:
+        """Components of the tensors t (..., 3, 3) in every frame, (..., frames) [MPa]."""
+        if rotation == "einsum":
+            return st.local_stress(t[..., None, :, :], frames)
+        lead = t.shape[:-2]
+        loc = st.local_stress_frames(t.reshape(-1, 1, 3, 3), frames)
+        return st.LocalStress(*(c.reshape(lead + (frames.shape[0],)) for c in loc))
+
     def wall_state(p_r: Array, drawdown: Array | float, *args: Array) -> Array:
         """Largest compaction excess at any wall [MPa] at reservoir pressure p_r [MPa]."""
         sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar, m_, a_ = args
         t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
                                path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
-        loc = st.local_stress(t[..., None, :, :], frames)
+        loc = rotated(t)
+        if rotation == "compiled":  # the same arithmetic, fused (mechanics._compaction_kernel)
+            return _wall_cap_compiled(loc, p_r - drawdown, p_r, a_, nu_, pstar,
+                                      m_ if with_cap else np.full(np.shape(m_), np.inf), theta)
         loc = st.LocalStress(*(c[..., None] for c in loc))  # (..., frames, 1)
         p_w = (p_r - drawdown)[..., None, None]
         w = st.wall_stresses(loc, theta=theta, wall_pressure=p_w,
@@ -446,7 +488,7 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
         sv, sh_max0, sh_min0, p0, g, g_big, az, nu_, pstar, _, _ = args
         t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
                                path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
-        loc = st.local_stress(t[..., None, :, :], frames)
+        loc = rotated(t)
         mean = compaction.wall_mean_effective(loc, reservoir_pressure=p_r[..., None],
                                               poisson_ratio=nu_[..., None])
         return np.asarray(mean.max(axis=-1) - pstar)
@@ -471,6 +513,24 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario) -> Compac
     return CompactionResult(np.asarray(far, dtype=float), wall, phys["pp"],
                             far_field_mean_stress=mean_far if with_cap else None,
                             wall_at_max_drawdown=at_max)
+
+
+def _wall_cap_compiled(loc: st.LocalStress, p_w: Array, p_r: Array, big_a: Array, nu: Array,
+                       p_star: Array, m: Array, theta: Array) -> Array:
+    """Largest wall compaction excess [MPa] over frames and wall angles by the compiled
+    kernel: loc (..., frames), the others (...) or broadcastable to it."""
+    from risk.mechanics._compaction_kernel import wall_cap_max
+
+    lead = loc.sxx.shape[:-1]
+    comps = [np.ascontiguousarray(c, dtype=float).reshape(-1, c.shape[-1]) for c in loc]
+
+    def flat(a: Array) -> Array:
+        return np.ascontiguousarray(np.broadcast_to(np.asarray(a, dtype=float), lead)).ravel()
+
+    out = np.empty(comps[0].shape[0])
+    wall_cap_max(*comps, *(flat(a) for a in (p_r, p_w, big_a, nu, p_star, m)),  # type: ignore[call-arg]
+                 np.cos(theta), np.sin(theta), np.cos(2.0 * theta), np.sin(2.0 * theta), out)
+    return out.reshape(lead)
 
 
 PROFILE_SAMPLES: Final = 256

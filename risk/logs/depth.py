@@ -1,8 +1,13 @@
 """Risk over depth: every mechanism at every log depth, sample and stage, vectorised.
 
 Depth is one more array axis: the rows handed to :func:`risk.limit_states.evaluate` are
-(depth x sample) flattened, in blocks of at most ``rows`` so that memory stays bounded; the
-well-level critical drawdown of each (depth, sample, stage) is kept in single precision.
+(depth x sample) flattened, in blocks of at most ``rows`` so that memory stays bounded (and a
+block's arrays stay in cache); the well-level critical drawdown of each (depth, sample, stage)
+is kept in single precision. The blocks run on a pool of ``workers`` threads (the numpy work
+and the compiled kernels release the GIL); each writes its own slices of the outputs with the
+same arithmetic whatever the block size or thread count, so the results are bit-identical for
+any. The rotation into the tunnel frames is the compiled closed form and the wall angles are
+not computed (``evaluate(..., rotation="compiled", angles=False)``).
 
 Sampling: the scenario's inputs are drawn exactly as :func:`risk.assessment.assess` draws them
 (same sampler, same seed), with ``ucs`` replaced by the transform's lognormal error factor
@@ -35,7 +40,10 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import os
+import threading
 from collections.abc import Callable, Mapping
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from typing import Final
 
@@ -64,7 +72,7 @@ DEPTH_VARYING: Final = ("ucs", "friction_angle")
 #: the sample chunk; its key 16 was chosen apart from the others so that no stream changed).
 LOG_STREAM: Final = STREAMS["logs"]
 CHUNK: Final = 4096  # samples per chunk, as in risk.assessment
-ROWS: Final = 32_768  # (depth x sample) rows per evaluate call
+ROWS: Final = 4096  # (depth x sample) rows per evaluate call: arrays of a block fit in L2
 
 
 @dataclass(frozen=True)
@@ -251,9 +259,47 @@ def _stresses(ls: LogScenario, cols: Mapping[str, Array], tvd: Array,
     return {"sv": sv, "shmin": shmin, "shmax": shmax, "pp": pp}
 
 
+def _run_blocks(fn: Callable[[int], None], starts: range, workers: int) -> None:
+    """fn(start) for every start, on ``workers`` threads (1: in this thread, in order).
+
+    Each worker runs the compiled kernels single-threaded (numba's thread count is per
+    thread), so that two workers use two cores without oversubscribing them; the numpy work
+    and the kernels release the GIL. Results do not depend on the worker count: each block
+    writes its own slices, with the same arithmetic in any order.
+    """
+    if workers <= 1 or len(starts) <= 1:
+        for d0 in starts:
+            fn(d0)
+        return
+    import numba
+
+    def task(d0: int) -> None:
+        if numba.get_num_threads() != 1:
+            numba.set_num_threads(1)
+        fn(d0)
+
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        futures = [pool.submit(task, d0) for d0 in starts]
+        try:
+            for fut in futures:
+                fut.result()  # re-raises a worker's exception here
+        except BaseException:
+            for fut in futures:  # the blocks not started are dropped
+                fut.cancel()
+            raise
+
+
+def default_workers() -> int:
+    """Threads of a log run: the cores this process may use (at least 1)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # pragma: no cover - platforms without sched_getaffinity
+        return max(1, os.cpu_count() or 1)
+
+
 def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | None = None,
-                 rows: int = ROWS, progress: Callable[[int, int], None] | None = None
-                 ) -> DepthResult:
+                 rows: int = ROWS, progress: Callable[[int, int], None] | None = None,
+                 workers: int | None = None) -> DepthResult:
     """Every mechanism over the log interval (see the module docstring).
 
     Parameters
@@ -264,7 +310,13 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     rows : int
         Largest (depth x sample) block of one evaluation (memory bound).
     progress : callable(done, total), optional
+    workers : int, optional
+        Threads over the depth blocks (default :func:`default_workers`). The results are the
+        same, bit for bit, for any ``rows`` and ``workers``.
     """
+    workers_ = default_workers() if workers is None else int(workers)
+    if workers_ < 1:
+        raise ValueError(f"workers must be >= 1, got {workers}")
     sc = ls.scenario
     n = sc.samples if samples is None else int(samples)
     seed_ = sc.seed if seed is None else int(seed)
@@ -342,7 +394,8 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
     c_wall = np.empty((nd, n), dtype=np.float32) if with_collapse else None
     dc: dict[str, NDArray[np.float32]] = {}
     ucs_all = np.empty((nd, n), dtype=np.float32)
-    prof_acc: dict[str, Array] = {}
+    prof_acc: dict[str, Array] = {key: np.empty(nd) for key in ("sv", "shmin", "shmax", "pp")}
+    lock = threading.Lock()
     datum = sc.well.depth
     stages = np.asarray(sc.reservoir_pressure)
     done = 0
@@ -359,7 +412,11 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                   if vary else np.zeros((nd, m, 0)))
         pp_datum = (cols["pp"] if sc.stress_given["pp"] == "absolute"
                     else cols["pp_gradient"] * datum)
-        for d0 in range(0, nd, block):
+
+        def run_block(d0: int, cols: dict[str, Array] = cols, scores: Array = scores,
+                      pp_datum: Array = pp_datum, done: int = done, m: int = m) -> None:
+            """Depths d0 .. d0 + block of this chunk of samples, into disjoint slices of the
+            outputs (so blocks may run in any order, on any thread)."""
             d1 = min(nd, d0 + block)
             nb = d1 - d0
             if "ucs" in vary_names:
@@ -374,7 +431,7 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                                                              elastic[1][d0:d1]))
             if done == 0:
                 for key, arr in fields.items():
-                    prof_acc.setdefault(key, np.empty(nd))[d0:d1] = np.median(arr, axis=1)
+                    prof_acc[key][d0:d1] = np.median(arr, axis=1)
             flat = {k: np.tile(v, nb) for k, v in cols.items()}
             flat["ucs"] = np.ascontiguousarray(ucs).ravel()
             if t_fric is not None:
@@ -386,15 +443,19 @@ def assess_depth(ls: LogScenario, *, samples: int | None = None, seed: int | Non
                 flat[key] = np.ascontiguousarray(arr).ravel()
             shift = (fields["pp"] - pp_datum[None, :]).ravel()
             p_r = stages[None, :] + shift[:, None]
-            out = evaluate(flat, sc_abs, reservoir_pressure=p_r)
+            out = evaluate(flat, sc_abs, reservoir_pressure=p_r, rotation="compiled",
+                           angles=False)
             if c_far is not None and c_wall is not None:
-                comp = evaluate_compaction(flat, sc_abs)
+                comp = evaluate_compaction(flat, sc_abs, rotation="compiled")
                 c_far[d0:d1, done:done + m] = (comp.far_field - shift).reshape(nb, m)
                 c_wall[d0:d1, done:done + m] = (comp.wall - shift).reshape(nb, m)
             for key, res in out.items():
-                if key not in dc:
-                    dc[key] = np.empty((nd, n, k_st), dtype=np.float32)
+                with lock:
+                    if key not in dc:
+                        dc[key] = np.empty((nd, n, k_st), dtype=np.float32)
                 dc[key][d0:d1, done:done + m] = res.well.reshape(nb, m, k_st)
+
+        _run_blocks(run_block, range(0, nd, block), workers_)
         done += m
         chunk_no += 1
         if progress is not None:

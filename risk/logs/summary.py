@@ -85,7 +85,8 @@ def summarize_depth(res: DepthResult) -> dict[str, Any]:
     out: dict[str, Any] = {
         "tool": "risk", "kind": "logs", "version": __version__, "title": sc.title,
         "scenario_sha256": sc.sha256, "seed": res.seed, "samples": res.samples,
-        "sampling": sc.sampling, "units": {"pressure": p_unit, "length": l_unit},
+        "sampling": sc.sampling, "criterion": sc.criterion,
+        "units": {"pressure": p_unit, "length": l_unit},
         "las": {"file": ls.logs.source, "well": ls.logs.well, "curves": dict(ls.logs.mnemonics),
                 "units_in_file": dict(ls.logs.units), "depths": int(res.depth.size),
                 "top": _num(float(res.depth[0]), 1 / l_scale, 3),

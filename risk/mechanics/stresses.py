@@ -21,6 +21,7 @@ __all__ = [
     "far_field_tensor",
     "rotate_to_frame",
     "local_stress",
+    "local_stress_frames",
     "poroelastic_coefficient",
     "uniaxial_strain_path",
     "depleted_stress",
@@ -158,6 +159,42 @@ def local_stress(tensor: ArrayLike, frame: ArrayLike) -> LocalStress:
     t = rotate_to_frame(tensor, frame)
     return LocalStress(t[..., 0, 0], t[..., 1, 1], t[..., 2, 2],
                        t[..., 0, 1], t[..., 0, 2], t[..., 1, 2])
+
+
+def local_stress_frames(tensor: ArrayLike, frames: ArrayLike) -> LocalStress:
+    """Components of every tensor in every frame [MPa], compiled in closed form.
+
+    The same quantities as ``local_stress(tensor[:, None], frames[None, :, None])`` (equal to
+    rounding: the sums are taken in another order), in one pass without the stacked 3 x 3
+    products of :func:`rotate_to_frame`, and the same for a case however many are computed
+    with it (:mod:`risk.mechanics._rotation_kernel`).
+
+    Parameters
+    ----------
+    tensor : array_like, shape (P, Q, 3, 3)
+        NED tensors [MPa] (for example samples x depletion stages).
+    frames : array_like, shape (M, 3, 3)
+        Rotation matrices, rows the frame's unit vectors in NED [1].
+
+    Returns
+    -------
+    LocalStress
+        Six C-contiguous arrays of shape (P, M, Q) [MPa].
+
+    References
+    ----------
+    Fjaer et al. (2008) sec. 4.4; Zoback (2007) Appendix.
+    """
+    from risk.mechanics._rotation_kernel import rotate_components
+
+    t = np.ascontiguousarray(tensor, dtype=float)
+    r = np.ascontiguousarray(frames, dtype=float)
+    if t.ndim != 4 or t.shape[2:] != (3, 3) or r.ndim != 3 or r.shape[1:] != (3, 3):
+        raise ValueError(f"expected tensors (P, Q, 3, 3) and frames (M, 3, 3), got "
+                         f"{t.shape} and {r.shape}")
+    out = np.empty((6, t.shape[0], r.shape[0], t.shape[1]))
+    rotate_components(t, r, out)
+    return LocalStress(*out)
 
 
 def poroelastic_coefficient(*, biot: ArrayLike, poisson_ratio: ArrayLike) -> Array:

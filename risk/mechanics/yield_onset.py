@@ -123,6 +123,7 @@ def critical_wall_pressure(
     criterion: str = "mohr-coulomb",
     n_theta: int = 24,
     compiled: bool = True,
+    angles: bool = True,
 ) -> OnsetResult:
     """Highest wall pressure in [0, p_r] at which the cavity wall reaches yield onset.
 
@@ -149,6 +150,9 @@ def critical_wall_pressure(
         Criteria other than Mohr-Coulomb: the compiled envelope iteration
         (:mod:`risk.mechanics._onset_kernel`, the default) or the numpy one (False: the
         reference path, kept for checks). Mohr-Coulomb always takes its own kernel.
+    angles : bool
+        Mohr-Coulomb: False leaves out the wall angle (``theta`` all nan, a read-only view),
+        for callers that keep only the pressure; the pressure is the same either way.
 
     Returns
     -------
@@ -181,7 +185,7 @@ def critical_wall_pressure(
         *strength)]
     shape = np.broadcast_shapes(*(a.shape for a in arrays))
     if criterion == "mohr-coulomb":
-        return _compiled_mohr_coulomb(arrays, shape)
+        return _compiled_mohr_coulomb(arrays, shape, angles=angles)
     if compiled:
         return _compiled_general(arrays, shape, criterion, n_theta)
     parts = np.broadcast_arrays(*arrays)
@@ -194,7 +198,8 @@ def critical_wall_pressure(
     return OnsetResult(pw_g.reshape(shape), theta.reshape(shape))
 
 
-def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> OnsetResult:
+def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...], *,
+                           angles: bool = True) -> OnsetResult:
     """Mohr-Coulomb by the compiled per-case kernel (:mod:`risk.mechanics._mc_kernel`).
 
     Inputs are read through broadcast views (no copies); shapes of more than three axes are
@@ -222,6 +227,8 @@ def _compiled_mohr_coulomb(arrays: list[Array], shape: tuple[int, ...]) -> Onset
     mohr_coulomb_onset(*views, p_k, cos2, sin2)  # type: ignore[call-arg]  # 12 + 3 arrays
     inverse = tuple(int(i) for i in np.argsort(order))
     p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
+    if not angles:
+        return OnsetResult(p_wc, np.broadcast_to(np.nan, shape))
     theta = np.arctan2(sin2, cos2, out=sin2)  # nan where never
     theta *= 0.5
     np.add(theta, np.pi, out=theta, where=theta < 0.0)

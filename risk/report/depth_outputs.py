@@ -30,7 +30,8 @@ def log_output_files(summary: dict[str, Any], info: dict[str, Any]) -> dict[str,
     buf = io.BytesIO()
     frame.to_parquet(buf, index=False, engine="pyarrow")
     png = depth_png(summary)
-    memo = log_memo_html(summary, png, info.get("run_date"))
+    memo = log_memo_html(summary, png, info.get("run_date"),
+                         scenario_file=info.get("scenario_file"))
     return {"results.json": dumps(summary), "run.json": dumps(info), "depth.csv": csv,
             "depth.parquet": buf.getvalue(), "figures/depth.png": png, "memo.html": memo,
             "memo.pdf": render_pdf(memo)}

@@ -1,17 +1,34 @@
-"""The memo of a log run: the interval section (the answer over depth, the perforation plan,
-the depth tracks, the transform and its uncertainty, assumptions and limitations) with the
-memo's safety cautions, as one self-contained HTML page (and its PDF)."""
+"""The memo of a log run: the main memo template (risk/report/templates/memo.html.j2) with the
+interval study as its first section (the answer over depth, the selective-perforation plan,
+pore collapse over depth, the depth tracks, a summary of the per-depth table, the strength
+from logs and its warnings), followed by the memo's own assumptions and limitations (the
+general ones and those of a log run), safety cautions and reproducibility blocks: one
+template, one set of those blocks for every memo."""
 
 from __future__ import annotations
 
-import base64
-import html
 from collections.abc import Mapping
 from typing import Any, Final
 
-from risk.report.memo.texts import CAUTIONS
+import numpy as np
 
-__all__ = ["log_memo_html", "LOG_ASSUMPTIONS"]
+from risk.report.memo.render import _data_uri, _environment, _png_width_in
+from risk.report.memo.sections import _reproducibility
+from risk.report.memo.texts import ASSUMPTIONS, CAUTIONS, SECTIONS
+
+__all__ = ["log_memo_html", "interval_context", "LOG_ASSUMPTIONS", "INTERVAL_HEADING",
+           "DEPTH_CAPTION", "WEAKEST_ROWS"]
+
+#: Heading of the interval study (section 1 of a log run's memo).
+INTERVAL_HEADING: Final = "The interval over depth"
+#: Caption of the depth-track figure.
+DEPTH_CAPTION: Final = (
+    "Depth tracks: input logs, UCS from the transform with its P10-P90 band, the sand-free "
+    "critical drawdown (P10-P50) per stage against the planned drawdown, P(sanding) per depth at "
+    "the planned drawdown (dashed: P(pore collapse) at each stage, when assessed), and the "
+    "selective-perforation plan.")
+#: Depths listed in the memo's summary of the per-depth table (the highest P(sanding)).
+WEAKEST_ROWS: Final = 10
 
 #: What every log run assumes (the memo states each).
 LOG_ASSUMPTIONS: Final[tuple[str, ...]] = (
@@ -43,6 +60,8 @@ LOG_ASSUMPTIONS: Final[tuple[str, ...]] = (
 )
 
 
+
+
 def _fmt(v: Any, unit: str = "", nd: int = 0) -> str:
     if v is None:
         return "never (n/a)"
@@ -50,88 +69,125 @@ def _fmt(v: Any, unit: str = "", nd: int = 0) -> str:
     return f"{text} {unit}".strip()
 
 
-def _li(items: list[str]) -> str:
-    return "<ul>" + "".join(f"<li>{html.escape(i)}</li>" for i in items) + "</ul>"
-
-
-def log_memo_html(s: Mapping[str, Any], figure_png: bytes, run_date: str | None = None) -> str:
-    """The HTML memo of a log-run summary (:func:`risk.logs.summary.summarize_depth`)."""
+def _weakest(s: Mapping[str, Any]) -> tuple[list[str], list[list[str]], str] | None:
+    """The summary of the per-depth table: the depths of highest P(sanding) at the planned
+    drawdown at the last stage (ties: the shallower first), with UCS and the sand-production
+    critical drawdown (P10) of every stage."""
+    table = s.get("table") or {}
+    k_last = len(s["stages"])
+    key = f"P(sanding) stage {k_last} [-]"
+    if key not in table:
+        return None
     pu, lu = s["units"]["pressure"], s["units"]["length"]
-    e = html.escape
-    parts = [f"<h1>{e(s['title'])}</h1>",
-             f"<p>Interval {_fmt(s['las']['top'], lu, 1)} to {_fmt(s['las']['base'], lu, 1)} "
-             f"from {e(s['las']['file'])} (well {e(s['las']['well'] or 'unnamed')}), "
-             f"{s['las']['depths']:,} depths, {s['samples']:,} samples per depth, seed "
-             f"{s['seed']}, {e(s['sampling'])} sampling"
-             + (f", run {e(run_date)}" if run_date else "") + ".</p>"]
+    p = np.array([np.nan if v is None else v for v in table[key]], dtype=float)
+    order = np.argsort(-np.nan_to_num(p, nan=-1.0), kind="stable")[:WEAKEST_ROWS]
+    cols = [(f"depth [{lu}]", f"depth [{lu}]", 1),
+            (f"UCS P50 [{pu}]", f"ucs P50 [{pu}]", 0)]
+    cols += [(f"sand D<sub>c</sub> P10, stage {k + 1} [{pu}]",
+              f"sand stage {k + 1} dc P10 [{pu}]", 0) for k in range(k_last)]
+    cols += [(f"P(sanding), stage {k + 1} [-]", f"P(sanding) stage {k + 1} [-]", 3)
+             for k in range(k_last)]
+    cols = [c for c in cols if c[1] in table]
+    rows = []
+    for i in order:
+        row = []
+        for _, name, nd in cols:
+            v = table[name][int(i)]
+            row.append("never" if v is None and "dc" in name else _fmt(v, "", nd))
+        if "perforated [-]" in table:
+            row.append("yes" if table["perforated [-]"][int(i)] else "no")
+        rows.append(row)
+    head = [c[0] for c in cols] + (["perforated"] if "perforated [-]" in table else [])
+    caption = (f"The {len(rows)} depths of highest P(sanding) at the planned drawdown at the "
+               f"last stage, of {len(p):,}; every depth, with every column "
+               f"({len(table)}), is in depth.csv and depth.parquet. D<sub>c</sub>: critical "
+               "drawdown of the first sand-production mechanism; P10: one sample in ten sands "
+               "at or below it.")
+    return head, rows, caption
+
+
+def interval_context(s: Mapping[str, Any]) -> dict[str, Any]:
+    """The interval study's part of the template context (texts with their units)."""
+    pu, lu = s["units"]["pressure"], s["units"]["length"]
+    las = s["las"]
+    lead = (f"Interval {_fmt(las['top'], lu, 1)} to {_fmt(las['base'], lu, 1)} from "
+            f"{las['file']} (well {las['well'] or 'unnamed'}), {las['depths']:,} depths, "
+            f"{s['samples']:,} samples per depth, seed {s['seed']}, {s['sampling']} sampling.")
+    out: dict[str, Any] = {"heading": INTERVAL_HEADING, "lead": lead,
+                           "planned": _fmt(s["planned_drawdown"], pu),
+                           "risk": f"{s['accepted_risk']:.2f}", "rows": [], "plan": "",
+                           "pore": [], "pore_plan": False, "weakest": [],
+                           "warnings": [str(w) for w in s.get("warnings") or ()]}
     plan = s.get("plan")
-    parts.append("<h2>The answer over depth</h2>")
-    if plan is None:
-        parts.append("<p>No sand-production mechanism is switched on (give twc or twc_ratio, "
-                     "or critical_plastic_strain): only first yield is shown.</p>")
-    else:
+    if plan is not None:
         iv = s["interval"]
-        rows = "".join(
-            f"<tr><td>{k + 1}</td><td>{_fmt(st, pu)}</td>"
-            f"<td>{iv['probability_whole'][k]:.3f}</td>"
-            f"<td>{iv['probability_if_independent'][k]:.3f}</td>"
-            f"<td>{iv['worst_depth_probability'][k]:.3f} at {_fmt(iv['worst_depth'][k], lu, 1)}"
-            f"</td><td>{_fmt(iv['sand_free_limit_whole'][k], pu)}</td>"
-            f"<td>{_fmt(plan['sand_free_limit'][k], pu)}</td></tr>"
-            for k, st in enumerate(s["stages"]))
-        parts.append(
-            f"<p>At the planned drawdown of {_fmt(s['planned_drawdown'], pu)} and an accepted "
-            f"risk of {s['accepted_risk']:.2f}:</p><table><tr><th>stage</th><th>reservoir "
-            f"pressure (datum)</th><th>P(whole interval sands)</th><th>same if depths were "
-            f"independent</th><th>worst single depth</th><th>sand-free limit, whole interval"
-            f"</th><th>sand-free limit, plan</th></tr>{rows}</table>")
+        out["rows"] = [
+            {"stage": k + 1, "p_r": _fmt(st, pu), "whole": f"{iv['probability_whole'][k]:.3f}",
+             "indep": f"{iv['probability_if_independent'][k]:.3f}",
+             "worst": (f"{iv['worst_depth_probability'][k]:.3f} at "
+                       f"{_fmt(iv['worst_depth'][k], lu, 1)}"),
+             "limit_whole": _fmt(iv["sand_free_limit_whole"][k], pu),
+             "limit_plan": _fmt(plan["sand_free_limit"][k], pu)}
+            for k, st in enumerate(s["stages"])]
         runs = ", ".join(f"{_fmt(a, lu, 1)} to {_fmt(b, lu, 1)}" for a, b in plan["runs"])
-        parts.append(
-            "<h2>Selective-perforation plan</h2>"
-            f"<p>Perforate {runs or 'nothing'}: {_fmt(plan['length'], lu, 1)} in all, "
+        out["plan"] = (
+            f"Perforate {runs or 'nothing'}: {_fmt(plan['length'], lu, 1)} in all, "
             f"P(interval sands) = {plan['probability']:.3f} at the planned drawdown. "
             f"{plan['weak_zones']} of {plan['zones']} zones of "
             f"{_fmt(plan['zone_thickness'], lu, 1)} are weak; {plan['excluded_zones']} are "
             f"excluded with the stand-off of {_fmt(plan['standoff'], lu, 1)}; minimum interval "
-            f"{_fmt(plan['min_interval'], lu, 1)}."
-            f" Rule: {e(plan['rule'])}."
+            f"{_fmt(plan['min_interval'], lu, 1)}. Rule: {plan['rule']}."
             + ("" if plan["optimal"] else " The search stopped at its node budget: this is the "
-               "best plan found, not a proven optimum.") + "</p>")
+               "best plan found, not a proven optimum."))
     pc = s.get("pore_collapse")
     if pc is not None:
-        rows = "".join(
-            f"<tr><td>{k + 1}</td><td>{_fmt(st, pu)}</td>"
-            f"<td>{pc['probability_whole'][k]:.3f}</td>"
-            f"<td>{pc['wall_probability_whole'][k]:.3f}</td>"
-            + (f"<td>{pc['probability_plan'][k]:.3f}</td>" if "probability_plan" in pc else "")
-            + "</tr>" for k, st in enumerate(s["stages"]))
-        parts.append(
-            "<h2>Pore collapse over depth</h2><p>Depletion, not drawdown, drives pore collapse;"
-            " the probability that some depth of the interval has collapsed by each stage "
-            "(joint samples over depth):</p><table><tr><th>stage</th><th>reservoir pressure "
-            "(datum)</th><th>P(far field, whole interval)</th><th>P(at a cavity wall, whole "
-            "interval)</th>" + ("<th>P(far field, plan)</th>" if "probability_plan" in pc
-                                else "") + f"</tr>{rows}</table>")
-    uri = "data:image/png;base64," + base64.b64encode(figure_png).decode("ascii")
-    parts.append(f"<h2>Depth tracks</h2><img src='{uri}' style='width:100%' alt='depth tracks'>"
-                 "<p class='caption'>Input logs, UCS from the transform with its P10-P90 band, "
-                 "the sand-free critical drawdown (P10-P50) per stage against the planned "
-                 "drawdown, P(sanding) per depth at the planned drawdown (dashed: P(pore collapse) "
-                 "at each stage, when assessed), and the plan.</p>")
+        out["pore_plan"] = "probability_plan" in pc
+        out["pore"] = [
+            {"stage": k + 1, "p_r": _fmt(st, pu), "far": f"{pc['probability_whole'][k]:.3f}",
+             "wall": f"{pc['wall_probability_whole'][k]:.3f}",
+             "plan": (f"{pc['probability_plan'][k]:.3f}" if "probability_plan" in pc else "")}
+            for k, st in enumerate(s["stages"])]
+    weakest = _weakest(s)
+    if weakest is not None:
+        out["weakest_head"], out["weakest"], out["weakest_caption"] = weakest
     tr = s["transform"]
     corr = ("one error for the whole interval" if tr["correlation_length"] is None
             else f"correlation length {_fmt(tr['correlation_length'], lu, 1)}")
-    parts.append(f"<h2>Strength from logs</h2><p>UCS from {e(tr['source'])} "
-                 f"({e(tr['lithology'])}), lognormal error with cov {tr['cov']:.2f}, {corr}."
-                 + (f" Core calibration: {e(tr['core'])}." if tr.get("core") else "")
-                 + "</p>")
-    if s["warnings"]:
-        parts.append("<h2>Warnings and data notes</h2>" + _li(list(s["warnings"])))
-    parts.append("<h2>Assumptions and limitations</h2>" + _li(list(LOG_ASSUMPTIONS)))
-    parts.append("<h2>Safety cautions</h2>" + _li(list(CAUTIONS)))
-    body = "\n".join(parts)
-    css = ("body{font-family:'DejaVu Sans',sans-serif;font-size:10pt;max-width:48em;margin:2em "
-           "auto}table{border-collapse:collapse}td,th{border:1px solid #999;padding:2px 5px;"
-           "font-size:9pt}.caption{font-size:8.5pt;color:#333}")
-    return (f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>"
-            f"{e(s['title'])}</title><style>{css}</style></head><body>{body}</body></html>\n")
+    out["strength"] = (f"UCS from {tr['source']} ({tr['lithology']}), lognormal error with cov "
+                       f"{tr['cov']:.2f}, {corr}."
+                       + (f" Core calibration: {tr['core']}." if tr.get("core") else ""))
+    return out
+
+
+def log_memo_html(s: Mapping[str, Any], figure_png: bytes, run_date: str | None = None, *,
+                  scenario_file: str | None = None) -> str:
+    """The HTML memo of a log-run summary (:func:`risk.logs.summary.summarize_depth`): the
+    main memo template with the interval study as its first section."""
+    from markupsafe import Markup
+
+    study = interval_context(s)
+    # header cells and the caption carry the memo's own markup (D<sub>c</sub>)
+    study["weakest_head"] = [Markup(h) for h in study.get("weakest_head", [])]
+    if "weakest_caption" in study:
+        study["weakest_caption"] = Markup(study["weakest_caption"])
+    figures = {"depth": {"number": 1, "uri": _data_uri(figure_png), "caption": DEPTH_CAPTION,
+                         "name": "depth", "width": _png_width_in(figure_png)}}
+    prov = {**s, "run_date": run_date, "scenario_file": scenario_file}
+    repro = [(k, v if k != "units" else v.strip().strip("()")) for k, v
+             in _reproducibility(prov) if v != "–"]
+    repro.insert(4, ("LAS file", f"{s['las']['file']} ({s['las']['depths']:,} depths)"))
+    context = {
+        "interval": study,
+        "title": str(s.get("title") or "Untitled scenario"),
+        "unit": s["units"]["pressure"],
+        "samples": f"{s['las']['depths']:,} depths \u00d7 {int(s['samples']):,}",
+        "deterministic": False,
+        "run_date": run_date,
+        "sections": SECTIONS,
+        "figures": figures,
+        "assumptions": [*ASSUMPTIONS, *LOG_ASSUMPTIONS],
+        "input_warnings": [],
+        "cautions": CAUTIONS,
+        "reproducibility": repro,
+    }
+    return _environment().get_template("memo.html.j2").render(context)
