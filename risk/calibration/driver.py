@@ -16,7 +16,9 @@ Modelling choices (the memo states them):
   (:mod:`risk.calibration.likelihood`).
 - Reweighting when the Kish effective sample size reaches ``min_ess``; otherwise (or when
   asked) MCMC over the normal scores of ``theta`` with the same likelihood, ``omega``
-  integrated by a fixed set of :data:`INNER` common random rows per observation.
+  integrated by a fixed set of :data:`INNER` common random rows per observation; the walkers
+  (:func:`~risk.calibration.posterior.walker_count`) start at distinct rows drawn from the
+  reweighted posterior, differential-evolution moves, a quarter of the steps burnt in.
 
 docs/derivations.md, sec. 14 lists these choices with the figures measured on them.
 """
@@ -24,7 +26,7 @@ docs/derivations.md, sec. 14 lists these choices with the figures measured on th
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any, Final
 
@@ -41,15 +43,23 @@ from risk.calibration.likelihood import (
     standardized_distance,
 )
 from risk.calibration.posterior import (
+    BURN_FRACTION,
     McmcResult,
+    initial_walkers,
     kish_ess,
     normalized_weights,
     run_mcmc,
+    walker_count,
     weighted_curve,
     weighted_quantile,
     weighted_quantiles,
 )
-from risk.calibration.voi import limit_today, simulate_measurement, value_of_information
+from risk.calibration.voi import (
+    bootstrap_multipliers,
+    limit_today,
+    simulate_measurement,
+    value_of_information,
+)
 from risk.errors import ScenarioError
 from risk.uncertainty import rng_stream
 
@@ -62,6 +72,9 @@ Array = NDArray[np.float64]
 INNER: Final = 32
 #: Floor of the MCMC log-likelihood (positions no inner row can explain) [-].
 LOG_FLOOR: Final = -1e6
+#: Index of the bootstrap multipliers' substream of the "voi" stream (the measurements' own
+#: substreams are numbered from 0).
+BOOT_STREAM: Final = 10_000
 #: Rows evaluated under the MCMC posterior for the posterior risk.
 POSTERIOR_ROWS: Final = 8192
 GRID_POINTS: Final = 51
@@ -231,9 +244,13 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
     return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points))
 
 
-def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array],
-          seed: int) -> tuple[McmcResult, Array]:
-    """Posterior draws of the normal scores of theta (MCMC), as input values (m, d)."""
+_Fn = Callable[[Array], Array]
+
+
+def _target(history: History, joint: Any, cols: Mapping[str, Array], seed: int
+            ) -> tuple[_Fn, _Fn, _Fn]:
+    """The MCMC target over the normal scores ``z`` of theta: ``log_prob(z)`` (k,) [-], the map
+    ``to_x(z)`` to input values and its inverse ``to_z(x)``, each on (k, d) arrays."""
     from risk.limit_states import evaluate
 
     spec = history.calibration
@@ -254,6 +271,10 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
         u = np.clip(sc.ndtr(z), 1e-300, 1 - 1e-16)
         return np.column_stack([m.ppf(u[:, j]) for j, m in enumerate(marg)])
 
+    def to_z(x: Array) -> Array:
+        u = np.column_stack([m.cdf(x[:, j]) for j, m in enumerate(marg)])
+        return np.asarray(sc.ndtri(np.clip(u, 1e-12, 1 - 1e-12)))
+
     def log_prob(z: Array) -> Array:
         z = np.atleast_2d(z)
         b = z.shape[0]
@@ -273,10 +294,27 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
         # inner row agrees; the prior still pulls such walkers back
         return np.asarray(prior + np.maximum(lp, LOG_FLOOR))
 
+    return log_prob, to_x, to_z
+
+
+def _mcmc(history: History, joint: Any, cols: Mapping[str, Array], w_re: Array,
+          seed: int) -> tuple[McmcResult, Array]:
+    """Posterior draws of the normal scores of theta (MCMC), as input values (m, d)."""
+    spec = history.calibration
+    assert spec is not None
+    theta = spec.inputs
+    log_prob, to_x, to_z = _target(history, joint, cols, seed)
     rng = rng_stream(seed, "mcmc")
-    walkers = max(16, 4 * len(theta))
-    start = rng.multivariate_normal(np.zeros(len(theta)), corr, size=walkers)
-    res = run_mcmc(log_prob, start, steps=spec.mcmc_steps, seed=[seed, 18, 1])
+    x_rows = np.column_stack([np.asarray(cols[n], dtype=float) for n in theta])
+    walkers = walker_count(len(theta))
+    if x_rows.shape[0] >= walkers:
+        start = initial_walkers(to_z(x_rows), w_re, walkers=walkers, rng=rng)
+    else:  # fewer stored rows than walkers: start from the prior
+        idx = [joint.names.index(n) for n in theta]
+        start = rng.multivariate_normal(np.zeros(len(theta)),
+                                        joint.normal_corr[np.ix_(idx, idx)], size=walkers)
+    res = run_mcmc(log_prob, start, steps=spec.mcmc_steps, seed=[seed, 18, 1],
+                   burn_in=spec.mcmc_steps // BURN_FRACTION)
     pick = rng.choice(res.draws.shape[0], size=min(POSTERIOR_ROWS,
                                                    next(iter(cols.values())).shape[0]))
     return res, to_x(res.draws[pick])
@@ -326,7 +364,7 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     equal = np.full(m, 1.0 / m)
     mcmc_info = None
     if use_mcmc:
-        res, x_post = _mcmc(scenario, history, joint, cols, seed)
+        res, x_post = _mcmc(history, joint, cols, w_re, seed)
         r = x_post.shape[0]
         post_cols = {n: np.asarray(v)[:r].copy() for n, v in cols.items()}
         for j, n in enumerate(theta):
@@ -411,8 +449,11 @@ def value_of_information_table(scenario: Any, cols: Mapping[str, Array], sand: A
     if history is not None:
         wanted += list(history.measurements)
     caps = np.asarray(scenario.reservoir_pressure)
+    # one set of bootstrap multipliers for today's limit and every measurement: the paired
+    # error of each gain (risk.calibration.voi)
+    boot = bootstrap_multipliers(sand.shape[0], rng=rng_stream(seed, "voi", BOOT_STREAM))
     today = limit_today(output=sand, accepted_risk=scenario.accepted_risk, cap=caps,
-                        weights=weights)
+                        weights=weights, boot=boot)
     out = []
     for j, meas in enumerate(wanted):
         rng = rng_stream(seed, "voi", j)
@@ -421,7 +462,7 @@ def value_of_information_table(scenario: Any, cols: Mapping[str, Array], sand: A
                                       rng=rng)
         ests = value_of_information(signal=signal, output=sand,
                                     accepted_risk=scenario.accepted_risk,
-                                    cap=caps, weights=weights, today=today)
+                                    cap=caps, weights=weights, boot=boot, today=today)
         assert isinstance(ests, list)
         vals = [e.value for e in ests]
         errs = [e.error for e in ests]
