@@ -200,7 +200,7 @@ GROUPS: Final[dict[str, tuple[str, ...]]] = {
                          "depletion_path", "depletion_path_shmax"),
     "rock strength": ("ucs", "friction_angle", "tensile_strength", "twc", "twc_ratio",
                       "twc_factor", "hb_mi", "gsi", "critical_plastic_strain",
-                      "pore_collapse_pressure"),
+                      "pore_collapse_pressure", "strength_multiplier"),
 }
 
 

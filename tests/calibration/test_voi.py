@@ -45,7 +45,7 @@ def test_reported_error_is_the_spread_over_independent_runs() -> None:
     # 20 independent runs: the standard deviation of the estimates over the mean reported
     # error; with 19 degrees of freedom the ratio of a sample sd to the true one lies in
     # [0.69, 1.31] with probability 0.95 (chi-square, derived: sqrt(chi2(0.025/0.975, 19)/19))
-    # widened to [0.6, 1.4] for the error's own bootstrap noise (200 replicates: ~5%)
+    # widened to [0.6, 1.4] for the error's own bootstrap noise (64 replicates: ~9%)
     vals, errs = [], []
     for seed in range(20):
         rng = np.random.default_rng(300 + seed)
