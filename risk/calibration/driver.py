@@ -25,6 +25,7 @@ docs/derivations.md, sec. 14 lists these choices with the figures measured on th
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -97,6 +98,16 @@ class PosteriorRisk:
     grid: Array
     #: P(sand) at each planned operating point that lies on a stage (p_r, p_w, probability)
     points: tuple[tuple[float, float, float], ...] = ()
+    #: per mechanism, per shot direction, per stage: the capped drawdown limit
+    per_direction: Mapping[str, tuple[tuple[float, ...], ...]] = field(default_factory=dict)
+    #: the life-of-well shot set (perforated wells): (phasing [deg] or None for the set as
+    #: given, orientation [deg], direction indices, its sand-free limit per stage)
+    phasing: tuple[float | None, float, tuple[int, ...], tuple[float, ...]] | None = None
+    #: completion options: (name, sand-free limit per stage)
+    options: tuple[tuple[str, tuple[float, ...]], ...] = ()
+    #: pore collapse: far-field critical reservoir pressure at which 10%, 50%, 90% of the
+    #: weight has collapsed [MPa], and the collapsed share per stage [-]
+    pore_collapse: Mapping[str, Any] | None = None
 
 
 @dataclass(frozen=True)
@@ -212,8 +223,38 @@ def _input_summary(x: Array, w: Array) -> dict[str, float]:
     return {"mean": mean, "sd": sd, "p10": float(q[0]), "p50": float(q[1]), "p90": float(q[2])}
 
 
-def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> PosteriorRisk:
+def _sand_free(scenario: Any, by_direction: Mapping[str, Array], w: Array
+               ) -> tuple[float, ...] | None:
+    keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
+    if not keys:
+        return None
+    sand = decision.sand_drawdown(by_direction, keys)
+    return tuple(min(weighted_quantile(sand[:, k], w, scenario.accepted_risk), p_r)
+                 for k, p_r in enumerate(scenario.reservoir_pressure))
+
+
+def _pore(scenario: Any, far_field: Array | None, w: Array) -> dict[str, Any] | None:
+    """Weighted pore-collapse summary: ``p10`` is the reservoir pressure at or above which
+    10% of the weight has collapsed (the 0.1 quantile of the negated critical pressure), as
+    in the run's own pore-collapse results; ``probability`` the collapsed share per stage."""
+    if far_field is None:
+        return None
+    f = np.asarray(far_field, dtype=float)
+    q = -weighted_quantiles(-f, w, (0.1, 0.5, 0.9))  # the run's own convention (result.py)
+    total = float(np.sum(w))
+    return {"p10": float(q[0]), "p50": float(q[1]), "p90": float(q[2]),
+            "probability": tuple(float(np.sum(w * (f >= p_r))) / total
+                                 for p_r in scenario.reservoir_pressure)}
+
+
+def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array,
+          options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = (),
+          far_field: Array | None = None) -> PosteriorRisk:
+    """Curves, limits and envelopes per mechanism, per shot direction, the sand-free limit,
+    the life-of-well shot set, the completion options and pore collapse, on samples of
+    weights ``w`` (equal: the prior; importance weights or MCMC rows: the posterior)."""
     grid = np.linspace(0.0, scenario.max_drawdown, GRID_POINTS)
+    per_dir: dict[str, tuple[tuple[float, ...], ...]] = {}
     curves: dict[str, tuple[tuple[Array, Array, Array], ...]] = {}
     limits: dict[str, tuple[float, ...]] = {}
     env: dict[str, tuple[tuple[float, ...], ...]] = {}
@@ -226,6 +267,10 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
             ls.append(min(float(qs[0]), p_r))
             es.append(tuple(float(p_r - v) for v in qs[1:]))
         curves[key], limits[key], env[key] = tuple(cs), tuple(ls), tuple(es)
+        per_dir[key] = tuple(
+            tuple(min(weighted_quantile(arr[:, j, k], w, scenario.accepted_risk), p_r)
+                  for k, p_r in enumerate(scenario.reservoir_pressure))
+            for j in range(arr.shape[1]))
     keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
     sand_free = p0 = None
     points: list[tuple[float, float, float]] = []
@@ -241,7 +286,20 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
             if at:
                 prob = float(np.sum(w * (sand[:, at[0]] <= p_r - p_w)) / np.sum(w))
                 points.append((p_r, p_w, prob))
-    return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points))
+    phasing = None
+    well = scenario.well
+    if keys and well.completion == "perforated":
+        choice = decision.choose_phasing(
+            by_direction, [math.degrees(x) for x in well.shot_angles],
+            scenario.reservoir_pressure, scenario.accepted_risk, scenario.operating_points,
+            phasings=scenario.phasings, weights=w)
+        if choice is not None:
+            c = choice.chosen
+            phasing = (c.phasing, c.orientation, c.directions, choice.limits)
+    opts = tuple((name, lim) for name, _, dirs in options
+                 if (lim := _sand_free(scenario, dirs, w)) is not None)
+    return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points), per_dir,
+                         phasing, opts, _pore(scenario, far_field, w))
 
 
 _Fn = Callable[[Array], Array]
@@ -321,7 +379,9 @@ def _mcmc(history: History, joint: Any, cols: Mapping[str, Array], w_re: Array,
 
 
 def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
-              by_direction: Mapping[str, Array], seed: int) -> Calibration:
+              by_direction: Mapping[str, Array], seed: int,
+              options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = (),
+              far_field: Array | None = None) -> Calibration:
     """Posterior of the calibrated inputs and the posterior risk, on the run's stored samples.
 
     Parameters
@@ -331,6 +391,8 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     cols : every input's column for the stored samples [internal units]
     by_direction : per mechanism, critical drawdown of the stored samples (m, dirs, stages)
     seed : the run's seed
+    options : per completion option (name, Well, its ``by_direction`` on the same samples)
+    far_field : pore collapse's far-field critical reservoir pressure of the samples [MPa]
 
     Raises
     ------
@@ -371,6 +433,16 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
             post_cols[n] = x_post[:, j]
         out = evaluate(post_cols, scenario)
         post_dir = {k: v.by_direction for k, v in out.items()}
+        post_options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = tuple(
+            (name, well, {k: v.by_direction for k, v in evaluate(
+                post_cols, dataclasses.replace(scenario, well=well),
+                only=set(decision.SAND_PRODUCTION)).items()})
+            for name, well, _ in options)
+        post_far = None
+        if far_field is not None:
+            from risk.limit_states import evaluate_compaction
+
+            post_far = evaluate_compaction(post_cols, scenario).far_field
         w_post = np.full(r, 1.0 / r)
         post_preds = _predicted(obs_list, post_cols, theta, uncertain, seed)
         mcmc_info = {"walkers": res.walkers, "steps": res.steps, "burn_in": res.burn_in,
@@ -382,8 +454,9 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
                      * (1 + len(obs_list)), "draws": int(res.draws.shape[0])}
     else:
         post_cols, post_dir, w_post, post_preds = dict(cols), dict(by_direction), w_re, preds
-    prior_risk = _risk(scenario, by_direction, equal)
-    post_risk = _risk(scenario, post_dir, w_post)
+        post_options, post_far = options, far_field
+    prior_risk = _risk(scenario, by_direction, equal, options, far_field)
+    post_risk = _risk(scenario, post_dir, w_post, post_options, post_far)
     rows = []
     warnings = []
     if not use_mcmc and ess < spec.min_ess:

@@ -90,6 +90,7 @@ def calibration_context(results: Mapping[str, Any]) -> dict[str, Any] | None:
             how = ("importance reweighting of the run's own samples (effective sample size "
                    f"{_num(cal['effective_sample_size'], '', 3)} of {cal['posterior_rows']:,})")
         out.update(observations=obs, inputs=inputs, limits=limits, points=points, how=how,
+                   coverage=_coverage(cal["prior"], cal["posterior"], unit),
                    model_error=_num(cal["model_error_log_sd"], "", 3),
                    warnings=list(cal["warnings"]), note=cal["note"])
     if voi:
@@ -113,6 +114,62 @@ def calibration_context(results: Mapping[str, Any]) -> dict[str, Any] | None:
 #: A gain counts as one when it exceeds this many Monte-Carlo standard errors (a one-sided
 #: test at about 2.3%: common practice for a Monte-Carlo estimate).
 _SIGNIFICANT: float = 2.0
+
+
+def _shot_set(ph: Mapping[str, Any]) -> str:
+    angles = ", ".join(f"{float(a):g}°" for a in ph.get("shot_angles") or [])
+    if ph.get("phasing") is None:
+        return f"the shots as given ({angles})"
+    return f"{float(ph['phasing']):g}° phasing ({angles})"
+
+
+def _coverage(prior: Mapping[str, Any], post: Mapping[str, Any], unit: str
+              ) -> list[dict[str, str]]:
+    """Rows (what, prior, posterior) for what else the history moves: the limit per shot
+    direction at the first stage, the life-of-well shot set, the completion options and pore
+    collapse."""
+    from risk.limit_states import MECHANISMS
+
+    rows: list[dict[str, str]] = []
+    from risk.decision import SAND_PRODUCTION
+
+    for key, dirs in (post.get("per_direction") or {}).items():
+        before = (prior.get("per_direction") or {}).get(key) or []
+        if len(dirs) < 2 or key not in SAND_PRODUCTION:
+            continue
+        for a, b in zip(before, dirs, strict=True):
+            rows.append({"what": f"{MECHANISMS.get(key, key)}, shot at "
+                                 f"{float(b['shot_angle']):g}°, limit at "
+                                 f"{_num(b['limits'][0]['reservoir_pressure'], unit)}",
+                         "prior": _num(a["limits"][0]["drawdown_limit"], unit),
+                         "posterior": _num(b["limits"][0]["drawdown_limit"], unit)})
+    if post.get("phasing") and prior.get("phasing"):
+        a, b = prior["phasing"], post["phasing"]
+        rows.append({"what": "life-of-well shot set", "prior": _shot_set(a),
+                     "posterior": _shot_set(b)})
+        for x, y in zip(a["sand_free"], b["sand_free"], strict=True):
+            rows.append({"what": "its sand-free limit at "
+                                 f"{_num(y['reservoir_pressure'], unit)}",
+                         "prior": _num(x["drawdown_limit"], unit),
+                         "posterior": _num(y["drawdown_limit"], unit)})
+    for a, b in zip(prior.get("options") or [], post.get("options") or [], strict=True):
+        for x, y in zip(a["sand_free"], b["sand_free"], strict=True):
+            rows.append({"what": f"option {b['name']}: sand-free limit at "
+                                 f"{_num(y['reservoir_pressure'], unit)}",
+                         "prior": _num(x["drawdown_limit"], unit),
+                         "posterior": _num(y["drawdown_limit"], unit)})
+    if post.get("pore_collapse") and prior.get("pore_collapse"):
+        a, b = prior["pore_collapse"], post["pore_collapse"]
+        rows.append({"what": "pore collapse: reservoir pressure at which 10% have collapsed "
+                             "(P10)",
+                     "prior": _num(a["critical_reservoir_pressure"]["p10"], unit),
+                     "posterior": _num(b["critical_reservoir_pressure"]["p10"], unit)})
+        for x, y in zip(a["stages"], b["stages"], strict=True):
+            rows.append({"what": "pore collapse: probability at "
+                                 f"{_num(y['reservoir_pressure'], unit)}",
+                         "prior": _num(x["probability"], "", 2),
+                         "posterior": _num(y["probability"], "", 2)})
+    return rows
 
 
 def _voi_name(row: Mapping[str, Any]) -> str:
