@@ -165,6 +165,8 @@ def voi_block(a: Any) -> dict[str, Any] | None:
     return {"definition": "expected gain of the sand-free drawdown limit at the accepted risk "
                           "once the quantity is measured (preposterior expectation of the "
                           "limit minus today's limit), from the run's own samples "
-                          "(given-data binned estimator, Bayesian-bootstrap error)",
+                          "(given-data binned estimator; paired Bayesian-bootstrap error: "
+                          "today's limit and the expected limit from the same reweighted "
+                          "samples)",
             "under": "posterior" if a.calibration is not None else "prior",
             "rows": out}
