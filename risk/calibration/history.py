@@ -38,7 +38,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Final
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
-from risk.errors import ScenarioError, did_you_mean
+from risk.errors import ScenarioError, did_you_mean, toml_key
 from risk.uncertainty import Marginal, is_plain_number, parse_input, text_problem
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -161,7 +161,7 @@ def _text(p: _Problems, t: Mapping[str, Any], prefix: str, key: str, default: st
 def _unknown(p: _Problems, t: Mapping[str, Any], prefix: str, allowed: tuple[str, ...]) -> None:
     for k in t:
         if k not in allowed:
-            p.add(f"{prefix}.{k}", t[k], f"a known key: {', '.join(allowed)}"
+            p.add(f"{prefix}.{toml_key(k)}", t[k], f"a known key: {', '.join(allowed)}"
                   + did_you_mean(str(k), allowed), found_text=f"unknown key {k!r}")
 
 

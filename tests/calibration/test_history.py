@@ -85,6 +85,17 @@ def test_history_refused_without_sand_mechanism() -> None:
     assert [p.key for p in problems] == ["history"]
 
 
+def test_unknown_key_with_a_control_character_is_named_visibly() -> None:
+    # the error contract of risk.errors (every problem line starts with its key, and a key
+    # never carries a control character): an unknown [calibration] key "\x1f" is named as
+    # TOML would need it written (found by tests/test_fuzz_scenario.py)
+    doc = _doc()
+    doc["calibration"]["\x1f"] = 1
+    (p,) = [q for q in _problems(doc) if q.key.startswith("calibration.")]
+    assert p.key == 'calibration."\\u001f"'
+    assert str(p).startswith(p.key)
+
+
 @pytest.mark.slow
 def test_example_calibrates_and_is_reproducible() -> None:
     from risk.assessment import assess
