@@ -200,7 +200,7 @@ GROUPS: Final[dict[str, tuple[str, ...]]] = {
                          "depletion_path", "depletion_path_shmax"),
     "rock strength": ("ucs", "friction_angle", "tensile_strength", "twc", "twc_ratio",
                       "twc_factor", "hb_mi", "gsi", "critical_plastic_strain",
-                      "pore_collapse_pressure"),
+                      "pore_collapse_pressure", "strength_multiplier"),
 }
 
 
@@ -313,16 +313,21 @@ def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
 
 
 def _calibration(scenario: Scenario, joint: Any, cols: Mapping[str, Array],
-                 by_direction: Mapping[str, NDArray[Any]], seed_: int
-                 ) -> tuple[Any, tuple[Any, ...]]:
+                 by_direction: Mapping[str, NDArray[Any]], seed_: int,
+                 options: tuple[tuple[str, Any, Mapping[str, NDArray[Any]]], ...] = (),
+                 far_field: NDArray[Any] | None = None) -> tuple[Any, tuple[Any, ...]]:
     """Calibration to the field history (when given) and the value of information, on the
-    stored samples (risk.calibration)."""
+    stored samples (risk.calibration); the options' results and pore collapse's far-field
+    critical pressures of the same samples are reweighted too."""
     from risk.calibration import calibrate, value_of_information_table
 
     dirs = {k: np.asarray(v, dtype=np.float64) for k, v in by_direction.items()}
     cal = None
     if scenario.history.calibration is not None:
-        cal = calibrate(scenario, joint, cols, dirs, seed_)
+        opts = tuple((name, well, {k: np.asarray(v, dtype=np.float64) for k, v in d.items()})
+                     for name, well, d in options)
+        far = None if far_field is None else np.asarray(far_field, dtype=np.float64)
+        cal = calibrate(scenario, joint, cols, dirs, seed_, opts, far)
     keys = tuple(k for k in decision.SAND_PRODUCTION if k in dirs)
     if not keys:
         return cal, ()
@@ -561,9 +566,11 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     if scenario.history is not None and joint.d > 0:
         if step is not None:
             step("calibration to the field history")
-        calibration, voi = _calibration(scenario, joint, col_head,
-                                        {k: r.by_direction[:head] for k, r in mechanisms.items()},
-                                        seed_)
+        calibration, voi = _calibration(
+            scenario, joint, col_head, {k: r.by_direction[:head] for k, r in mechanisms.items()},
+            seed_, tuple((o.name, o.well, {k: v[:head] for k, v in dc.items()})
+                         for o, dc in zip(options, option_dc, strict=True)),
+            None if comp_all is None else comp_all.far_field[:head])
     import scipy
 
     return Assessment(

@@ -287,13 +287,21 @@ def phasing_candidates(angles_deg: Sequence[float],
 
 def _score(by_direction: Mapping[str, Array], keys: Sequence[str], cand: Candidate,
            stages: Sequence[float], risk: float,
-           points: Sequence[tuple[int, float]]) -> tuple[tuple[float, ...], tuple[float, ...]]:
+           points: Sequence[tuple[int, float]], weights: Array | None = None
+           ) -> tuple[tuple[float, ...], tuple[float, ...]]:
     sand = sand_drawdown(by_direction, keys, cand.directions)
-    limits = tuple(_limit(sand[:, k], risk, p_r)[0] for k, p_r in enumerate(stages))
-    if points:
-        p_mean = float(np.mean([np.mean(sand[:, k] <= d) for k, d in points]))
-    else:
-        p_mean = 0.0
+    if weights is None:
+        limits = tuple(_limit(sand[:, k], risk, p_r)[0] for k, p_r in enumerate(stages))
+        p_mean = (float(np.mean([np.mean(sand[:, k] <= d) for k, d in points])) if points
+                  else 0.0)
+    else:  # weighted samples (a calibrated posterior): the weighted inverted CDF
+        from risk.calibration.posterior import weighted_quantile
+
+        w = np.asarray(weights, dtype=float) / float(np.sum(weights))
+        limits = tuple(min(weighted_quantile(sand[:, k], w, risk), p_r)
+                       for k, p_r in enumerate(stages))
+        p_mean = (float(np.mean([np.sum(w * (sand[:, k] <= d)) for k, d in points]))
+                  if points else 0.0)
     key = (_key(min(limits)), _key(-p_mean), _key(sum(limits)), float(len(cand.directions)))
     return key, limits
 
@@ -301,9 +309,11 @@ def _score(by_direction: Mapping[str, Array], keys: Sequence[str], cand: Candida
 def choose_phasing(by_direction: Mapping[str, Array], angles_deg: Sequence[float],
                    stages: Sequence[float], accepted_risk: float,
                    operating_points: Sequence[tuple[float, float]] = (),
-                   phasings: Sequence[float] = COMMON_PHASINGS) -> PhasingChoice | None:
+                   phasings: Sequence[float] = COMMON_PHASINGS, weights: Array | None = None
+                   ) -> PhasingChoice | None:
     """The life-of-well shot set by the rule of the module docstring; None without a
-    sand-production mechanism or with fewer than two shot directions."""
+    sand-production mechanism or with fewer than two shot directions. ``weights`` (n,):
+    sample weights (a calibrated posterior, :mod:`risk.calibration`); equal when omitted."""
     keys = tuple(k for k in SAND_PRODUCTION if k in by_direction)
     if not keys or len(angles_deg) < 2:
         return None
@@ -313,7 +323,7 @@ def choose_phasing(by_direction: Mapping[str, Array], angles_deg: Sequence[float
         at = _stage_index(stages, p_r)
         if at is not None:
             points.append((at, p_r - p_w))
-    scored = [(_score(by_direction, keys, c, stages, accepted_risk, points), i, c)
+    scored = [(_score(by_direction, keys, c, stages, accepted_risk, points, weights), i, c)
               for i, c in enumerate(cands)]
     # best first: larger keys, then the earlier candidate
     scored.sort(key=lambda t: (tuple(-v for v in t[0][0]), t[1]))

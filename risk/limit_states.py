@@ -154,6 +154,25 @@ def water_factor(cols: Mapping[str, Array], scenario: Scenario) -> Array | None:
     return np.asarray(1.0 - (1.0 - r) * np.asarray(sw, dtype=float)[None, None, :])
 
 
+def strength_scaled(cols: Mapping[str, Array]) -> Mapping[str, Array]:
+    """The columns with UCS multiplied by the strength multiplier (``strength_multiplier``;
+    absent: 1, the columns unchanged) [internal units].
+
+    The multiplier is a model-calibration input: a field-wide factor between the strength the
+    samples were tested at and the strength the model should use, the "log strength
+    multiplier" a field's sanding history calibrates (docs/derivations.md, sec. 14). It
+    scales UCS and so everything the model derives from UCS: the Mohr-Coulomb cohesion, the
+    Hoek-Brown sigma_ci and a TWC given as ``twc_ratio`` x UCS. A TWC given directly, the
+    tensile strength and the critical plastic strain are measurements of their own and stay.
+    """
+    if "strength_multiplier" not in cols:
+        return cols
+    out = dict(cols)
+    out["ucs"] = (np.asarray(cols["ucs"], dtype=float)
+                  * np.asarray(cols["strength_multiplier"], dtype=float))
+    return out
+
+
 def _frames(scenario: Scenario) -> Array:
     w = scenario.well
     if w.completion == "openhole":
@@ -197,6 +216,7 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     -------
     dict of mechanism key -> MechanismResult, arrays (n, n_directions, n_stages)
     """
+    cols = strength_scaled(cols)
     phys = physical_inputs(cols, scenario)
     n = phys["sv"].size
     stages = (np.asarray(scenario.reservoir_pressure)[None, :] if reservoir_pressure is None

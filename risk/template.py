@@ -49,6 +49,7 @@ critical_plastic_strain = { dist = "uniform", low = 0.01, high = 0.03 }   # wall
 pore_collapse_pressure = 5000   # [psi] mean effective stress at pore collapse
 # cap_m = 1.2                   # compaction-cap slope M (default 6 sin(phi)/(3 - sin(phi)))
 # wet_strength_ratio = { dist = "uniform", low = 0.5, high = 0.9 }   # with water_saturation
+# strength_multiplier = { dist = "lognormal", median = 1.0, cov = 0.2 }   # on UCS (default 1)
 # hb_mi = 17                    # Hoek-Brown m_i (criterion = "hoek-brown"); gsi = 100
 
 [production]

@@ -16,15 +16,18 @@ Modelling choices (the memo states them):
   (:mod:`risk.calibration.likelihood`).
 - Reweighting when the Kish effective sample size reaches ``min_ess``; otherwise (or when
   asked) MCMC over the normal scores of ``theta`` with the same likelihood, ``omega``
-  integrated by a fixed set of :data:`INNER` common random rows per observation.
+  integrated by a fixed set of :data:`INNER` common random rows per observation; the walkers
+  (:func:`~risk.calibration.posterior.walker_count`) start at distinct rows drawn from the
+  reweighted posterior, differential-evolution moves, a quarter of the steps burnt in.
 
 docs/derivations.md, sec. 14 lists these choices with the figures measured on them.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any, Final
 
@@ -41,15 +44,23 @@ from risk.calibration.likelihood import (
     standardized_distance,
 )
 from risk.calibration.posterior import (
+    BURN_FRACTION,
     McmcResult,
+    initial_walkers,
     kish_ess,
     normalized_weights,
     run_mcmc,
+    walker_count,
     weighted_curve,
     weighted_quantile,
     weighted_quantiles,
 )
-from risk.calibration.voi import limit_today, simulate_measurement, value_of_information
+from risk.calibration.voi import (
+    bootstrap_multipliers,
+    limit_today,
+    simulate_measurement,
+    value_of_information,
+)
 from risk.errors import ScenarioError
 from risk.uncertainty import rng_stream
 
@@ -62,6 +73,9 @@ Array = NDArray[np.float64]
 INNER: Final = 32
 #: Floor of the MCMC log-likelihood (positions no inner row can explain) [-].
 LOG_FLOOR: Final = -1e6
+#: Index of the bootstrap multipliers' substream of the "voi" stream (the measurements' own
+#: substreams are numbered from 0).
+BOOT_STREAM: Final = 10_000
 #: Rows evaluated under the MCMC posterior for the posterior risk.
 POSTERIOR_ROWS: Final = 8192
 GRID_POINTS: Final = 51
@@ -84,6 +98,16 @@ class PosteriorRisk:
     grid: Array
     #: P(sand) at each planned operating point that lies on a stage (p_r, p_w, probability)
     points: tuple[tuple[float, float, float], ...] = ()
+    #: per mechanism, per shot direction, per stage: the capped drawdown limit
+    per_direction: Mapping[str, tuple[tuple[float, ...], ...]] = field(default_factory=dict)
+    #: the life-of-well shot set (perforated wells): (phasing [deg] or None for the set as
+    #: given, orientation [deg], direction indices, its sand-free limit per stage)
+    phasing: tuple[float | None, float, tuple[int, ...], tuple[float, ...]] | None = None
+    #: completion options: (name, sand-free limit per stage)
+    options: tuple[tuple[str, tuple[float, ...]], ...] = ()
+    #: pore collapse: far-field critical reservoir pressure at which 10%, 50%, 90% of the
+    #: weight has collapsed [MPa], and the collapsed share per stage [-]
+    pore_collapse: Mapping[str, Any] | None = None
 
 
 @dataclass(frozen=True)
@@ -199,8 +223,38 @@ def _input_summary(x: Array, w: Array) -> dict[str, float]:
     return {"mean": mean, "sd": sd, "p10": float(q[0]), "p50": float(q[1]), "p90": float(q[2])}
 
 
-def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> PosteriorRisk:
+def _sand_free(scenario: Any, by_direction: Mapping[str, Array], w: Array
+               ) -> tuple[float, ...] | None:
+    keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
+    if not keys:
+        return None
+    sand = decision.sand_drawdown(by_direction, keys)
+    return tuple(min(weighted_quantile(sand[:, k], w, scenario.accepted_risk), p_r)
+                 for k, p_r in enumerate(scenario.reservoir_pressure))
+
+
+def _pore(scenario: Any, far_field: Array | None, w: Array) -> dict[str, Any] | None:
+    """Weighted pore-collapse summary: ``p10`` is the reservoir pressure at or above which
+    10% of the weight has collapsed (the 0.1 quantile of the negated critical pressure), as
+    in the run's own pore-collapse results; ``probability`` the collapsed share per stage."""
+    if far_field is None:
+        return None
+    f = np.asarray(far_field, dtype=float)
+    q = -weighted_quantiles(-f, w, (0.1, 0.5, 0.9))  # the run's own convention (result.py)
+    total = float(np.sum(w))
+    return {"p10": float(q[0]), "p50": float(q[1]), "p90": float(q[2]),
+            "probability": tuple(float(np.sum(w * (f >= p_r))) / total
+                                 for p_r in scenario.reservoir_pressure)}
+
+
+def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array,
+          options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = (),
+          far_field: Array | None = None) -> PosteriorRisk:
+    """Curves, limits and envelopes per mechanism, per shot direction, the sand-free limit,
+    the life-of-well shot set, the completion options and pore collapse, on samples of
+    weights ``w`` (equal: the prior; importance weights or MCMC rows: the posterior)."""
     grid = np.linspace(0.0, scenario.max_drawdown, GRID_POINTS)
+    per_dir: dict[str, tuple[tuple[float, ...], ...]] = {}
     curves: dict[str, tuple[tuple[Array, Array, Array], ...]] = {}
     limits: dict[str, tuple[float, ...]] = {}
     env: dict[str, tuple[tuple[float, ...], ...]] = {}
@@ -213,6 +267,10 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
             ls.append(min(float(qs[0]), p_r))
             es.append(tuple(float(p_r - v) for v in qs[1:]))
         curves[key], limits[key], env[key] = tuple(cs), tuple(ls), tuple(es)
+        per_dir[key] = tuple(
+            tuple(min(weighted_quantile(arr[:, j, k], w, scenario.accepted_risk), p_r)
+                  for k, p_r in enumerate(scenario.reservoir_pressure))
+            for j in range(arr.shape[1]))
     keys = tuple(k for k in decision.SAND_PRODUCTION if k in by_direction)
     sand_free = p0 = None
     points: list[tuple[float, float, float]] = []
@@ -228,12 +286,29 @@ def _risk(scenario: Any, by_direction: Mapping[str, Array], w: Array) -> Posteri
             if at:
                 prob = float(np.sum(w * (sand[:, at[0]] <= p_r - p_w)) / np.sum(w))
                 points.append((p_r, p_w, prob))
-    return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points))
+    phasing = None
+    well = scenario.well
+    if keys and well.completion == "perforated":
+        choice = decision.choose_phasing(
+            by_direction, [math.degrees(x) for x in well.shot_angles],
+            scenario.reservoir_pressure, scenario.accepted_risk, scenario.operating_points,
+            phasings=scenario.phasings, weights=w)
+        if choice is not None:
+            c = choice.chosen
+            phasing = (c.phasing, c.orientation, c.directions, choice.limits)
+    opts = tuple((name, lim) for name, _, dirs in options
+                 if (lim := _sand_free(scenario, dirs, w)) is not None)
+    return PosteriorRisk(curves, limits, env, sand_free, p0, grid, tuple(points), per_dir,
+                         phasing, opts, _pore(scenario, far_field, w))
 
 
-def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array],
-          seed: int) -> tuple[McmcResult, Array]:
-    """Posterior draws of the normal scores of theta (MCMC), as input values (m, d)."""
+_Fn = Callable[[Array], Array]
+
+
+def _target(history: History, joint: Any, cols: Mapping[str, Array], seed: int
+            ) -> tuple[_Fn, _Fn, _Fn]:
+    """The MCMC target over the normal scores ``z`` of theta: ``log_prob(z)`` (k,) [-], the map
+    ``to_x(z)`` to input values and its inverse ``to_z(x)``, each on (k, d) arrays."""
     from risk.limit_states import evaluate
 
     spec = history.calibration
@@ -254,6 +329,10 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
         u = np.clip(sc.ndtr(z), 1e-300, 1 - 1e-16)
         return np.column_stack([m.ppf(u[:, j]) for j, m in enumerate(marg)])
 
+    def to_z(x: Array) -> Array:
+        u = np.column_stack([m.cdf(x[:, j]) for j, m in enumerate(marg)])
+        return np.asarray(sc.ndtri(np.clip(u, 1e-12, 1 - 1e-12)))
+
     def log_prob(z: Array) -> Array:
         z = np.atleast_2d(z)
         b = z.shape[0]
@@ -273,17 +352,36 @@ def _mcmc(scenario: Any, history: History, joint: Any, cols: Mapping[str, Array]
         # inner row agrees; the prior still pulls such walkers back
         return np.asarray(prior + np.maximum(lp, LOG_FLOOR))
 
+    return log_prob, to_x, to_z
+
+
+def _mcmc(history: History, joint: Any, cols: Mapping[str, Array], w_re: Array,
+          seed: int) -> tuple[McmcResult, Array]:
+    """Posterior draws of the normal scores of theta (MCMC), as input values (m, d)."""
+    spec = history.calibration
+    assert spec is not None
+    theta = spec.inputs
+    log_prob, to_x, to_z = _target(history, joint, cols, seed)
     rng = rng_stream(seed, "mcmc")
-    walkers = max(16, 4 * len(theta))
-    start = rng.multivariate_normal(np.zeros(len(theta)), corr, size=walkers)
-    res = run_mcmc(log_prob, start, steps=spec.mcmc_steps, seed=[seed, 18, 1])
+    x_rows = np.column_stack([np.asarray(cols[n], dtype=float) for n in theta])
+    walkers = walker_count(len(theta))
+    if x_rows.shape[0] >= walkers:
+        start = initial_walkers(to_z(x_rows), w_re, walkers=walkers, rng=rng)
+    else:  # fewer stored rows than walkers: start from the prior
+        idx = [joint.names.index(n) for n in theta]
+        start = rng.multivariate_normal(np.zeros(len(theta)),
+                                        joint.normal_corr[np.ix_(idx, idx)], size=walkers)
+    res = run_mcmc(log_prob, start, steps=spec.mcmc_steps, seed=[seed, 18, 1],
+                   burn_in=spec.mcmc_steps // BURN_FRACTION)
     pick = rng.choice(res.draws.shape[0], size=min(POSTERIOR_ROWS,
                                                    next(iter(cols.values())).shape[0]))
     return res, to_x(res.draws[pick])
 
 
 def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
-              by_direction: Mapping[str, Array], seed: int) -> Calibration:
+              by_direction: Mapping[str, Array], seed: int,
+              options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = (),
+              far_field: Array | None = None) -> Calibration:
     """Posterior of the calibrated inputs and the posterior risk, on the run's stored samples.
 
     Parameters
@@ -293,6 +391,8 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     cols : every input's column for the stored samples [internal units]
     by_direction : per mechanism, critical drawdown of the stored samples (m, dirs, stages)
     seed : the run's seed
+    options : per completion option (name, Well, its ``by_direction`` on the same samples)
+    far_field : pore collapse's far-field critical reservoir pressure of the samples [MPa]
 
     Raises
     ------
@@ -326,13 +426,23 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
     equal = np.full(m, 1.0 / m)
     mcmc_info = None
     if use_mcmc:
-        res, x_post = _mcmc(scenario, history, joint, cols, seed)
+        res, x_post = _mcmc(history, joint, cols, w_re, seed)
         r = x_post.shape[0]
         post_cols = {n: np.asarray(v)[:r].copy() for n, v in cols.items()}
         for j, n in enumerate(theta):
             post_cols[n] = x_post[:, j]
         out = evaluate(post_cols, scenario)
         post_dir = {k: v.by_direction for k, v in out.items()}
+        post_options: tuple[tuple[str, Any, Mapping[str, Array]], ...] = tuple(
+            (name, well, {k: v.by_direction for k, v in evaluate(
+                post_cols, dataclasses.replace(scenario, well=well),
+                only=set(decision.SAND_PRODUCTION)).items()})
+            for name, well, _ in options)
+        post_far = None
+        if far_field is not None:
+            from risk.limit_states import evaluate_compaction
+
+            post_far = evaluate_compaction(post_cols, scenario).far_field
         w_post = np.full(r, 1.0 / r)
         post_preds = _predicted(obs_list, post_cols, theta, uncertain, seed)
         mcmc_info = {"walkers": res.walkers, "steps": res.steps, "burn_in": res.burn_in,
@@ -344,8 +454,9 @@ def calibrate(scenario: Any, joint: Any, cols: Mapping[str, Array],
                      * (1 + len(obs_list)), "draws": int(res.draws.shape[0])}
     else:
         post_cols, post_dir, w_post, post_preds = dict(cols), dict(by_direction), w_re, preds
-    prior_risk = _risk(scenario, by_direction, equal)
-    post_risk = _risk(scenario, post_dir, w_post)
+        post_options, post_far = options, far_field
+    prior_risk = _risk(scenario, by_direction, equal, options, far_field)
+    post_risk = _risk(scenario, post_dir, w_post, post_options, post_far)
     rows = []
     warnings = []
     if not use_mcmc and ess < spec.min_ess:
@@ -411,8 +522,11 @@ def value_of_information_table(scenario: Any, cols: Mapping[str, Array], sand: A
     if history is not None:
         wanted += list(history.measurements)
     caps = np.asarray(scenario.reservoir_pressure)
+    # one set of bootstrap multipliers for today's limit and every measurement: the paired
+    # error of each gain (risk.calibration.voi)
+    boot = bootstrap_multipliers(sand.shape[0], rng=rng_stream(seed, "voi", BOOT_STREAM))
     today = limit_today(output=sand, accepted_risk=scenario.accepted_risk, cap=caps,
-                        weights=weights)
+                        weights=weights, boot=boot)
     out = []
     for j, meas in enumerate(wanted):
         rng = rng_stream(seed, "voi", j)
@@ -421,7 +535,7 @@ def value_of_information_table(scenario: Any, cols: Mapping[str, Array], sand: A
                                       rng=rng)
         ests = value_of_information(signal=signal, output=sand,
                                     accepted_risk=scenario.accepted_risk,
-                                    cap=caps, weights=weights, today=today)
+                                    cap=caps, weights=weights, boot=boot, today=today)
         assert isinstance(ests, list)
         vals = [e.value for e in ests]
         errs = [e.error for e in ests]

@@ -18,7 +18,8 @@ and any numeric input (a number or a distribution) for that observation only: of
 differ in depth, stresses and completion.
 
 ``[calibration]`` says which inputs the history informs (``inputs``; default the uncertain
-model-calibration inputs ``twc_factor`` and ``critical_plastic_strain``), the model error
+model-calibration inputs ``twc_factor``, ``critical_plastic_strain`` and
+``strength_multiplier``), the model error
 (``model_error``, the standard deviation of the log critical drawdown, default
 :data:`DEFAULT_MODEL_ERROR`) and the method (``"auto"``, ``"reweight"`` or ``"mcmc"``).
 ``[[measurement]]`` names a measurement whose value of information is wanted: ``input``, and
@@ -37,7 +38,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Final
 
 from risk.conventions import DISPLAY_UNITS, TO_INTERNAL
-from risk.errors import ScenarioError, did_you_mean
+from risk.errors import ScenarioError, did_you_mean, toml_key
 from risk.uncertainty import Marginal, is_plain_number, parse_input, text_problem
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -52,7 +53,7 @@ OUTCOMES: Final = ("onset", "no_sand", "onset_between")
 #: published constant; the memo states it).
 DEFAULT_MODEL_ERROR: Final = 0.3
 #: Inputs calibrated by default when uncertain: the model-calibration constants.
-DEFAULT_CALIBRATED: Final = ("twc_factor", "critical_plastic_strain")
+DEFAULT_CALIBRATED: Final = ("twc_factor", "critical_plastic_strain", "strength_multiplier")
 METHODS: Final = ("auto", "reweight", "mcmc")
 MAX_OBSERVATIONS: Final = 200
 MAX_MEASUREMENTS: Final = 50
@@ -160,7 +161,7 @@ def _text(p: _Problems, t: Mapping[str, Any], prefix: str, key: str, default: st
 def _unknown(p: _Problems, t: Mapping[str, Any], prefix: str, allowed: tuple[str, ...]) -> None:
     for k in t:
         if k not in allowed:
-            p.add(f"{prefix}.{k}", t[k], f"a known key: {', '.join(allowed)}"
+            p.add(f"{prefix}.{toml_key(k)}", t[k], f"a known key: {', '.join(allowed)}"
                   + did_you_mean(str(k), allowed), found_text=f"unknown key {k!r}")
 
 
@@ -470,7 +471,8 @@ def parse_history(doc: Mapping[str, Any], scenario: Scenario) -> History | None:
                   found_text="a history, but no sand-production mechanism")
         if not spec.inputs and not p.items:
             p.add("calibration.inputs", None, "uncertain inputs for the history to inform "
-                  "(by default twc_factor and critical_plastic_strain, when uncertain)",
+                  "(by default twc_factor, critical_plastic_strain and strength_multiplier, "
+                  "when uncertain)",
                   found_text="nothing to calibrate")
     measurements: list[Measurement] = []
     if raw_meas is not None:

@@ -63,7 +63,43 @@ def _risk(sc: Any, r: Any) -> dict[str, Any]:
                 for p_r, lim, p0 in zip(sc.reservoir_pressure, r.sand_free, r.p_no_drawdown or (),
                                         strict=True)],
             "operating_points": [{"reservoir_pressure": _p(sc, p_r), "wall_pressure": _p(sc, p_w),
-                                  "probability": _r(prob)} for p_r, p_w, prob in r.points]}
+                                  "probability": _r(prob)} for p_r, p_w, prob in r.points],
+            **_coverage(sc, r)}
+
+
+def _limits(sc: Any, limits: Any) -> list[dict[str, Any]]:
+    return [{"reservoir_pressure": _p(sc, p_r), "drawdown_limit": _p(sc, lim)}
+            for p_r, lim in zip(sc.reservoir_pressure, limits, strict=True)]
+
+
+def _coverage(sc: Any, r: Any) -> dict[str, Any]:
+    """Per shot direction, the life-of-well shot set, the completion options and pore
+    collapse on the same (weighted) samples, where the run has them."""
+    out: dict[str, Any] = {}
+    perforated = sc.well.completion == "perforated"
+    angles = [_r(math.degrees(a)) for a in sc.well.shot_angles] if perforated else [None]
+    if r.per_direction:
+        out["per_direction"] = {key: [{"shot_angle": angles[j] if j < len(angles) else None,
+                                       "limits": _limits(sc, lims)}
+                                      for j, lims in enumerate(per)]
+                                for key, per in r.per_direction.items()}
+    if r.phasing is not None:
+        ph, orient, dirs, lims = r.phasing
+        out["phasing"] = {"phasing": None if ph is None else _r(ph),
+                          "orientation": _r(orient),
+                          "shot_angles": [angles[j] for j in dirs],
+                          "sand_free": _limits(sc, lims)}
+    if r.options:
+        out["options"] = [{"name": name, "sand_free": _limits(sc, lims)}
+                          for name, lims in r.options]
+    if r.pore_collapse is not None:
+        pc = r.pore_collapse
+        out["pore_collapse"] = {
+            "critical_reservoir_pressure": {k: _p(sc, pc[k]) for k in ("p10", "p50", "p90")},
+            "stages": [{"reservoir_pressure": _p(sc, p_r), "probability": _r(prob)}
+                       for p_r, prob in zip(sc.reservoir_pressure, pc["probability"],
+                                            strict=True)]}
+    return out
 
 
 def calibration_block(a: Any) -> dict[str, Any] | None:
@@ -129,6 +165,8 @@ def voi_block(a: Any) -> dict[str, Any] | None:
     return {"definition": "expected gain of the sand-free drawdown limit at the accepted risk "
                           "once the quantity is measured (preposterior expectation of the "
                           "limit minus today's limit), from the run's own samples "
-                          "(given-data binned estimator, Bayesian-bootstrap error)",
+                          "(given-data binned estimator; paired Bayesian-bootstrap error: "
+                          "today's limit and the expected limit from the same reweighted "
+                          "samples)",
             "under": "posterior" if a.calibration is not None else "prior",
             "rows": out}

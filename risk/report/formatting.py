@@ -24,6 +24,7 @@ INPUT_LABELS: Final[dict[str, str]] = {
     "gsi": "GSI", "twc": "TWC", "twc_ratio": "TWC/UCS", "twc_factor": "strength factor k",
     "young_modulus": "Young's modulus", "dilation_angle": "dilation angle",
     "critical_plastic_strain": "critical plastic strain",
+    "strength_multiplier": "strength multiplier",
     "pore_collapse_pressure": "pore-collapse pressure P*", "drainage_radius": "drainage radius",
 }
 

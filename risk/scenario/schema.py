@@ -92,6 +92,10 @@ INPUTS: Final[tuple[InputSpec, ...]] = (
               Bounds(0.0, 1.0, lower_inclusive=False, text="in (0, 1]"), False,
               "strength of the water-saturated rock over the as-tested one (water weakening "
               "of UCS, TWC and critical plastic strain)"),
+    InputSpec("strength_multiplier", "rock", "dimensionless", _POS, False,
+              "strength multiplier on UCS (and what the model derives from it: TWC from "
+              "twc_ratio, the Hoek-Brown sigma_ci); a model-calibration input, default 1 with "
+              "no spread"),
     InputSpec("cap_m", "rock", "dimensionless", _POS, False,
               "critical-state slope M of the compaction cap (modified Cam clay; default "
               "6 sin(phi)/(3 - sin(phi)) from the friction angle)"),

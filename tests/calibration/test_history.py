@@ -85,6 +85,17 @@ def test_history_refused_without_sand_mechanism() -> None:
     assert [p.key for p in problems] == ["history"]
 
 
+def test_unknown_key_with_a_control_character_is_named_visibly() -> None:
+    # the error contract of risk.errors (every problem line starts with its key, and a key
+    # never carries a control character): an unknown [calibration] key "\x1f" is named as
+    # TOML would need it written (found by tests/test_fuzz_scenario.py)
+    doc = _doc()
+    doc["calibration"]["\x1f"] = 1
+    (p,) = [q for q in _problems(doc) if q.key.startswith("calibration.")]
+    assert p.key == 'calibration."\\u001f"'
+    assert str(p).startswith(p.key)
+
+
 @pytest.mark.slow
 def test_example_calibrates_and_is_reproducible() -> None:
     from risk.assessment import assess
@@ -126,13 +137,24 @@ def test_mcmc_path_reports_its_diagnostics() -> None:
     from risk.assessment import assess
 
     doc = _doc()
+    from risk.report.results import summarize
+
     doc["calibration"].update(method="mcmc", mcmc_steps=100)
-    a = assess(parse_scenario(doc), samples=512)
+    doc["rock"]["pore_collapse_pressure"] = 5500
+    doc["option"] = [{"name": "open hole", "completion": "openhole", "hole_diameter": 8.5}]
+    sc = parse_scenario(doc)
+    a = assess(sc, samples=512)
     m = a.calibration.mcmc
     assert a.calibration.method == "mcmc"
-    assert m["walkers"] >= 16 and 0 < m["acceptance"] < 1
+    assert m["walkers"] >= 32 and 0 < m["acceptance"] < 1
     assert set(m["rhat"]) == {"twc_factor", "ucs"}
     assert np.isfinite(list(m["rhat"].values())).all()
+    post = a.calibration.posterior  # options and pore collapse re-evaluated on the draws
+    assert len(post.options) == 1 and post.pore_collapse is not None
+    assert post.phasing is not None
+    # same seed, same posterior bit for bit (the MCMC path included)
+    s1 = json.dumps(summarize(a), sort_keys=True)
+    assert s1 == json.dumps(summarize(assess(sc, samples=512)), sort_keys=True)
 
 
 @pytest.mark.slow
@@ -166,3 +188,39 @@ def test_refusal_through_the_api_writes_nothing(tmp_path: Path) -> None:
     assert "history[2] ('R-2 sand onset').drawdown: found outcome 'onset' at 1600 psi" in (
         err.value.message)
     assert not (tmp_path / "out").exists()
+
+
+@pytest.mark.slow
+def test_prior_column_is_the_run_itself_and_posterior_covers_every_result() -> None:
+    # with equal weights (the prior) the weighted functions give the run's own phasing choice,
+    # completion options, per-direction limits and pore collapse, computed by the run's
+    # unweighted code (risk.decision, risk.probability, risk.result): derived, the weighted
+    # inverted CDF reduces to the unweighted one (Hyndman & Fan 1996, definition 1)
+    from risk import probability
+    from risk.assessment import assess
+    from risk.result import summarize
+
+    doc = _doc()
+    doc["calibration"]["min_ess"] = 20
+    doc["rock"]["pore_collapse_pressure"] = 5500
+    doc["option"] = [{"name": "open hole", "completion": "openhole", "hole_diameter": 8.5}]
+    sc = parse_scenario(doc)
+    a = assess(sc, samples=1024)
+    prior, post = a.calibration.prior, a.calibration.posterior
+    assert prior.phasing is not None and a.phasing is not None
+    assert prior.phasing[2] == a.phasing.chosen.directions
+    assert prior.phasing[3] == a.phasing.limits
+    assert prior.options[0][1] == tuple(s.limit for s in a.options[0].sand_free.stages)
+    dc = np.asarray(a.mechanisms["effective_strength_onset"].by_direction, dtype=float)
+    for j in range(dc.shape[1]):
+        for k, p_r in enumerate(sc.reservoir_pressure):
+            own = min(probability.drawdown_limit(dc[:, j, k], sc.accepted_risk)[0], p_r)
+            assert prior.per_direction["effective_strength_onset"][j][k] == own
+    pore = summarize(a).pore_collapse
+    assert pore is not None
+    assert prior.pore_collapse["p10"] == pore.far_field["p10"]
+    assert prior.pore_collapse["probability"] == tuple(s["probability"] for s in pore.stages)
+    # the posterior has every one of them too, on the reweighted samples
+    assert post.phasing is not None and len(post.options) == 1
+    assert set(post.per_direction) == set(prior.per_direction)
+    assert post.pore_collapse is not None

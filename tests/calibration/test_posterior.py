@@ -10,10 +10,13 @@ from scipy import integrate, stats
 
 from risk.calibration.likelihood import log_likelihood, standardized_distance
 from risk.calibration.posterior import (
+    BURN_FRACTION,
+    initial_walkers,
     kish_ess,
     normalized_weights,
     run_mcmc,
     split_rhat,
+    walker_count,
     weighted_curve,
     weighted_quantile,
 )
@@ -56,19 +59,38 @@ def test_conjugate_reweighting_matches_closed_form() -> None:
 
 @pytest.mark.slow
 def test_conjugate_mcmc_matches_closed_form() -> None:
+    # the run's MCMC defaults (walker count, start from the reweighted prior samples, DE
+    # moves, a quarter burnt in, 1,000 steps): mean and sd within Monte-Carlo error of the
+    # closed form, and mixed (split R-hat <= 1.05, Vehtari et al. 2021's threshold is 1.01 for
+    # final inference; 1.05 is this tool's warning level)
     def log_prob(z: np.ndarray) -> np.ndarray:
         x = z[:, 0]
         return -0.5 * ((x - MU0) / S0) ** 2 + _log_lik(x)
 
-    start = np.random.default_rng(2).normal(0, 0.1, size=(16, 1))
-    res = run_mcmc(log_prob, start, steps=1500, seed=3)
+    rng = np.random.default_rng(2)
+    prior = MU0 + S0 * rng.standard_normal(4096)
+    w = normalized_weights(_log_lik(prior))
+    start = initial_walkers(prior[:, None], w, walkers=walker_count(1), rng=rng)
+    res = run_mcmc(log_prob, start, steps=1000, seed=3, burn_in=1000 // BURN_FRACTION)
     x = res.draws[:, 0]
     mu, s = _closed_form()
     n_eff = x.size / max(float(res.autocorrelation[0]), 1.0)
     assert abs(float(x.mean()) - mu) < 4 * s / math.sqrt(n_eff)
-    assert abs(float(x.std()) - s) < 4 * s / math.sqrt(2 * n_eff) + 0.02 * s
-    assert res.rhat[0] < 1.05
-    assert 0.2 < res.acceptance < 0.9
+    assert abs(float(x.std()) - s) < 4 * s / math.sqrt(2 * n_eff)
+    assert res.rhat[0] <= 1.05
+    assert 0.1 < res.acceptance < 0.9
+
+
+def test_initial_walkers_are_distinct_rows_of_the_posterior() -> None:
+    # rows of zero weight are never picked while enough rows carry weight; with fewer, all of
+    # them are kept and the rest filled (derived from the definition)
+    rng = np.random.default_rng(6)
+    z = np.arange(100.0)[:, None]
+    w = np.where(np.arange(100) < 50, 1.0, 0.0)
+    start = initial_walkers(z, w, walkers=32, rng=rng)
+    assert np.unique(start).size == 32 and start.max() < 50
+    few = initial_walkers(z, np.where(np.arange(100) < 5, 1.0, 0.0), walkers=32, rng=rng)
+    assert np.unique(few).size == 32 and set(range(5)) <= set(few[:, 0].astype(int))
 
 
 def test_mcmc_same_seed_same_draws() -> None:

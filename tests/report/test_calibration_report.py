@@ -66,6 +66,45 @@ def test_context_states_units_method_and_rows() -> None:
     assert ctx["voi"]["rows"][1]["gains"] == ["-5 ± 20"]
     assert ctx["voi"]["rows"][1]["error"] == "6%"
     assert ctx["warnings"] == ["history 'A' conflicts"]
+    assert ctx["voi"]["rows"][0]["name"] == "UCS, measured perfectly"
+    # 110.8 is within two errors (2 x 61.2) of zero and -5 is no gain: nothing recommended
+    assert ctx["voi"]["recommendation"].startswith("No measurement is expected")
+
+
+def _clear_gain() -> dict[str, Any]:
+    res = _results()
+    res["value_of_information"]["rows"][0]["stages"][0]["mc_error"] = 40.0  # 110.8 > 2 x 40
+    return res
+
+
+def test_measure_next_is_the_largest_clear_gain() -> None:
+    # what to measure next comes from the value of information: the largest first-stage gain
+    # distinguished from zero by two Monte-Carlo errors, named by the input's label
+    ctx = calibration_context(_clear_gain())
+    assert ctx is not None
+    assert ctx["voi"]["recommendation"].startswith("Measure next: UCS, measured perfectly.")
+    assert "111 psi" in ctx["voi"]["recommendation"]
+
+
+def test_memo_replaces_measure_next_with_the_value_of_information() -> None:
+    # the main memo's "what to measure next" is the value of information when it was computed,
+    # the variance-based sentence otherwise; the Sobol/Shapley tables stay in both cases
+    from risk.report.memo.render import render_html
+
+    res = _clear_gain()
+    res["sensitivity"] = {"effective_strength_onset": [
+        {"input": "ucs", "first": 0.6, "total": 0.7, "shapley": 0.65},
+        {"input": "twc_factor", "first": 0.2, "total": 0.3, "shapley": 0.35}]}
+    res["mechanisms"] = {"effective_strength_onset": {"name": "Effective-strength onset"}}
+    with_voi = render_html(res, {})
+    assert "Measure next: UCS, measured perfectly." in with_voi
+    assert "measure UCS next" not in with_voi
+    assert "ranked by their Shapley effect" in with_voi
+    del res["value_of_information"]
+    without = render_html(res, {})
+    assert "Measure next:" not in without
+    assert "measure UCS next" in without
+    assert "ranked by their Shapley effect" in without
 
 
 def test_absent_without_history() -> None:
