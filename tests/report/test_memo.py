@@ -347,3 +347,15 @@ def test_pdf_page_refers_to_figures_by_name(perforated, perforated_figures):
     served = memo.render_pdf(html, images=perforated_figures)
     missing = memo.render_pdf(html, images={})
     assert len(served) - len(missing) > sum(map(len, perforated_figures.values())) // 4
+
+
+@pytest.mark.slow
+def test_pdf_of_an_unchanged_memo_is_kept(legacy):
+    """`risk memo` with nothing changed: every figure reused and the same page, so the PDF
+    written before is kept as it is; a page that differs (another run date) is laid out."""
+    one = memo.build_memo(legacy, workers=1)
+    kept = memo.build_memo(legacy, reuse=one.figures, previous=(one.html, b"%PDF- before"))
+    assert kept.pdf == b"%PDF- before" and kept.html == one.html
+    later = {**legacy, "run_date": "2031-01-01 00:00 UTC"}
+    redone = memo.build_memo(later, reuse=one.figures, previous=(one.html, b"%PDF- before"))
+    assert redone.pdf.startswith(PDF_MAGIC) and redone.html != one.html

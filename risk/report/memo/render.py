@@ -163,7 +163,8 @@ def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes], *,
 
 
 def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None = None,
-               workers: int | None = None) -> Memo:
+               workers: int | None = None, previous: tuple[str, bytes] | None = None
+               ) -> Memo:
     """Figures, HTML and PDF of a run's memo, from its results dict alone (``reuse``: figures
     drawn before, kept where they would come out the same: :func:`render_all`).
 
@@ -171,7 +172,19 @@ def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None 
     :func:`~risk.report.figures.render_all`) the figures are drawn in a forked process while
     this one lays out the PDF's pages around images of their sizes
     (:func:`~risk.report.memo.pdf.pdf_alongside`); the memo is the same as drawn one step after
-    the other."""
+    the other.
+
+    ``previous``: the HTML and PDF of a memo rendered before (`risk memo` on a folder whose
+    files are as the tool wrote them). Where every figure is reused and the page comes out
+    the same (the same text, numbers and figure bytes), its PDF is returned as it is instead
+    of being laid out again (a memo re-rendered with nothing changed costs the HTML alone)."""
+    if previous is not None and reuse:
+        figures = render_all(results, reuse=reuse, workers=1)
+        html = render_html(results, figures)
+        if html == previous[0] and all(reuse.get(n) == png for n, png in figures.items()):
+            return Memo(html=html, pdf=previous[1], figures=dict(figures))
+        return Memo(html=html, pdf=render_pdf(render_html(results, figures, linked=True),
+                                              images=figures), figures=dict(figures))
     n = figure_render._workers() if workers is None else int(workers)
     if n > 1:
         drawing = draw_in_background(results, reuse=reuse)
