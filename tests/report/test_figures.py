@@ -388,7 +388,7 @@ def test_figure_sizes_announced_before_drawing_are_the_png_sizes(legacy):
     from risk.report.figures.background import draw_in_background
 
     drawing = draw_in_background(legacy)
-    assert drawing is not None
+    assert drawing is not None and drawing.wait_sizes()
     sizes = dict(drawing.sizes)
     pngs = drawing.result()
     assert pngs == figures.render_all(legacy, workers=1)

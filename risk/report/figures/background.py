@@ -58,14 +58,19 @@ class Drawing:
                  kept: dict[str, bytes]) -> None:
         self._child = child
         self._receive = receive
+        self._names = names
         self.kept = kept
         self.sizes: dict[str, tuple[int, int]] = {
             name: (int.from_bytes(png[16:20], "big"), int.from_bytes(png[20:24], "big"))
             for name, png in kept.items()}
         self.ok = True
+
+    def wait_sizes(self) -> bool:
+        """Wait until the child has built every figure and announced its size (:attr:`sizes`);
+        False (and the child stopped) where it failed."""
         try:
-            for _ in names:
-                message = receive.recv()
+            for _ in self._names:
+                message = self._receive.recv()
                 if message[0] != "size":
                     self.ok = False
                     break
@@ -75,6 +80,7 @@ class Drawing:
             self.ok = False
         if not self.ok:
             self.close()
+        return self.ok
 
     def result(self) -> dict[str, bytes] | None:
         """Every PNG by name (:data:`FIGURES` order), or None where the child failed."""
@@ -106,10 +112,11 @@ class Drawing:
 
 def draw_in_background(results: Mapping[str, Any], *,
                        reuse: Mapping[str, bytes] | None = None) -> Drawing | None:
-    """Start drawing the figures of these results in a forked process; returns once every
-    figure's size is known (None where fork is unavailable or the child failed: the caller
-    then draws in this process, :func:`~risk.report.figures.render.render_all`, which raises
-    what went wrong). ``reuse`` as in ``render_all``: matching PNGs are kept, not drawn."""
+    """Start drawing the figures of these results in a forked process and return at once
+    (:meth:`Drawing.wait_sizes` then waits for their sizes); None where fork is unavailable.
+    Where the child fails, the caller draws in this process
+    (:func:`~risk.report.figures.render.render_all`, which raises what went wrong).
+    ``reuse`` as in ``render_all``: matching PNGs are kept, not drawn."""
     if "fork" not in multiprocessing.get_all_start_methods():  # pragma: no cover - not POSIX
         return None
     key = figure_key(results)
@@ -121,5 +128,4 @@ def draw_in_background(results: Mapping[str, Any], *,
     child = ctx.Process(target=_child, args=(send, results, names, key), daemon=True)
     child.start()
     send.close()
-    drawing = Drawing(child, receive, names, kept)
-    return drawing if drawing.ok else None
+    return Drawing(child, receive, names, kept)

@@ -189,10 +189,14 @@ def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None 
     if n > 1:
         drawing = draw_in_background(results, reuse=reuse)
         if drawing is not None:
+            import weasyprint  # noqa: F401 - loaded while the figures are being built
+
+            done = None
             try:
-                blanks = {name: blank_png(w, h) for name, (w, h) in drawing.sizes.items()}
-                done = pdf_alongside(render_html(results, blanks, linked=True), blanks,
-                                     drawing.result)
+                if drawing.wait_sizes():
+                    blanks = {name: blank_png(w, h) for name, (w, h) in drawing.sizes.items()}
+                    done = pdf_alongside(render_html(results, blanks, linked=True), blanks,
+                                         drawing.result)
             finally:
                 drawing.close()
             if done is not None:
