@@ -2,7 +2,7 @@
 (:func:`draw_in_background`).
 
 The PDF's page layout needs only each figure's pixel size, known as soon as the figure is
-built (its size in inches at :data:`~risk.report.figures.common.DPI`); the drawing proper
+built (:func:`~risk.report.figures.render.pixel_size`); the drawing proper
 (matplotlib's layout engine, rasterising, PNG encoding) is most of a figure's cost. So the
 child process builds every figure, announces the sizes, then draws them, while the parent lays
 out the pages around images of those sizes and puts the real pixels in when they arrive.
@@ -18,14 +18,14 @@ from typing import Any
 
 from matplotlib.figure import Figure
 
-from risk.report.figures.common import DPI
-from risk.report.figures.render import FIGURES, _png, figure_key, png_key, provenance_text
-
-
-def pixel_size(fig: Figure) -> tuple[int, int]:
-    """Width and height [px] of the figure's PNG (as :func:`~risk.report.figures.render._png`
-    sizes it: the figure's size at :data:`DPI`, truncated as matplotlib's Agg canvas does)."""
-    return int(fig.get_figwidth() * DPI), int(fig.get_figheight() * DPI)
+from risk.report.figures.render import (
+    FIGURES,
+    _png,
+    figure_key,
+    pixel_size,
+    png_key,
+    provenance_text,
+)
 
 
 def _child(conn: Connection, results: Mapping[str, Any], names: list[str], key: str) -> None:
