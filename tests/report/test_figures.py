@@ -395,3 +395,18 @@ def test_figure_sizes_announced_before_drawing_are_the_png_sizes(legacy):
     # width and height from each PNG's IHDR chunk (PNG specification, sec. 11.2.2)
     assert sizes == {name: (int.from_bytes(p[16:20], "big"), int.from_bytes(p[20:24], "big"))
                      for name, p in pngs.items()}
+
+
+def test_no_background_drawing_where_no_child_may_start(legacy, monkeypatch):
+    # inside a daemonic process (a pool worker) multiprocessing refuses to start children
+    # (AssertionError, Python's multiprocessing.process.BaseProcess.start): the caller is
+    # told to draw in its own process instead of failing
+    import multiprocessing.process
+
+    from risk.report.figures.background import draw_in_background
+
+    def refuse(self: Any) -> None:
+        raise AssertionError("daemonic processes are not allowed to have children")
+
+    monkeypatch.setattr(multiprocessing.process.BaseProcess, "start", refuse)
+    assert draw_in_background(legacy) is None

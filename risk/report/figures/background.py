@@ -126,6 +126,11 @@ def draw_in_background(results: Mapping[str, Any], *,
     ctx = multiprocessing.get_context("fork")
     receive, send = ctx.Pipe(duplex=False)
     child = ctx.Process(target=_child, args=(send, results, names, key), daemon=True)
-    child.start()
+    try:
+        child.start()
+    except (AssertionError, OSError):  # a daemonic process (no children allowed), no memory
+        receive.close()
+        send.close()
+        return None
     send.close()
     return Drawing(child, receive, names, kept)
