@@ -130,7 +130,8 @@ def _output_files(summary: dict[str, Any], run_info: dict[str, Any]
 
 
 def _memo_files(summary: dict[str, Any], run_info: dict[str, Any],
-                reuse: dict[str, bytes] | None = None) -> dict[str, str | bytes]:
+                reuse: dict[str, bytes] | None = None,
+                previous: tuple[str, bytes] | None = None) -> dict[str, str | bytes]:
     if summary.get("kind") == "logs":
         from risk.report.depth_outputs import log_output_files
 
@@ -138,7 +139,7 @@ def _memo_files(summary: dict[str, Any], run_info: dict[str, Any],
         return {k: v for k, v in files.items() if k not in ("results.json", "run.json")}
     from risk.report import memo_files
 
-    return memo_files(summary, run_info, reuse=reuse)
+    return memo_files(summary, run_info, reuse=reuse, previous=previous)
 
 
 def _written_figures(folder: Path) -> dict[str, bytes]:
@@ -160,6 +161,30 @@ def _written_figures(folder: Path) -> dict[str, bytes]:
         if sha256_of(png) == digest:
             out[rel[len("figures/"):-len(".png")]] = png
     return out
+
+
+def _written_memo(folder: Path) -> tuple[str, bytes] | None:
+    """memo.html and memo.pdf of an output folder exactly as the tool wrote them (digests
+    equal to the manifest's), or None: the PDF is kept when the memo comes out the same."""
+    from risk.report.writer import read_manifest, sha256_of
+
+    manifest = read_manifest(folder) or {}
+    found: list[bytes] = []
+    for rel in ("memo.html", "memo.pdf"):
+        path = folder / rel
+        try:
+            if path.is_symlink() or not path.is_file():
+                return None
+            data = path.read_bytes()
+        except OSError:
+            return None
+        if manifest.get(rel) is None or sha256_of(data) != manifest[rel]:
+            return None
+        found.append(data)
+    try:
+        return found[0].decode("utf-8"), found[1]
+    except UnicodeDecodeError:
+        return None
 
 
 def render_memo(out: str | Path, *, force: bool = False) -> Path:
@@ -206,7 +231,8 @@ def render_memo(out: str | Path, *, force: bool = False) -> Path:
             except (OSError, UnicodeDecodeError, json.JSONDecodeError):
                 run_info = {}
         try:
-            files = _memo_files(summary, run_info, _written_figures(folder))
+            files = _memo_files(summary, run_info, _written_figures(folder),
+                                _written_memo(folder))
         except (KeyError, TypeError, ValueError) as exc:
             raise ScenarioError.single("results.json", str(res),
                                        "results.json of this version of risk",

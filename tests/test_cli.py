@@ -205,9 +205,16 @@ def test_memo_redraw_reuses_unchanged_figures_but_not_edited_ones(tmp_path, writ
 
     monkeypatch.setattr(rn, "_render_one", counting)
     monkeypatch.setattr(rn, "_workers", lambda: 1)
+    from risk.report.memo import render as mr
+
+    laid_out: list[int] = []
+    real_pdf = mr.render_pdf
+    monkeypatch.setattr(mr, "render_pdf", lambda *a, **k: laid_out.append(1) or real_pdf(*a, **k))
+    pdf = (out / "memo.pdf").read_bytes()
     r = RUNNER.invoke(app, ["memo", str(out)])
     assert r.exit_code == 0, r.output
-    assert drawn == []
+    assert drawn == [] and laid_out == []  # same page: the PDF is kept, not laid out again
+    assert (out / "memo.pdf").read_bytes() == pdf
     assert {p.name: p.read_bytes() for p in (out / "figures").glob("*.png")} == before
     name = sorted(before)[0]
     edited = out / "figures" / name
@@ -215,3 +222,4 @@ def test_memo_redraw_reuses_unchanged_figures_but_not_edited_ones(tmp_path, writ
     r = RUNNER.invoke(app, ["memo", str(out), "--force"])
     assert r.exit_code == 0, r.output
     assert drawn == [name[:-4]] and edited.read_bytes() == before[name]
+    assert laid_out == [1]

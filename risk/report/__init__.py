@@ -33,12 +33,16 @@ def run_info(scenario_file: str, summary: dict[str, Any]) -> dict[str, Any]:
 
 
 def memo_files(summary: dict[str, Any], info: dict[str, Any], *,
-               reuse: dict[str, bytes] | None = None) -> dict[str, str | bytes]:
+               reuse: dict[str, bytes] | None = None,
+               previous: tuple[str, bytes] | None = None) -> dict[str, str | bytes]:
     """memo.html, memo.pdf and figures/*.png of a summary; the run date comes from run.json.
-    ``reuse``: figures written before, by name (kept where they would come out the same)."""
+    ``reuse``: figures written before, by name (kept where they would come out the same);
+    ``previous``: memo.html and memo.pdf written before (the PDF kept if the page is the
+    same)."""
     from risk.report.memo import build_memo
 
-    memo = build_memo({**summary, "run_date": info.get("run_date")}, reuse=reuse)
+    memo = build_memo({**summary, "run_date": info.get("run_date")}, reuse=reuse,
+                      previous=previous)
     files: dict[str, str | bytes] = {"memo.html": memo.html, "memo.pdf": memo.pdf}
     files.update({f"figures/{name}.png": png for name, png in memo.figures.items()})
     return files

@@ -367,3 +367,46 @@ def test_figures_of_the_same_results_are_reused_not_drawn(legacy, monkeypatch):
              for name, png in first.items()}  # a key that does not match
     figures.render_all(legacy, workers=1, reuse=stale)
     assert sorted(drawn) == sorted(first)
+
+
+def test_png_has_the_pixels_matplotlib_writes(legacy):
+    # The figures' PNGs are written as 8-bit RGB (no alpha) at a low zlib level; the reference
+    # is matplotlib's own PNG writer (savefig, RGBA) on the same figure drawn afresh: its alpha
+    # is opaque everywhere and its RGB pixels are the ones written here.
+    name = "failure_probability"
+    png = figures.render._png(_figure(figures.FIGURES[name](legacy)))
+    ref = io.BytesIO()
+    with figures.render._styled():
+        _figure(figures.FIGURES[name](legacy)).savefig(ref, format="png", dpi=figures.DPI)
+    ours, theirs = mpimg.imread(io.BytesIO(png)), mpimg.imread(io.BytesIO(ref.getvalue()))
+    assert png[24:26] == b"\x08\x02"  # bit depth 8, colour type 2: RGB (PNG spec, IHDR)
+    assert ours.shape == theirs.shape[:2] + (3,)
+    assert (theirs[..., 3] == 1.0).all() and np.array_equal(ours, theirs[..., :3])
+
+
+def test_figure_sizes_announced_before_drawing_are_the_png_sizes(legacy):
+    from risk.report.figures.background import draw_in_background
+
+    drawing = draw_in_background(legacy)
+    assert drawing is not None and drawing.wait_sizes()
+    sizes = dict(drawing.sizes)
+    pngs = drawing.result()
+    assert pngs == figures.render_all(legacy, workers=1)
+    # width and height from each PNG's IHDR chunk (PNG specification, sec. 11.2.2)
+    assert sizes == {name: (int.from_bytes(p[16:20], "big"), int.from_bytes(p[20:24], "big"))
+                     for name, p in pngs.items()}
+
+
+def test_no_background_drawing_where_no_child_may_start(legacy, monkeypatch):
+    # inside a daemonic process (a pool worker) multiprocessing refuses to start children
+    # (AssertionError, Python's multiprocessing.process.BaseProcess.start): the caller is
+    # told to draw in its own process instead of failing
+    import multiprocessing.process
+
+    from risk.report.figures.background import draw_in_background
+
+    def refuse(self: Any) -> None:
+        raise AssertionError("daemonic processes are not allowed to have children")
+
+    monkeypatch.setattr(multiprocessing.process.BaseProcess, "start", refuse)
+    assert draw_in_background(legacy) is None

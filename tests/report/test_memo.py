@@ -323,3 +323,39 @@ def test_distribution_text_keeps_units_whole():
     text = memo.sections._distribution(
         "lognormal(median 2600 psi, cov 0.2), normal(mean 0.98 psi/ft)")
     assert "2,600\u00a0psi" in text and "psi/\u2060ft" in text and "0.2)" in text
+
+
+@pytest.mark.slow
+def test_pdf_laid_out_while_figures_are_drawn_is_the_same(legacy):
+    """The PDF laid out around blank images while the figures are drawn in another process
+    (build_memo on a machine with an idle core) is byte for byte the one rendered after them;
+    figures reused from an earlier rendering are kept, and the HTML is the same."""
+    one = memo.build_memo(legacy, workers=1)
+    two = memo.build_memo(legacy, workers=2)
+    assert two == one
+    name = next(iter(one.figures))
+    kept = memo.build_memo(legacy, workers=2, reuse={name: one.figures[name]})
+    assert kept == one
+
+
+def test_pdf_page_refers_to_figures_by_name(perforated, perforated_figures):
+    """The PDF's page names each figure (no base64 to parse); the renderer serves the figures
+    it is given and no others: left without them, the PDF holds no figure."""
+    html = memo.render_html(perforated, perforated_figures, linked=True)
+    assert "data:image/png" not in html
+    assert all(f'src="risk-figure:{name}"' in html for name in perforated_figures)
+    served = memo.render_pdf(html, images=perforated_figures)
+    missing = memo.render_pdf(html, images={})
+    assert len(served) - len(missing) > sum(map(len, perforated_figures.values())) // 4
+
+
+@pytest.mark.slow
+def test_pdf_of_an_unchanged_memo_is_kept(legacy):
+    """`risk memo` with nothing changed: every figure reused and the same page, so the PDF
+    written before is kept as it is; a page that differs (another run date) is laid out."""
+    one = memo.build_memo(legacy, workers=1)
+    kept = memo.build_memo(legacy, reuse=one.figures, previous=(one.html, b"%PDF- before"))
+    assert kept.pdf == b"%PDF- before" and kept.html == one.html
+    later = {**legacy, "run_date": "2031-01-01 00:00 UTC"}
+    redone = memo.build_memo(later, reuse=one.figures, previous=(one.html, b"%PDF- before"))
+    assert redone.pdf.startswith(PDF_MAGIC) and redone.html != one.html

@@ -22,7 +22,9 @@ Layout (every public name is importable from this package):
 - ``directions``  shot-direction dials;
 - ``sensitivity`` Sobol/Shapley bars and the tornado;
 - ``inputs``      input histograms and rank correlation;
-- ``render``      the :data:`FIGURES` registry, PNG provenance and :func:`render_all`.
+- ``render``      the :data:`FIGURES` registry, PNG provenance and :func:`render_all`;
+- ``background``  figures drawn in a forked process, their sizes announced first (used by the
+                  memo; not re-exported here).
 
 Text formatting (:func:`format_value`, :func:`input_label`, :func:`output_name`) lives in
 :mod:`risk.report.formatting`, shared with the memo; it is re-exported here.

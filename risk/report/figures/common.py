@@ -5,6 +5,7 @@ small readers of the results dict (JSON numbers as floats, the mechanisms with f
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
@@ -79,7 +80,13 @@ def _hide_unused(axes: np.ndarray, used: int) -> None:
 
 def style() -> dict[str, Any]:
     """The rc settings every figure is drawn under (seaborn's "whitegrid" and "paper"
-    context, a bundled font so text renders the same on every machine)."""
+    context, a bundled font so text renders the same on every machine); a fresh copy of
+    :func:`_style`, which is built once per process (every figure enters it several times)."""
+    return dict(_style())
+
+
+@functools.lru_cache(maxsize=1)
+def _style() -> dict[str, Any]:
     rc: dict[str, Any] = dict(sns.axes_style("whitegrid"))
     rc.update(sns.plotting_context("paper", font_scale=1.0))
     rc.update({
@@ -105,7 +112,7 @@ def style() -> dict[str, Any]:
 
 @contextmanager
 def _styled() -> Iterator[None]:
-    with mpl.rc_context(style()):  # type: ignore[arg-type]
+    with mpl.rc_context(_style()):  # type: ignore[arg-type]
         yield
 
 

@@ -20,7 +20,9 @@ Layout (the public names are importable from this package):
 - ``opening``   the opening answer (sand-free limit, life-of-well gun, options) and summary;
 - ``sections``  scenario, results per mechanism, pore collapse, operating points,
                 sensitivity, reproducibility;
-- ``render``    the template context, HTML, PDF and :func:`build_memo`.
+- ``render``    the template context, HTML and :func:`build_memo`;
+- ``pdf``       the PDF (WeasyPrint): figures served by name, and the pages laid out while the
+                figures are drawn in another process.
 
 The Jinja2 templates stay in ``risk/report/templates/``.
 """

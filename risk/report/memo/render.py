@@ -14,9 +14,12 @@ from markupsafe import Markup
 
 from risk.errors import visible
 from risk.report.figures import DPI, render_all
+from risk.report.figures import render as figure_render
+from risk.report.figures.background import draw_in_background
 from risk.report.memo.calibration import CALIBRATION_ASSUMPTION, calibration_context
 from risk.report.memo.common import _angle_reference, _punit
 from risk.report.memo.opening import _answer, _summary
+from risk.report.memo.pdf import FIGURE_SCHEME, blank_png, pdf_alongside, render_pdf
 from risk.report.memo.sections import (
     _mechanism_sections,
     _operating_points,
@@ -59,8 +62,10 @@ def _png_width_in(png: bytes) -> str:
     return f"{int.from_bytes(png[16:20], 'big') / DPI:.3f}in"
 
 
-def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> dict[str, Any]:
-    """The template's view of the results: every number formatted with its unit."""
+def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes], *,
+                 linked: bool = False) -> dict[str, Any]:
+    """The template's view of the results: every number formatted with its unit (figures as
+    data URIs, or with ``linked`` as ``risk-figure:<name>`` references for the PDF)."""
     numbered: dict[str, dict[str, Any]] = {}
     for name in [*_FIGURE_ORDER, *(n for n in figures if n not in _FIGURE_ORDER)]:
         if name in figures:
@@ -68,7 +73,8 @@ def memo_context(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> di
                 "{angles}", _angle_reference(results))
             if name == "envelope" and results.get("operating_points"):
                 caption += " Crosses are the planned operating points."
-            numbered[name] = {"number": len(numbered) + 1, "uri": _data_uri(figures[name]),
+            numbered[name] = {"number": len(numbered) + 1, "uri": (FIGURE_SCHEME + name if linked
+                                                           else _data_uri(figures[name])),
                               "caption": caption,
                               "name": name, "width": _png_width_in(figures[name])}
     scenario = _scenario(results)
@@ -138,8 +144,11 @@ def _environment() -> Environment:
                        finalize=_shown)
 
 
-def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> str:
-    """The memo as one self-contained HTML page (figures as data URIs, CSS inline).
+def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes], *,
+                linked: bool = False) -> str:
+    """The memo as one self-contained HTML page (figures as data URIs, CSS inline; with
+    ``linked``, figures as ``risk-figure:<name>`` references, the page given to
+    :func:`render_pdf` with ``images``).
 
     Parameters
     ----------
@@ -149,38 +158,54 @@ def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes]) -> str
         PNG bytes by figure name (:func:`risk.report.figures.render_all`); figures missing
         here are left out of the memo.
     """
-    return _environment().get_template("memo.html.j2").render(memo_context(results, figures))
+    return _environment().get_template("memo.html.j2").render(
+        memo_context(results, figures, linked=linked))
 
 
-def render_pdf(html: str) -> bytes:
-    """The PDF of a memo page (WeasyPrint; A4, page numbers in the footer)."""
-    from weasyprint import HTML
-
-    fetcher: Any
-    try:  # WeasyPrint >= 66: a fetcher object that can refuse protocols
-        from weasyprint import URLFetcher
-
-        fetcher = URLFetcher(allowed_protocols=("data",))
-    except ImportError:  # pragma: no cover - older WeasyPrint: a fetcher function
-        from weasyprint import default_url_fetcher
-
-        def fetcher(url: str, *args: Any, **kwargs: Any) -> Any:
-            if not url.startswith("data:"):
-                raise ValueError(f"the memo loads no external resource ({url[:60]!r})")
-            return default_url_fetcher(url, *args, **kwargs)
-
-    # the memo is self-contained: anything but an embedded data URI is refused
-    pdf = HTML(string=html, url_fetcher=fetcher).write_pdf()
-    return bytes(pdf) if pdf is not None else b""
-
-
-def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None = None
+def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None = None,
+               workers: int | None = None, previous: tuple[str, bytes] | None = None
                ) -> Memo:
     """Figures, HTML and PDF of a run's memo, from its results dict alone (``reuse``: figures
-    drawn before, kept where they would come out the same: :func:`render_all`)."""
-    figures = render_all(results, reuse=reuse)
-    html = render_html(results, figures)
-    return Memo(html=html, pdf=render_pdf(html), figures=dict(figures))
+    drawn before, kept where they would come out the same: :func:`render_all`).
+
+    With ``workers`` > 1 (default: 2 where a second core is idle, as for
+    :func:`~risk.report.figures.render_all`) the figures are drawn in a forked process while
+    this one lays out the PDF's pages around images of their sizes
+    (:func:`~risk.report.memo.pdf.pdf_alongside`); the memo is the same as drawn one step after
+    the other.
+
+    ``previous``: the HTML and PDF of a memo rendered before (`risk memo` on a folder whose
+    files are as the tool wrote them). Where every figure is reused and the page comes out
+    the same (the same text, numbers and figure bytes), its PDF is returned as it is instead
+    of being laid out again (a memo re-rendered with nothing changed costs the HTML alone)."""
+    if previous is not None and reuse:
+        figures = render_all(results, reuse=reuse, workers=1)
+        html = render_html(results, figures)
+        if html == previous[0] and all(reuse.get(n) == png for n, png in figures.items()):
+            return Memo(html=html, pdf=previous[1], figures=dict(figures))
+        return Memo(html=html, pdf=render_pdf(render_html(results, figures, linked=True),
+                                              images=figures), figures=dict(figures))
+    n = figure_render._workers() if workers is None else int(workers)
+    if n > 1:
+        drawing = draw_in_background(results, reuse=reuse)
+        if drawing is not None:
+            import weasyprint  # noqa: F401 - loaded while the figures are being built
+
+            done = None
+            try:
+                if drawing.wait_sizes():
+                    blanks = {name: blank_png(w, h) for name, (w, h) in drawing.sizes.items()}
+                    done = pdf_alongside(render_html(results, blanks, linked=True), blanks,
+                                         drawing.result)
+            finally:
+                drawing.close()
+            if done is not None:
+                pdf, figures = done
+                return Memo(html=render_html(results, figures), pdf=pdf, figures=figures)
+    figures = render_all(results, reuse=reuse, workers=1)
+    return Memo(html=render_html(results, figures),
+                pdf=render_pdf(render_html(results, figures, linked=True), images=figures),
+                figures=dict(figures))
 
 
 def _solved_limits(results: Mapping[str, Any]) -> bool:
