@@ -122,3 +122,21 @@ def test_figures_draw_with_units_on_every_axis() -> None:
         labels = [lab for ax in fig.axes for lab in (ax.get_xlabel(), ax.get_ylabel()) if lab]
         assert labels
         assert all(re.search(r"\[[^\]]+\]", lab) for lab in labels), labels
+
+
+def test_figures_are_numbered_in_the_order_the_memo_shows_them() -> None:
+    # the value-of-information chart stands in the sensitivity section before the Sobol/Shapley
+    # charts, the calibration chart in its own later section: numbers must read 1, 2, 3, ...
+    import re
+
+    from risk.report.memo.render import render_html
+
+    res = _clear_gain()
+    res["sensitivity"] = {"effective_strength_onset": [
+        {"input": "ucs", "first": 0.6, "total": 0.7, "shapley": 0.65}]}
+    res["mechanisms"] = {"effective_strength_onset": {"name": "Effective-strength onset"}}
+    png = b"\x89PNG\r\n\x1a\n"
+    html = render_html(res, dict.fromkeys(("tornado", "calibration", "sensitivity",
+                                           "value_of_information"), png))
+    shown = [int(n) for n in re.findall(r"Figure (\d+)\.", html)]
+    assert shown and shown == sorted(shown), shown

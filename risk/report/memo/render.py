@@ -38,7 +38,7 @@ TEMPLATES: Final = Path(__file__).resolve().parent.parent / "templates"
 _FIGURE_ORDER: Final = ("sand_free", "input_histograms", "input_correlation", "failure_probability",
                         "envelope", "shot_directions", "tunnel_root", "water_weakening",
                         "tunnel_collapse", "pore_collapse",
-                        "sensitivity", "tornado")
+                        "value_of_information", "sensitivity", "tornado", "calibration")
 
 
 @dataclass(frozen=True)
