@@ -446,13 +446,20 @@ def _cap_slope(cols: Mapping[str, Array]) -> Array:
 
 
 def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario, *,
-                        rotation: str = "einsum") -> CompactionResult:
+                        rotation: str = "einsum", wall_path: str = "compiled") -> CompactionResult:
     """Pore collapse: far-field and wall critical reservoir pressures per sample [MPa], on the
     compaction cap (``compaction_cap = "modified-cam-clay"``, the default) or the mean
     effective stress (``"mean-stress"``), and the wall state at the largest drawdown.
-    ``rotation``: as in :func:`evaluate`."""
+    ``rotation``: as in :func:`evaluate`. ``wall_path``: how the largest compaction excess at
+    the walls is computed, "compiled" (the fused kernel of
+    :mod:`risk.mechanics._compaction_kernel`, the default) or "numpy" (the reference path:
+    :func:`risk.mechanics.stresses.wall_stresses` and
+    :func:`risk.mechanics.cap.wall_cap_excess` on every frame and wall angle); the same
+    operations in the same order, so the same results bit for bit."""
     if rotation not in ("einsum", "compiled"):
         raise ValueError(f"rotation must be 'einsum' or 'compiled', got {rotation!r}")
+    if wall_path not in ("compiled", "numpy"):
+        raise ValueError(f"wall_path must be 'compiled' or 'numpy', got {wall_path!r}")
     phys = physical_inputs(cols, scenario)
     nu = np.asarray(cols["poisson_ratio"], dtype=float)
     big_a = st.poroelastic_coefficient(biot=np.asarray(cols["biot"], dtype=float),
@@ -488,7 +495,7 @@ def evaluate_compaction(cols: Mapping[str, Array], scenario: Scenario, *,
         t = depleted_far_field(sv=sv, shmax=sh_max0, shmin=sh_min0, pore_pressure=p0, path=g,
                                path_shmax=g_big, shmax_azimuth=az, reservoir_pressure=p_r)
         loc = rotated(t)
-        if rotation == "compiled":  # the same arithmetic, fused (mechanics._compaction_kernel)
+        if wall_path == "compiled":  # the same arithmetic, fused (mechanics._compaction_kernel)
             return _wall_cap_compiled(loc, p_r - drawdown, p_r, a_, nu_, pstar,
                                       m_ if with_cap else np.full(np.shape(m_), np.inf), theta)
         loc = st.LocalStress(*(c[..., None] for c in loc))  # (..., frames, 1)
