@@ -335,8 +335,8 @@ def _root_onset(tensor: Array, nu: Array, u: Array, p_r: Array, big_a: Array,
                                  poisson_ratio=nu3)
         f1 = root.wellbore_field(zero, theta=th_shot, radius_ratio=ratio, wall_pressure=1.0,
                                  poisson_ratio=0.0)
-        pw, th = root.onset_wall_pressure(root.tunnel_local(f0, rot, in_plane_only=True),
-                                          root.tunnel_local(f1, rot, in_plane_only=True),
+        pw, th = root.onset_wall_pressure(root.tunnel_in_plane(f0, rot),
+                                          root.tunnel_in_plane(f1, rot),
                                           strength=u, reservoir_pressure=p_r,
                                           poro_coefficient=big_a)
         dc = sanding.classify_wall_pressure(pw, p_r)

@@ -49,7 +49,8 @@ from risk.mechanics.stresses import LocalStress
 Array = NDArray[np.float64]
 
 __all__ = ["ROOT_RADII", "WellboreField", "wellbore_field", "field_tensor", "root_stress",
-           "cylindrical_basis", "well_local", "tunnel_local", "onset_wall_pressure"]
+           "cylindrical_basis", "well_local", "tunnel_local", "tunnel_in_plane",
+           "onset_wall_pressure"]
 
 #: Radii along the tunnel, as multiples of the wellbore radius, at which the tunnel is checked
 #: in the wellbore's field: the root (1) and the first wellbore radii, where the concentration
@@ -159,6 +160,36 @@ def tunnel_local(field: WellboreField, rotation: ArrayLike, *, in_plane_only: bo
                        t[..., 0, 1], t[..., 0, 2], t[..., 1, 2])
 
 
+def tunnel_in_plane(field: WellboreField, rotation: ArrayLike) -> LocalStress:
+    """The in-plane components sxx, syy, sxy of :func:`tunnel_local` (the others nan) [MPa],
+    in closed form: for rows g, h of ``rotation`` (..., 3, 3) and the symmetric cylindrical
+    tensor C, s_gh = sum_ij g_i h_j C_ij, six products per component with coefficients that
+    depend on the rotation alone (S' = G C G^T written out; Fjaer et al. 2008, sec. 4.4).
+    Equal to :func:`tunnel_local` (the reference path: stacked 3 x 3 products) to rounding,
+    without its (..., 3, 3) temporaries."""
+    g = np.asarray(rotation, dtype=float)
+    comps = (field.rr, field.tt, field.zz, field.rt, field.tz, field.rz)
+
+    def coefficients(a: Array, b: Array) -> tuple[Array, ...]:
+        # sum_ij a_i b_j C_ij with C_ij = C_ji, grouped by the six distinct components
+        return (a[..., 0] * b[..., 0], a[..., 1] * b[..., 1], a[..., 2] * b[..., 2],
+                a[..., 0] * b[..., 1] + a[..., 1] * b[..., 0],
+                a[..., 1] * b[..., 2] + a[..., 2] * b[..., 1],
+                a[..., 0] * b[..., 2] + a[..., 2] * b[..., 0])
+
+    def contract(coef: tuple[Array, ...]) -> Array:
+        out = coef[0] * comps[0]
+        for c, f in zip(coef[1:], comps[1:], strict=True):
+            out = out + c * f
+        return np.asarray(out)
+
+    sxx = contract(coefficients(g[..., 0, :], g[..., 0, :]))
+    syy = contract(coefficients(g[..., 1, :], g[..., 1, :]))
+    sxy = contract(coefficients(g[..., 0, :], g[..., 1, :]))
+    nan = np.full(sxx.shape, np.nan)
+    return LocalStress(sxx, syy, nan, sxy, nan, nan)
+
+
 def _in_plane(loc0: LocalStress, loc1: LocalStress, p: Array) -> tuple[Array, Array, Array]:
     """Mean, half-difference and shear of the in-plane block at wall pressure p [MPa]."""
     sxx = loc0.sxx + p * loc1.sxx
@@ -198,7 +229,9 @@ def onset_wall_pressure(loc0: LocalStress, loc1: LocalStress, *, strength: Array
     def b(x: ArrayLike) -> Array:  # flattened to 1-D (0-d inputs included)
         return np.broadcast_to(np.asarray(x, dtype=float), shape).reshape(-1)
 
-    m0, h0, e0 = (b(v) for v in _in_plane(loc0, loc1, np.zeros(())))
+    # the in-plane block at p = 0 is loc0's own (adding p loc1 = 0 changes no value)
+    m0, h0, e0 = (b(v) for v in (0.5 * (loc0.sxx + loc0.syy), 0.5 * (loc0.sxx - loc0.syy),
+                                 loc0.sxy))
     m1 = b(0.5 * (loc1.sxx + loc1.syy))
     h1 = b(0.5 * (loc1.sxx - loc1.syy))
     e1 = b(loc1.sxy)
