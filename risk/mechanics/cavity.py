@@ -329,7 +329,7 @@ def _flow_coefficient(psi: Array) -> Array:
 def _wall_kinematics(
     *, rho: Array, rho_a: Array, s_r: Array, k1_integral: Array, big_g: Array, log_e: Array,
     drawdown: Array, s0: Array, m: Array, e_mod: Array, nu: Array, biot: Array,
-    hoop_wall: Array,
+    hoop_wall: Array, rho_a_k1: Array | None = None,
 ) -> tuple[Array, Array]:
     """Wall convergence u_w/r_w and wall plastic hoop strain [1] (derived, module docstring).
 
@@ -337,16 +337,20 @@ def _wall_kinematics(
     ``k1_integral = int_1^rho x^m s'_r(x) dx`` [MPa], ``m = K_psi``. Uses the identity
     ``d(x^(m+1) s'_r)/dx = x^m (m s'_r + s'_theta - G [x <= rho_e])`` to remove the hoop-stress
     integral, and integrates ``d(x^m u)/dx = x^m (e^e_r + m e^e_theta)`` from R to the wall.
+    ``rho_a_k1``: ``rho_a**(m + 1)`` when the caller has it already (the same value).
     """
     k1 = m + 1.0
     rho_k1 = rho**k1
+    if rho_a_k1 is None:
+        rho_a_k1 = rho_a**k1
+    log_a = np.log(rho_a)
     k3 = (rho_k1 - 1.0) / k1                                   # int_1^rho x^m dx
-    k3a = (rho_a**k1 - 1.0) / k1                               # int_1^rho_a x^m dx
+    k3a = (rho_a_k1 - 1.0) / k1                                # int_1^rho_a x^m dx
     # int_1^rho_a x^m dp dx with dp = G ln(x/rho_e)
-    f_a = rho_a**k1 * ((np.log(rho_a) - log_e) / k1 - 1.0 / k1**2)
+    f_a = rho_a_k1 * ((log_a - log_e) / k1 - 1.0 / k1**2)
     f_1 = -log_e / k1 - 1.0 / k1**2
     k4 = big_g * (f_a - f_1)
-    dp_r = big_g * (np.log(rho_a) - log_e)                     # p(R) - p_r
+    dp_r = big_g * (log_a - log_e)                             # p(R) - p_r
     hoop_integral = rho_k1 * s_r - m * k1_integral + big_g * k3a
     c_r = (1.0 - nu) - nu * m
     c_t = m * (1.0 - nu) - nu
@@ -383,27 +387,44 @@ def _finish(
 # Mohr-Coulomb
 # ----------------------------------------------------------------------------------------------
 
-def _mc_state(
-    sigma0: Array, p_r: Array, p_w: Array, r_w: Array, r_e: Array, ucs: Array, q: Array,
-    m: Array, e_mod: Array, nu: Array, biot: Array,
-) -> _State:
-    """Closed-form Mohr-Coulomb cavity with seepage (module docstring; derived)."""
+def _mc_invariants(sigma0: Array, p_r: Array, r_w: Array, r_e: Array, ucs: Array, q: Array,
+                   m: Array, nu: Array, biot: Array) -> tuple[Array, ...]:
+    """The terms of :func:`_mc_state` that do not depend on the wall pressure (computed once
+    per root search instead of once per iterate; the same values)."""
     with np.errstate(all="ignore"):
         log_e = np.log(r_e / r_w)
-        drawdown = p_r - p_w
-        big_g = drawdown / log_e
         s0 = sigma0 - p_r
         big_a = biot * (1.0 - 2.0 * nu) / (1.0 - nu)
         n = q - 1.0
+        rho_e = r_e / r_w
+        x_e = np.exp(n * log_e)                                   # rho_e^n
+        s_nf = (2.0 * s0 - ucs) / (1.0 + q)                       # s'_r(R) when R > r_e
+        k1, kn = m + 1.0, m + n + 1.0
+        return log_e, s0, big_a, n, rho_e, x_e, s_nf, k1, kn, rho_e**kn, rho_e**k1
+
+
+def _mc_state(
+    sigma0: Array, p_r: Array, p_w: Array, r_w: Array, r_e: Array, ucs: Array, q: Array,
+    m: Array, e_mod: Array, nu: Array, biot: Array, *, invariants: tuple[Array, ...] | None = None,
+    lean: bool = False,
+) -> Any:
+    """Closed-form Mohr-Coulomb cavity with seepage (module docstring; derived).
+
+    ``invariants``: :func:`_mc_invariants` of the same inputs, when the caller keeps them.
+    ``lean``: return only (yielded, unstable, raw wall plastic strain, elastic wall hoop
+    stress), all that the collapse margin needs, instead of the :class:`_State`."""
+    with np.errstate(all="ignore"):
+        if invariants is None:
+            invariants = _mc_invariants(sigma0, p_r, r_w, r_e, ucs, q, m, nu, biot)
+        log_e, s0, big_a, n, rho_e, x_e, s_nf, k1, kn, rho_e_kn, rho_e_k1 = invariants
+        drawdown = p_r - p_w
+        big_g = drawdown / log_e
         hoop_el = _elastic_wall(s0, drawdown, big_a)
         yielded = hoop_el > ucs
         unstable = yielded & (big_g >= ucs)
 
         beta = (ucs - big_g) / n
-        rho_e = r_e / r_w
-        x_e = np.exp(n * log_e)                                   # rho_e^n
         s_e = beta * (x_e - 1.0)                                  # s'_r at r_e (log profile)
-        s_nf = (2.0 * s0 - ucs) / (1.0 + q)                       # s'_r(R) when R > r_e
         beyond = yielded & ~unstable & (s_e < s_nf)
 
         # R <= r_e:  a1 x + b1 ln x = c1 with x = (R/r_w)^n
@@ -412,7 +433,16 @@ def _mc_state(
         c1 = n * (hoop_el - ucs) + a1
         tiny = b1 <= 1e-10 * a1
         safe_b1 = np.where(tiny, 1.0, b1)
-        omega = wrightomega(c1 / safe_b1 + np.log(a1 / safe_b1))
+        arg = c1 / safe_b1 + np.log(a1 / safe_b1)
+        # omega only where the plastic radius inside r_e uses it (a scalar function applied
+        # element by element, so the same values on a subset; about 70 ns an element)
+        use = yielded & ~tiny
+        if np.all(use):
+            omega = wrightomega(arg)
+        else:
+            omega = np.ones_like(arg)
+            if np.any(use):
+                omega[use] = wrightomega(arg[use])
         x = np.where(tiny, c1 / a1, safe_b1 / a1 * omega)
         for _ in range(2):                                        # Newton polish
             x = x - (a1 * x + b1 * np.log(x) - c1) / (a1 + b1 / x)
@@ -427,16 +457,19 @@ def _mc_state(
         rho_a = np.minimum(rho, rho_e)
         s_r = np.where(beyond, s_nf, beta * (rho**n - 1.0))
         # int_1^rho x^m s'_r dx, zone A then zone B
-        k1, kn = m + 1.0, m + n + 1.0
-        k1_a = beta * ((rho_a**kn - 1.0) / kn - (rho_a**k1 - 1.0) / k1)
+        rho_a_k1 = rho_a**k1
+        k1_a = beta * ((rho_a**kn - 1.0) / kn - (rho_a_k1 - 1.0) / k1)
         rho_b = np.where(beyond, rho, rho_e)
         c_b = s_e + ucs / n
-        k1_b = (c_b * (rho_b**kn - rho_e**kn) / (kn * x_e)
-                - ucs / n * (rho_b**k1 - rho_e**k1) / k1)
+        k1_b = (c_b * (rho_b**kn - rho_e_kn) / (kn * x_e)
+                - ucs / n * (rho_b**k1 - rho_e_k1) / k1)
         k1_int = k1_a + np.where(beyond, k1_b, 0.0)
         u_w, eps_p = _wall_kinematics(
             rho=rho, rho_a=rho_a, s_r=s_r, k1_integral=k1_int, big_g=big_g, log_e=log_e,
-            drawdown=drawdown, s0=s0, m=m, e_mod=e_mod, nu=nu, biot=biot, hoop_wall=ucs)
+            drawdown=drawdown, s0=s0, m=m, e_mod=e_mod, nu=nu, biot=biot, hoop_wall=ucs,
+            rho_a_k1=rho_a_k1)
+        if lean:
+            return yielded, unstable, eps_p, hoop_el
         return _finish(yielded=yielded, unstable=unstable, beyond=beyond, rho=rho, u_w=u_w,
                        eps_p=eps_p, hoop_el=hoop_el, hoop_yield=ucs, s0=s0, drawdown=drawdown,
                        e_mod=e_mod, nu=nu)
@@ -910,9 +943,18 @@ def seepage_limit_wall_pressure(
 
 
 def _margin_mc(p_w: Array, sigma0: Array, p_r: Array, r_w: Array, r_e: Array, ucs: Array,
-               q: Array, m: Array, e_mod: Array, nu: Array, biot: Array, crit: Array) -> Array:
-    st = _mc_state(sigma0, p_r, p_w, r_w, r_e, ucs, q, m, e_mod, nu, biot)
-    return _margin(st, ucs, e_mod, nu, crit)
+               q: Array, m: Array, e_mod: Array, nu: Array, biot: Array, crit: Array,
+               *invariants: Array) -> Array:
+    """Collapse margin of :func:`_margin` for Mohr-Coulomb; ``invariants`` (optional): the
+    :func:`_mc_invariants` of the same inputs. The same values as _margin(_mc_state(...)):
+    the states it leaves out (unstable, overflowing) are 1 either way."""
+    yielded, unstable, eps_p, hoop_el = _mc_state(
+        sigma0, p_r, p_w, r_w, r_e, ucs, q, m, e_mod, nu, biot,
+        invariants=invariants or None, lean=True)
+    with np.errstate(all="ignore"):
+        ext = np.where(yielded, eps_p, (1.0 + nu) * (hoop_el - ucs) / e_mod)
+        out = ext - crit
+    return np.asarray(np.where(unstable | ~np.isfinite(out), 1.0, out), dtype=float)
 
 
 def _margin_hb(p_w: Array, sigma0: Array, p_r: Array, r_w: Array, r_e: Array, sci: Array,
@@ -1024,7 +1066,9 @@ def collapse_wall_pressure(
     if criterion == "mohr-coulomb":
         _check_mc(v)
         margin = _margin_mc
-        args = (*base, v["ucs"], passive_coefficient(v["friction_angle"]), m, *elastic)
+        q = passive_coefficient(v["friction_angle"])
+        args = (*base, v["ucs"], q, m, *elastic,
+                *_mc_invariants(*base, v["ucs"], q, m, v["poisson_ratio"], v["biot"]))
         unconfined = v["ucs"]
     else:
         _check_hb(v)

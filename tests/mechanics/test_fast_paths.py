@@ -81,3 +81,37 @@ def test_tunnel_in_plane_equals_stacked_products_reference() -> None:
     assert np.all(np.isnan(got.szz)) and np.all(np.isnan(got.sxz)) and np.all(np.isnan(got.syz))
     # not vacuous: the rotations mix the components (sxx is not the radial stress)
     assert float(np.std(got.sxx - field.rr)) > 1.0
+
+
+def test_collapse_margin_equals_full_state_reference() -> None:
+    # the tunnel-collapse search's margin (wall-pressure invariants kept, only the terms the
+    # margin reads) against the reference composition margin(full cavity state) of
+    # risk.mechanics.cavity, bit for bit, on elastic, yielded, beyond-drainage-radius and
+    # seepage-unstable walls (the closed-form Mohr-Coulomb cavity with seepage of the module
+    # docstring; Risnes, Bratli & Horsrud 1982 for the seepage force)
+    from risk.mechanics import cavity
+    from risk.mechanics.criteria import passive_coefficient
+
+    rng = np.random.default_rng(5)
+    n = 20_000
+    p_r = rng.uniform(10.0, 30.0, n)
+    p_w = p_r * rng.uniform(0.0, 1.0, n)
+    sigma0 = p_r + rng.uniform(5.0, 40.0, n)
+    r_w = rng.uniform(0.005, 0.01, n)
+    r_e = np.where(rng.uniform(size=n) < 0.3, r_w * rng.uniform(1.5, 4.0, n),
+                   rng.uniform(10.0, 200.0, n))
+    ucs = rng.uniform(5.0, 40.0, n)
+    q = passive_coefficient(np.radians(rng.uniform(25.0, 40.0, n)))
+    psi = np.radians(rng.uniform(0.0, 15.0, n))
+    m = (1.0 + np.sin(psi)) / (1.0 - np.sin(psi))
+    e_mod, nu = rng.uniform(2e3, 2e4, n), rng.uniform(0.15, 0.35, n)
+    biot, crit = rng.uniform(0.6, 1.0, n), rng.uniform(0.005, 0.03, n)
+    full = cavity._mc_state(sigma0, p_r, p_w, r_w, r_e, ucs, q, m, e_mod, nu, biot)
+    ref = cavity._margin(full, ucs, e_mod, nu, crit)
+    args = (sigma0, p_r, r_w, r_e, ucs, q, m, e_mod, nu, biot, crit)
+    inv = cavity._mc_invariants(sigma0, p_r, r_w, r_e, ucs, q, m, nu, biot)
+    assert np.array_equal(cavity._margin_mc(p_w, *args, *inv), ref)
+    assert np.array_equal(cavity._margin_mc(p_w, *args), ref)
+    # every kind of wall is in the sample (the check is not vacuous)
+    assert np.any(~full.yielded) and np.any(full.unstable) and np.any(full.beyond)
+    assert np.any(full.yielded & ~full.unstable & ~full.beyond)
