@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 from numba import njit, types
 
 _LOC = types.Array(types.float64, 2, "C", readonly=True)
@@ -38,6 +39,7 @@ def wall_cap_max(sxx, syy, szz, sxy, sxz, syz, p_r, p_w, big_a, nu, p_star, m_sl
     """
     n, n_f = sxx.shape
     n_t = cos_t.shape[0]
+    buf = np.empty(n_t)
     for i in range(n):
         pw = p_w[i]
         inflow = big_a[i] * (p_r[i] - pw)
@@ -48,17 +50,22 @@ def wall_cap_max(sxx, syy, szz, sxy, sxz, syz, p_r, p_w, big_a, nu, p_star, m_sl
             dxy = 2.0 * (sxx[i, f] - syy[i, f])
             qxy = 4.0 * sxy[i, f]
             sum_xy = sxx[i, f] + syy[i, f]
+            zz, xz, yz, nu_i = szz[i, f], sxz[i, f], syz[i, f], nu[i]
+            # every angle first, without branches (the loop vectorises: the same IEEE
+            # operations on every lane, so the same values), then the largest
             for k in range(n_t):
                 dev = dxy * cos_2t[k] + qxy * sin_2t[k]
                 hoop = sum_xy - dev - pw - inflow
-                axial = szz[i, f] - nu[i] * dev - inflow
-                shear = 2.0 * (syz[i, f] * cos_t[k] - sxz[i, f] * sin_t[k])
+                axial = zz - nu_i * dev - inflow
+                shear = 2.0 * (yz * cos_t[k] - xz * sin_t[k])
                 s_t = hoop - pw
                 s_z = axial - pw
                 tr = s_t + s_z
                 q = math.sqrt(max(tr * tr - 3.0 * (s_t * s_z - shear * shear), 0.0))
                 ratio = q / mm
-                e = tr / 3.0 - half - math.sqrt(max(half * half - ratio * ratio, 0.0))
+                buf[k] = tr / 3.0 - half - math.sqrt(max(half * half - ratio * ratio, 0.0))
+            for k in range(n_t):
+                e = buf[k]
                 if e > best or e != e:
                     best = e
                 if best != best:
