@@ -1,4 +1,4 @@
-"""Compiled largest compaction excess at any cavity wall, for the log runs' pore collapse.
+"""Compiled largest compaction excess at any cavity wall, for every run's pore collapse.
 
 For each case: the wall stresses of :func:`risk.mechanics.stresses.wall_stresses` (generalized
 Kirsch at the wall with the steady inflow term) at every frame and wall angle, the compaction
