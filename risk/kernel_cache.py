@@ -34,7 +34,8 @@ __all__ = ["CacheChoice", "choose", "configure", "choice", "warm_up", "COMPILING
 COMPILING = ("compiling the yield-onset kernels (once per machine and version, about 15-60 s; "
              "`risk warm-up` does it ahead of a run)...")
 #: The compiled modules, in the order they are loaded.
-KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel")
+KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel",
+                  "risk.mechanics._arc_kernel")
 
 _MECHANICS = Path(__file__).resolve().parent / "mechanics"
 

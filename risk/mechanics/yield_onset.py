@@ -262,6 +262,11 @@ def _theta_from_psi(psi: Array, out: tuple[int, ...], order: tuple[int, ...],
     return np.transpose(theta.reshape(out), inverse).reshape(shape)
 
 
+#: Criteria with a closed-form crossing at one angle, searched on the half circle
+#: (:mod:`risk.mechanics._arc_kernel`).
+_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed")
+
+
 def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
     """Any criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
@@ -275,7 +280,14 @@ def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: st
         [sxx + syy, sxx - syy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, *strength], shape)
     size = int(np.prod(out))
     p_k, psi = np.empty(size), np.empty(size)
-    onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
+    if criterion in _ARC:
+        from risk.mechanics._arc_kernel import arc_onset
+
+        cos2 = np.empty(size)
+        arc_onset(*views, CODES[criterion], n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
+        psi = np.arctan2(psi, cos2, out=psi)  # nan where never
+    else:
+        onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
     inverse = tuple(int(i) for i in np.argsort(order))
     p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, _theta_from_psi(psi, out, order, shape))
