@@ -269,11 +269,21 @@ _ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager
 
 def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
-    """Any criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
-    from risk.mechanics._onset_kernel import CODES, onset
-
+    """Any criterion but Mohr-Coulomb by its compiled path: Hoek-Brown by
+    :func:`_compiled_hoek_brown`, the others by :func:`_compiled_kernels`."""
     if n_theta < 3:
         raise ValueError(f"n_theta must be at least 3; found {n_theta}")
+    if criterion == "hoek-brown":
+        return _compiled_hoek_brown(arrays, shape, n_theta)
+    return _compiled_kernels(arrays, shape, criterion, n_theta)
+
+
+def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: str,
+                      n_theta: int) -> OnsetResult:
+    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`), any other
+    criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
+    from risk.mechanics._onset_kernel import CODES, onset
+
     sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0 = arrays[:10]
     strength = arrays[10:15]  # UCS, friction angle, m_b, s, a
     views, out, order = _folded_views(
@@ -291,6 +301,40 @@ def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: st
     inverse = tuple(int(i) for i in np.argsort(order))
     p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, _theta_from_psi(psi, out, order, shape))
+
+
+def _compiled_hoek_brown(arrays: list[Array], shape: tuple[int, ...], n_theta: int
+                         ) -> OnsetResult:
+    """Hoek-Brown: on walls compressive all round the Mohr-Coulomb kernel, elsewhere the
+    compiled envelope iteration.
+
+    On a wall whose hoop-axial block is compressive all round at p_r (and so below it: the
+    smaller principal stress does not fall as the wall pressure falls) s3 is the zero radial
+    stress, so Hoek-Brown reads s1 = sigma_ci s^a: the Mohr-Coulomb branch F_a = hi - UCS with
+    UCS = sigma_ci s^a, which is all the Mohr-Coulomb kernel uses on such walls
+    (docs/derivations.md, sec. 15.2). The test of compressive walls is the kernel's own
+    sufficient test, with a margin of 1e-9 MPa so rounding never sends a wall it treats as
+    having a tensile sector down this path.
+    """
+    sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0, ucs, phi, _, hb_s, hb_a = arrays[:15]
+    unconfined = ucs * np.power(hb_s, hb_a)  # sigma_ci s^a [MPa]
+    mc = _compiled_mohr_coulomb([sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0,
+                                 unconfined, phi], shape)
+    amp = np.sqrt((2.0 * (sxx - syy)) ** 2 + (4.0 * sxy) ** 2)  # |hoop deviator| bound
+    tmax = 2.0 * np.sqrt(sxz * sxz + syz * syz)  # |hoop-axial shear| bound
+    k0 = sxx + syy - big_a * p_r
+    z0 = szz - big_a * p_r
+    comp = ((k0 - amp - (2.0 - big_a) * p_r - tmax >= 1e-9)
+            & (z0 - nu * amp - (1.0 - big_a) * p_r - tmax >= 1e-9))
+    comp = np.broadcast_to(comp, shape)
+    if comp.all():
+        return mc
+    p_wc, theta = mc.wall_pressure.copy(), mc.theta.copy()
+    rest = ~comp
+    sub = [np.broadcast_to(a, shape)[rest] for a in arrays]
+    gen = _compiled_kernels(sub, sub[0].shape, "hoek-brown", n_theta)
+    p_wc[rest], theta[rest] = gen.wall_pressure, gen.theta
+    return OnsetResult(p_wc, theta)
 
 
 def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,
