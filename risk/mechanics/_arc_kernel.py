@@ -11,12 +11,13 @@ Value at one angle
     stresses are 0 and m +- r (mean m, half difference h of the hoop and axial stresses,
     r^2 = h^2 + w, w the squared hoop-axial shear). Drucker-Prager reads
     F = sqrt((m^2 + 3 r^2)/3) - k - 2 lambda m (J2 and I1 of those principal stresses),
-    convex in the stress, so at one angle the failing wall pressures in [0, p_r] are [0, v]
-    and v is a root of a quadratic in p (docs/derivations.md, sec. 15), polished by one Newton
-    step. The value searched is v where F(0) >= 0 > F(p_r), p_r + F(p_r) where the angle fails
-    with no drawdown and F(0) < 0 where it never fails: continuous in the angle, and its slope
-    (-F_psi/F_p at the root, F_psi at the ends) keeps its sign across the joins
-    (docs/derivations.md, sec. 15.1).
+    convex in the stress, so at one angle the safe wall pressures form an interval; where it
+    holds p_r, the failing ones in [0, p_r] are [0, v] and v is a root of a quadratic in p
+    (docs/derivations.md, sec. 15), polished by one Newton step. The value searched is v where
+    F(0) >= 0 > F(p_r), p_r + F(p_r) where the angle fails with no drawdown and F(0) < 0 where
+    it never fails: continuous in the angle where F(p_r) < 0, and its slope (-F_psi/F_p at
+    the root, F_psi at the ends) keeps its sign across the joins (docs/derivations.md,
+    sec. 15.1).
 
 Where to look for the worst angle
     F is convex in the stress and even in the hoop-axial shear, so at fixed hoop and axial
@@ -32,10 +33,13 @@ Search
     changes of the slope; a case with one bracket takes, as in the Mohr-Coulomb kernel, a
     cubic Hermite step then Anderson-Bjorck regula falsi steps on the slope (Anderson & Bjorck
     1973, BIT 13, 253), every case alike and branch-free so the loops vectorise, and Brent's
-    zero finder (Brent 1973, ch. 4) where those have not converged. Cases whose grid shows two
-    or more maxima, and walls whose tensile cut-off may be passed with no drawdown (a cheap
-    bound over every angle), take the general envelope iteration of
-    :mod:`risk.mechanics._onset_kernel` (the previous compiled path) instead.
+    zero finder (Brent 1973, ch. 4) where those have not converged. Where the value found is
+    below p_r, F at p_r and the tensile cut-off's -lo at p_r are maximised on the half circle
+    by the same search (an angle can fail with no drawdown but not at full drawdown, in a
+    sector the value's grid can miss: docs/derivations.md, sec. 15.1), each only where a cheap
+    bound over every angle does not rule it out. Cases whose grid shows two maxima or more
+    take the general envelope iteration of :mod:`risk.mechanics._onset_kernel` (the previous
+    compiled path) instead.
 
 References
 ----------
@@ -276,10 +280,14 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             vv[o + r] = v
             gg[o + r] = g
     # per case: the best grid point, and the bracket of the best sign change of the slope
-    # from + to - (the slope points inwards at both ends, derived: signs forced there)
+    # from + to - (the slope points inwards at both ends, derived: signs forced there). Each
+    # bracket's peak lies between the larger end value and the height where the tangents at
+    # its ends meet (exact where the value is concave there), inflated by half the gap; a
+    # case where another bracket's upper estimate reaches the best bracket's lower one is
+    # ambiguous (flag 2)
     for r in range(cnt):
         best, tb = vv[r], -1.0
-        npk, key = 0.0, -np.inf
+        npk, key, key_up, other_up = 0.0, -np.inf, -np.inf, -np.inf
         v_prev, g_prev = vv[r], max(gg[r], 1e-300)
         for j in range(1, _GRID + 1):
             v = vv[j * cnt + r]
@@ -289,13 +297,23 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
                 best, tb = v, -1.0 + j * step
             if g_prev > 0.0 and g <= 0.0:
                 npk += 1.0
-                kv = max(v, v_prev)
-                if kv > key:
-                    key = kv
-                    lo[r], hi[r] = -1.0 + (j - 1) * step, -1.0 + j * step
+                ta, tc = -1.0 + (j - 1) * step, -1.0 + j * step
+                sa = g_prev * 2.0 / (1.0 + ta * ta)  # dv/dt at the ends
+                sc = g * 2.0 / (1.0 + tc * tc)
+                xm = min(max((v - v_prev - sc * step) / (sa - sc), 0.0), step)
+                low = max(v, v_prev)
+                up = max(v_prev + sa * xm, low)
+                up += 0.5 * (up - low)
+                if low > key:
+                    other_up = max(other_up, key_up)
+                    key, key_up = low, up
+                    lo[r], hi[r] = ta, tc
                     fl[r], fh[r], vl[r], vh[r] = g_prev, g, v_prev, v
+                else:
+                    other_up = max(other_up, up)
             v_prev, g_prev = v, g
-        bv[r], bx[r], peaks[r] = best, tb, npk
+        bv[r], bx[r] = best, tb
+        peaks[r] = 2.0 if other_up >= key else 1.0
     # first step: the root of the quadratic slope of the cubic Hermite model of the value
     # between the bracket's ends, kept to the middle 90 % (a bisection where it has none).
     # Each step is three loops: the points, their values and slopes, the update (a loop

@@ -22,16 +22,24 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
   a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
   arguments, and on the remaining arc it is the root of the closed form's slope.
-- **the other criteria**: the envelope iteration (Notes of :func:`critical_wall_pressure`),
-  compiled by default (:mod:`risk.mechanics._onset_kernel`, one case per loop iteration, the
-  Drucker-Prager crossing at one angle in closed form); its numpy form is kept as the reference
-  path (``compiled=False``): bracketed roots in the wall pressure (Chandrupatla 1997,
+- **Drucker-Prager** (three matchings): a compiled kernel built like the Mohr-Coulomb one
+  (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in closed form, the worst
+  angle on a derived half circle (docs/derivations.md, sec. 15.1).
+- **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
+  with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
+  below.
+- **the other criteria** (Mogi-Coulomb, modified Lade): the envelope iteration (Notes of
+  :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
+  one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
+  is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):
+  bracketed roots in the wall pressure (Chandrupatla 1997,
   ``scipy.optimize.elementwise.find_root``) and maxima over ``n_theta`` grid angles refined by
   parabolic steps on shrinking brackets.
 
 The numpy iteration agrees with the Mohr-Coulomb kernel to 1e-8 MPa
-(tests/mechanics/test_yield_onset.py) and with the compiled iteration to 1e-9 MPa on every
-criterion (tests/mechanics/test_onset_kernel.py).
+(tests/mechanics/test_yield_onset.py) and with every compiled path to 1e-9 MPa on every
+criterion (tests/mechanics/test_onset_kernel.py; the compiled envelope iteration itself in
+tests/mechanics/test_arc_kernel.py).
 
 Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with no drawdown and
 ``p_wc = -inf`` when it does not fail for any wall pressure in [0, p_r] ("never").
@@ -146,9 +154,9 @@ def critical_wall_pressure(
         Number of wall angles in the bracketing grid over [0, pi) of the envelope iteration
         (criteria other than Mohr-Coulomb).
     compiled : bool
-        Criteria other than Mohr-Coulomb: the compiled envelope iteration
-        (:mod:`risk.mechanics._onset_kernel`, the default) or the numpy one (False: the
-        reference path, kept for checks). Mohr-Coulomb always takes its own kernel.
+        Criteria other than Mohr-Coulomb: the compiled paths (the default; module docstring)
+        or the numpy envelope iteration (False: the reference path, kept for checks).
+        Mohr-Coulomb always takes its own kernel.
 
     Returns
     -------
