@@ -191,16 +191,18 @@ def _shear_r(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, pp
 @_jit_inline
 def _shear_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float, w1: float,
                  w2: float, bt: float, bz: float, nu: float, kk: float, lam2: float) -> float:
-    """An upper bound over every wall angle of F at wall pressure p, from the ranges of m, h
-    and w over the angle (cheap; skips the search where it cannot reach zero)."""
+    """An upper bound over every wall angle of F at wall pressure p (cheap; skips searches
+    that cannot reach zero): with |dev| <= amp, m lies in [m_lo, m_hi] and r^2 <= h_max^2 +
+    w_max, and sqrt((m^2 + 3 r^2)/3) - 2 lambda m is convex in m, so largest at an end."""
     amp = math.sqrt(pp * pp + qq * qq)  # |dev| <= amp
     mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
-    m_min = mc - 0.5 * (1.0 + nu) * amp
-    m_max = mc + 0.5 * (1.0 + nu) * amp
+    m_lo = mc - 0.5 * (1.0 + nu) * amp
+    m_hi = mc + 0.5 * (1.0 + nu) * amp
     h_max = abs(0.5 * (k0 - z0) - 0.5 * p) + 0.5 * (1.0 - nu) * amp
-    w_max = w0 + math.sqrt(w1 * w1 + w2 * w2)
-    m2 = max(m_min * m_min, m_max * m_max)
-    return math.sqrt((m2 + 3.0 * (h_max * h_max + w_max)) * _THIRD) - kk - lam2 * m_min
+    r2 = 3.0 * (h_max * h_max + w0 + math.sqrt(w1 * w1 + w2 * w2))
+    f_lo = math.sqrt((m_lo * m_lo + r2) * _THIRD) - lam2 * m_lo
+    f_hi = math.sqrt((m_hi * m_hi + r2) * _THIRD) - lam2 * m_hi
+    return max(f_lo, f_hi) - kk
 
 
 @_jit_inline
@@ -530,9 +532,25 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
                     i += 1
         (k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm, sm,
          sg) = _setup_block(x[0], x[1], x[2], x[3], x[4], x[5], x[6], x[7], x[8], x[9], x[10])
-        bv, bx, flag = np.empty(cnt), np.empty(cnt), np.empty(cnt)
-        lo, hi = _search_value(k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm, sm,
-                               sg, bv, bx, flag)
+        # the value's search, on the cases that may fail at full drawdown (where a bound of
+        # F at 0 over every angle is negative, the value is negative at every angle: never,
+        # unless the wall fails with no drawdown, decided below)
+        bv, bx, flag = np.full(cnt, -1.0), np.zeros(cnt), np.zeros(cnt)
+        lo, hi = np.zeros(cnt), np.zeros(cnt)
+        sel = np.empty(cnt, dtype=np.bool_)
+        for r in range(cnt):
+            sel[r] = _shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r],
+                                  bz[r], nuv[r], kk[r], lam2[r]) >= 0.0
+        idx = np.nonzero(sel)[0]
+        if idx.size == cnt:
+            lo, hi = _search_value(k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
+                                   sm, sg, bv, bx, flag)
+        elif idx.size:
+            sv, sx, sf = np.empty(idx.size), np.empty(idx.size), np.empty(idx.size)
+            slo, shi = _search_value(k0[idx], z0[idx], pp[idx], qq[idx], w0[idx], w1[idx],
+                                     w2[idx], bt[idx], bz[idx], nuv[idx], prv[idx], kk[idx],
+                                     lam2[idx], cm[idx], sm[idx], sg[idx], sv, sx, sf)
+            bv[idx], bx[idx], flag[idx], lo[idx], hi[idx] = sv, sx, sf, slo, shi
         for r in range(cnt):
             if flag[r] == 1.0:
                 k = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r], nuv[r],
@@ -553,7 +571,6 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             j, m = rem // n2, rem % n2
             tq[r] = t0[i, j, m]
         for kind in (_SHEAR_R, _TENSION):
-            sel = np.zeros(cnt, dtype=np.bool_)
             for r in range(cnt):
                 if kind == _SHEAR_R:
                     bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
