@@ -30,16 +30,17 @@ Where to look for the worst angle
 Search
     The half circle is parametrised by the half-angle tangent t in [-1, 1] from its middle
     direction. A grid of _GRID + 1 values of t (values and slopes) brackets the maxima by sign
-    changes of the slope; a case with one bracket takes, as in the Mohr-Coulomb kernel, a
+    changes of the slope; the best bracket takes, as in the Mohr-Coulomb kernel, a
     cubic Hermite step then Anderson-Bjorck regula falsi steps on the slope (Anderson & Bjorck
     1973, BIT 13, 253), every case alike and branch-free so the loops vectorise, and Brent's
     zero finder (Brent 1973, ch. 4) where those have not converged. Where the value found is
     below p_r, F at p_r and the tensile cut-off's -lo at p_r are maximised on the half circle
     by the same search (an angle can fail with no drawdown but not at full drawdown, in a
     sector the value's grid can miss: docs/derivations.md, sec. 15.1), each only where a cheap
-    bound over every angle does not rule it out. Cases whose grid shows two maxima or more
-    take the general envelope iteration of :mod:`risk.mechanics._onset_kernel` (the previous
-    compiled path) instead.
+    bound over every angle does not rule it out (the same bound at p = 0 skips the value's
+    search where no angle fails at full drawdown). Cases whose grid shows two maxima or more
+    that might compete (derivations, sec. 15.1) take the general envelope iteration of
+    :mod:`risk.mechanics._onset_kernel` (the previous compiled path) instead.
 
 References
 ----------
@@ -539,8 +540,9 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
         lo, hi = np.zeros(cnt), np.zeros(cnt)
         sel = np.empty(cnt, dtype=np.bool_)
         for r in range(cnt):
-            sel[r] = _shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r],
-                                  bz[r], nuv[r], kk[r], lam2[r]) >= 0.0
+            # (not "< 0": nan inputs take the search and give nan, as elsewhere)
+            sel[r] = not (_shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                       bt[r], bz[r], nuv[r], kk[r], lam2[r]) < 0.0)
         idx = np.nonzero(sel)[0]
         if idx.size == cnt:
             lo, hi = _search_value(k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
