@@ -63,7 +63,7 @@ _BLOCK = 256  # cases per block: the state of a block stays in the processor's c
 _GRID = 8  # intervals of the grid in t over the half circle
 _ROUNDS = 6  # Anderson-Bjorck steps for every case
 _THIRD = 1.0 / 3.0
-_VALUE, _TENSION, _SHEAR_R = 0, 1, 2  # the function a search maximises
+_VALUE, _TENSION, _SHEAR_R, _POLISHED = 0, 1, 2, 3  # the function a search maximises
 
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -206,18 +206,72 @@ def _shear_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float
     return max(f_lo, f_hi) - kk
 
 
-@_jit_inline
-def _eval(kind: int, t: float, cm: float, sm: float, sg: float, k0: float, z0: float,
-          pp: float, qq: float, w0: float, w1: float, w2: float, bt: float, bz: float,
-          nu: float, p_r: float, kk: float, lam2: float, polish: bool
-          ) -> tuple[float, float]:
-    """The function a search maximises: the value (kind _VALUE) or -lo at p_r (_TENSION)."""
+@_jit
+def _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """The function a search maximises, at t = tt[r] for every case r of a block: the value
+    (kind _VALUE; _POLISHED: with the final Newton step), F at p_r (_SHEAR_R) or -lo at p_r
+    (_TENSION). Returns (values, slopes). One plain loop per kind, its outputs allocated in
+    it: such loops vectorise (a loop that also updated a search's state was found not to), and
+    each function of the angle is compiled once."""
     if kind == _VALUE:
-        return _dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2,
-                    polish)
+        return _loop_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    if kind == _POLISHED:
+        return _loop_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
     if kind == _SHEAR_R:
-        return _shear_r(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
-    return _tension(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r)
+        return _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    return _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+
+
+@_jit
+def _loop_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_dir` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                    bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_dir` with the Newton step at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                    bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], True)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_shear_r` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _shear_r(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                        bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r])
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_tension` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _tension(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                        bt[r], bz[r], nu[r], p_r[r])
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
 
 
 @_jit
@@ -256,7 +310,7 @@ def _setup_block(x0, x1, x2, x3, x4, x5, x6, x7, x8, x9, x10):
     return k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg
 
 
-@_jit_inline
+@_jit
 def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg,
             bv_out, bx_out, flag_out):
     """The largest value over the half circle for a block of cases (1-D arrays): the grid,
@@ -274,14 +328,13 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
     # the grid's values and slopes (a loop with two stores only: it vectorises)
     vv = np.empty((_GRID + 1) * cnt)
     gg = np.empty((_GRID + 1) * cnt)
+    tt = np.empty(cnt)
     for j in range(_GRID + 1):
-        tj = -1.0 + j * step
-        o = j * cnt
-        for r in range(cnt):
-            v, g = _eval(kind, tj, cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                        w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
-            vv[o + r] = v
-            gg[o + r] = g
+        tt[:] = -1.0 + j * step
+        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                           kk, lam2)
+        vv[j * cnt:(j + 1) * cnt] = vn
+        gg[j * cnt:(j + 1) * cnt] = gn
     # per case: the best grid point, and the bracket of the best sign change of the slope
     # from + to - (the slope points inwards at both ends, derived: signs forced there). Each
     # bracket's peak lies between the larger end value and the height where the tangents at
@@ -321,7 +374,6 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
     # between the bracket's ends, kept to the middle 90 % (a bisection where it has none).
     # Each step is three loops: the points, their values and slopes, the update (a loop
     # evaluating and updating at once was found not to vectorise)
-    tt, vn, gn = np.empty(cnt), np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
         a, b = lo[r], hi[r]
         h = b - a
@@ -339,11 +391,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         good = (disc >= 0.0) & (s_ > 0.0) & (s_ < 1.0)
         s_ = min(max(s_, 0.05), 0.95) if good else 0.5
         tt[r] = a + s_ * h
-    for r in range(cnt):
-        v, g = _eval(kind, tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
-                     w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
-        vn[r] = v
-        gn[r] = g
+    vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                       lam2)
     for r in range(cnt):
         tn, v, g = tt[r], vn[r], gn[r]
         better = v > bv[r]
@@ -364,11 +413,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             # point on itself)
             gap = 0.01 * (hi[r] - lo[r])
             tt[r] = min(max(tn, lo[r] + gap), hi[r] - gap)
-        for r in range(cnt):
-            v, g = _eval(kind, tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
-                         w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
-            vn[r] = v
-            gn[r] = g
+        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                           kk, lam2)
         for r in range(cnt):
             tn, v, g = tt[r], vn[r], gn[r]
             better = v > bv[r]
@@ -394,11 +440,9 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             fh[r] = nfh
             kept[r] = 1.0 if right else -1.0
     # the polished value at the best point, and its slope
-    for r in range(cnt):
-        v, g = _eval(kind, bx[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
-                     w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], True)
-        vn[r] = v
-        gn[r] = g
+    polish = _POLISHED if kind == _VALUE else kind
+    vn, gn = _evaluate(polish, bx, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                       lam2)
     for r in range(cnt):
         bv[r] = vn[r]
         # converged: the slope's root bracketed to 1e-7 in t, or the slope at the best point
@@ -410,30 +454,6 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
     bv_out[:] = bv
     bx_out[:] = bx
     return lo_out, hi_out
-
-
-@_jit
-def _search_value(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg, bv_out,
-                  bx_out, flag_out):
-    """:func:`_search` of the value."""
-    return _search(_VALUE, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg,
-                   bv_out, bx_out, flag_out)
-
-
-@_jit
-def _search_tension(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg,
-                    bv_out, bx_out, flag_out):
-    """:func:`_search` of -lo at p_r."""
-    return _search(_TENSION, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
-                   sg, bv_out, bx_out, flag_out)
-
-
-@_jit
-def _search_shear_r(k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm, sg,
-                    bv_out, bx_out, flag_out):
-    """:func:`_search` of F at p_r."""
-    return _search(_SHEAR_R, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
-                   sg, bv_out, bx_out, flag_out)
 
 
 @_jit
@@ -544,14 +564,15 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             sel[r] = not (_shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
                                        bt[r], bz[r], nuv[r], kk[r], lam2[r]) < 0.0)
         idx = np.nonzero(sel)[0]
+        value = np.int64(_VALUE)  # not a literal: one compiled search serves every kind
         if idx.size == cnt:
-            lo, hi = _search_value(k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
-                                   sm, sg, bv, bx, flag)
+            lo, hi = _search(value, k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
+                             sm, sg, bv, bx, flag)
         elif idx.size:
             sv, sx, sf = np.empty(idx.size), np.empty(idx.size), np.empty(idx.size)
-            slo, shi = _search_value(k0[idx], z0[idx], pp[idx], qq[idx], w0[idx], w1[idx],
-                                     w2[idx], bt[idx], bz[idx], nuv[idx], prv[idx], kk[idx],
-                                     lam2[idx], cm[idx], sm[idx], sg[idx], sv, sx, sf)
+            slo, shi = _search(value, k0[idx], z0[idx], pp[idx], qq[idx], w0[idx], w1[idx],
+                               w2[idx], bt[idx], bz[idx], nuv[idx], prv[idx], kk[idx],
+                               lam2[idx], cm[idx], sm[idx], sg[idx], sv, sx, sf)
             bv[idx], bx[idx], flag[idx], lo[idx], hi[idx] = sv, sx, sf, slo, shi
         for r in range(cnt):
             if flag[r] == 1.0:
@@ -590,10 +611,7 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             args = (k0[idx], z0[idx], pp[idx], qq[idx], w0[idx], w1[idx], w2[idx], bt[idx],
                     bz[idx], nuv[idx], prv[idx], kk[idx], lam2[idx], cm[idx], sm[idx],
                     sg[idx], tv, tx, tflag)
-            if kind == _SHEAR_R:
-                _search_shear_r(*args)
-            else:
-                _search_tension(*args)
+            _search(kind, *args)
             for q in range(idx.size):
                 r = idx[q]
                 if tflag[q] != 0.0:
