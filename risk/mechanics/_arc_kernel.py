@@ -315,17 +315,18 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             bv_out, bx_out, flag_out):
     """The largest value over the half circle for a block of cases (1-D arrays): the grid,
     then on the bracket of the best sign change of the slope a Hermite step and Anderson-Bjorck
-    steps, every case alike and branch-free so the loops vectorise. Leaves the best value and
-    its t in bv_out, bx_out and in flag_out 2.0 where the grid shows two maxima or more (the
-    caller takes the general path), 1.0 where the steps have not converged (the caller
-    finishes with Brent's method), else 0.0."""
+    steps, every case alike and branch-free so the loops vectorise; ``kind`` is the function
+    of the angle (:func:`_evaluate`). Leaves the best value (polished) and its t in bv_out,
+    bx_out and in flag_out 2.0 where the grid shows competing maxima (the caller takes the
+    general path), 1.0 where the steps have not converged (the caller finishes with Brent's
+    method), else 0.0; returns the final bracket of the slope's root (lo, hi)."""
     cnt = bv_out.size
     lo, hi = np.empty(cnt), np.empty(cnt)
     fl, fh, vl, vh = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
     bv, bx, peaks = np.empty(cnt), np.empty(cnt), np.empty(cnt)
     kept = np.zeros(cnt)
     step = 2.0 / _GRID
-    # the grid's values and slopes (a loop with two stores only: it vectorises)
+    # the grid's values and slopes
     vv = np.empty((_GRID + 1) * cnt)
     gg = np.empty((_GRID + 1) * cnt)
     tt = np.empty(cnt)
@@ -449,11 +450,9 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         # below 1e-6 MPa/rad (the value is then the maximum to g^2/(2|v''|))
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
         flag_out[r] = 2.0 if peaks[r] > 1.0 else (1.0 if open_ else 0.0)
-    lo_out = lo
-    hi_out = hi
     bv_out[:] = bv
     bx_out[:] = bx
-    return lo_out, hi_out
+    return lo, hi
 
 
 @_jit
