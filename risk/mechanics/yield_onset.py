@@ -22,16 +22,24 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
   a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
   arguments, and on the remaining arc it is the root of the closed form's slope.
-- **the other criteria**: the envelope iteration (Notes of :func:`critical_wall_pressure`),
-  compiled by default (:mod:`risk.mechanics._onset_kernel`, one case per loop iteration, the
-  Drucker-Prager crossing at one angle in closed form); its numpy form is kept as the reference
-  path (``compiled=False``): bracketed roots in the wall pressure (Chandrupatla 1997,
+- **Drucker-Prager** (three matchings): a compiled kernel built like the Mohr-Coulomb one
+  (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in closed form, the worst
+  angle on a derived half circle (docs/derivations.md, sec. 15.1).
+- **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
+  with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
+  below.
+- **the other criteria** (Mogi-Coulomb, modified Lade): the envelope iteration (Notes of
+  :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
+  one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
+  is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):
+  bracketed roots in the wall pressure (Chandrupatla 1997,
   ``scipy.optimize.elementwise.find_root``) and maxima over ``n_theta`` grid angles refined by
   parabolic steps on shrinking brackets.
 
 The numpy iteration agrees with the Mohr-Coulomb kernel to 1e-8 MPa
-(tests/mechanics/test_yield_onset.py) and with the compiled iteration to 1e-9 MPa on every
-criterion (tests/mechanics/test_onset_kernel.py).
+(tests/mechanics/test_yield_onset.py) and with every compiled path to 1e-9 MPa on every
+criterion (tests/mechanics/test_onset_kernel.py; the compiled envelope iteration itself in
+tests/mechanics/test_arc_kernel.py).
 
 Outcomes, per :mod:`risk.conventions`: ``p_wc = p_r`` when the wall fails with no drawdown and
 ``p_wc = -inf`` when it does not fail for any wall pressure in [0, p_r] ("never").
@@ -147,9 +155,9 @@ def critical_wall_pressure(
         Number of wall angles in the bracketing grid over [0, pi) of the envelope iteration
         (criteria other than Mohr-Coulomb).
     compiled : bool
-        Criteria other than Mohr-Coulomb: the compiled envelope iteration
-        (:mod:`risk.mechanics._onset_kernel`, the default) or the numpy one (False: the
-        reference path, kept for checks). Mohr-Coulomb always takes its own kernel.
+        Criteria other than Mohr-Coulomb: the compiled paths (the default; module docstring)
+        or the numpy envelope iteration (False: the reference path, kept for checks).
+        Mohr-Coulomb always takes its own kernel.
     angles : bool
         Mohr-Coulomb: False leaves out the wall angle (``theta`` all nan, a read-only view),
         for callers that keep only the pressure; the pressure is the same either way.
@@ -269,23 +277,79 @@ def _theta_from_psi(psi: Array, out: tuple[int, ...], order: tuple[int, ...],
     return np.transpose(theta.reshape(out), inverse).reshape(shape)
 
 
+#: Criteria with a closed-form crossing at one angle, searched on the half circle
+#: (:mod:`risk.mechanics._arc_kernel`).
+_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed")
+
+
 def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
-    """Any criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
-    from risk.mechanics._onset_kernel import CODES, onset
-
+    """Any criterion but Mohr-Coulomb by its compiled path: Hoek-Brown by
+    :func:`_compiled_hoek_brown`, the others by :func:`_compiled_kernels`."""
     if n_theta < 3:
         raise ValueError(f"n_theta must be at least 3; found {n_theta}")
+    if criterion == "hoek-brown":
+        return _compiled_hoek_brown(arrays, shape, n_theta)
+    return _compiled_kernels(arrays, shape, criterion, n_theta)
+
+
+def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: str,
+                      n_theta: int) -> OnsetResult:
+    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`), any other
+    criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
+    from risk.mechanics._onset_kernel import CODES, onset
+
     sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0 = arrays[:10]
     strength = arrays[10:15]  # UCS, friction angle, m_b, s, a
     views, out, order = _folded_views(
         [sxx + syy, sxx - syy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, *strength], shape)
     size = int(np.prod(out))
     p_k, psi = np.empty(size), np.empty(size)
-    onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
+    if criterion in _ARC:
+        from risk.mechanics._arc_kernel import arc_onset
+
+        cos2 = np.empty(size)
+        arc_onset(*views, CODES[criterion], n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
+        psi = np.arctan2(psi, cos2, out=psi)  # nan where never
+    else:
+        onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
     inverse = tuple(int(i) for i in np.argsort(order))
     p_wc = np.transpose(p_k.reshape(out), inverse).reshape(shape)
     return OnsetResult(p_wc, _theta_from_psi(psi, out, order, shape))
+
+
+def _compiled_hoek_brown(arrays: list[Array], shape: tuple[int, ...], n_theta: int
+                         ) -> OnsetResult:
+    """Hoek-Brown: on walls compressive all round the Mohr-Coulomb kernel, elsewhere the
+    compiled envelope iteration.
+
+    On a wall whose hoop-axial block is compressive all round at p_r (and so below it: the
+    smaller principal stress does not fall as the wall pressure falls) s3 is the zero radial
+    stress, so Hoek-Brown reads s1 = sigma_ci s^a: the Mohr-Coulomb branch F_a = hi - UCS with
+    UCS = sigma_ci s^a, which is all the Mohr-Coulomb kernel uses on such walls
+    (docs/derivations.md, sec. 15.2). The test of compressive walls is the kernel's own
+    sufficient test, with a margin of 1e-9 MPa so rounding never sends a wall it treats as
+    having a tensile sector down this path.
+    """
+    sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0, ucs, phi, _, hb_s, hb_a = arrays[:15]
+    unconfined = ucs * np.power(hb_s, hb_a)  # sigma_ci s^a [MPa]
+    mc = _compiled_mohr_coulomb([sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0,
+                                 unconfined, phi], shape)
+    amp = np.sqrt((2.0 * (sxx - syy)) ** 2 + (4.0 * sxy) ** 2)  # |hoop deviator| bound
+    tmax = 2.0 * np.sqrt(sxz * sxz + syz * syz)  # |hoop-axial shear| bound
+    k0 = sxx + syy - big_a * p_r
+    z0 = szz - big_a * p_r
+    comp = ((k0 - amp - (2.0 - big_a) * p_r - tmax >= 1e-9)
+            & (z0 - nu * amp - (1.0 - big_a) * p_r - tmax >= 1e-9))
+    comp = np.broadcast_to(comp, shape)
+    if comp.all():
+        return mc
+    p_wc, theta = mc.wall_pressure.copy(), mc.theta.copy()
+    rest = ~comp
+    sub = [np.broadcast_to(a, shape)[rest] for a in arrays]
+    gen = _compiled_kernels(sub, sub[0].shape, "hoek-brown", n_theta)
+    p_wc[rest], theta[rest] = gen.wall_pressure, gen.theta
+    return OnsetResult(p_wc, theta)
 
 
 def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: Array,
