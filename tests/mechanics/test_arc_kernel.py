@@ -170,21 +170,3 @@ def test_sector_failing_with_no_drawdown_only():
                                  poisson_ratio=kw["nu"], strength=kw["strength"],
                                  tensile_strength=kw["t0"], criterion=kw["criterion"])
     assert ref == kw["p_r"] and float(got.wall_pressure) == ref
-
-
-@pytest.mark.parametrize("criterion", FAST)
-def test_same_inputs_same_answers_whatever_the_layout(criterion):
-    # each case is computed on its own (blocks only share the loop), so splitting a call, or
-    # running it again, cannot change a bit of the answer
-    loc, a, nu, p_r, s, t0 = _corpus(3, 1200)
-    kw = dict(poro_coefficient=a, poisson_ratio=nu, tensile_strength=t0, criterion=criterion)
-    whole = critical_wall_pressure(loc, reservoir_pressure=p_r, strength=s, **kw)
-    again = critical_wall_pressure(loc, reservoir_pressure=p_r, strength=s, **kw)
-    np.testing.assert_array_equal(whole.wall_pressure, again.wall_pressure)
-    part = slice(300, 900)
-    sub = critical_wall_pressure(
-        st.LocalStress(*(np.asarray(c)[part] for c in loc)), reservoir_pressure=p_r[part],
-        strength=StrengthParameters(*(np.asarray(v)[part] for v in s)),
-        **{k: (v[part] if isinstance(v, np.ndarray) else v) for k, v in kw.items()})
-    np.testing.assert_array_equal(sub.wall_pressure, whole.wall_pressure[part])
-    np.testing.assert_array_equal(sub.theta, whole.theta[part])

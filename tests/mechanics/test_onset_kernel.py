@@ -141,16 +141,19 @@ def test_drucker_prager_crossing_closed_form(match):
         assert root == pytest.approx(r.wall_pressure[i], abs=1e-8)
 
 
-def test_same_inputs_same_answers_whatever_the_layout():
-    # deterministic: each case is computed on its own, so chunking, broadcasting and thread
-    # count cannot change a bit of the answer
-    loc, a, nu, p_r, s, t0 = _corpus(3, 600)
-    kw = dict(poro_coefficient=a, poisson_ratio=nu, tensile_strength=t0,
-              criterion="mogi-coulomb")
+@pytest.mark.parametrize("criterion", ["mogi-coulomb", "drucker-prager-circumscribed",
+                                       "drucker-prager-middle", "drucker-prager-inscribed",
+                                       "hoek-brown"])
+@pytest.mark.parametrize("half", [slice(0, 300), slice(300, 900)])
+def test_same_inputs_same_answers_whatever_the_layout(criterion, half):
+    # deterministic: each case is computed on its own (blocks only share the loop), so
+    # chunking, broadcasting, thread count or running again cannot change a bit of the answer
+    # (the envelope-iteration kernel and the half-circle kernel of _arc_kernel alike)
+    loc, a, nu, p_r, s, t0 = _corpus(3, 1200)
+    kw = dict(poro_coefficient=a, poisson_ratio=nu, tensile_strength=t0, criterion=criterion)
     whole = critical_wall_pressure(loc, reservoir_pressure=p_r, strength=s, **kw)
     again = critical_wall_pressure(loc, reservoir_pressure=p_r, strength=s, **kw)
     np.testing.assert_array_equal(whole.wall_pressure, again.wall_pressure)
-    half = slice(0, 300)
     part = critical_wall_pressure(
         st.LocalStress(*(np.asarray(c)[half] for c in loc)), reservoir_pressure=p_r[half],
         strength=StrengthParameters(*(np.asarray(v)[half] for v in s)),
