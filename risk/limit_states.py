@@ -184,7 +184,7 @@ def _frames(scenario: Scenario) -> Array:
 def evaluate(cols: Mapping[str, Array], scenario: Scenario,
              only: set[str] | None = None, *, parts: bool = False,
              reservoir_pressure: Array | None = None, rotation: str = "einsum",
-             angles: bool = True) -> dict[str, MechanismResult]:
+             angles: bool = True, cavity_path: str = "compiled") -> dict[str, MechanismResult]:
     """Run every mechanism on a block of samples.
 
     Parameters
@@ -211,11 +211,18 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         False: the wall angles of the yield onset (Mohr-Coulomb) and of the effective-strength
         onset are not computed (their ``theta`` is then all nan; the log runs keep only the
         critical drawdowns). The critical drawdowns are the same either way.
+    cavity_path : {"compiled", "numpy"}
+        How tunnel collapse (Mohr-Coulomb) and the tunnel-root onset are computed: by the
+        compiled kernels of :mod:`risk.mechanics._collapse_kernel` (the default; the same
+        arithmetic per case, equal to rounding, docs/derivations.md sec. 16) or by the numpy
+        reference path.
 
     Returns
     -------
     dict of mechanism key -> MechanismResult, arrays (n, n_directions, n_stages)
     """
+    if cavity_path not in ("compiled", "numpy"):
+        raise ValueError(f"cavity_path must be 'compiled' or 'numpy', got {cavity_path!r}")
     cols = strength_scaled(cols)
     phys = physical_inputs(cols, scenario)
     n = phys["sv"].size
@@ -293,7 +300,8 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
         root_governs = scenario.tunnel_stress == "root-and-far-field"
         if (scenario.effective_strength_cavity == "tunnel"
                 and scenario.well.completion == "perforated" and (parts or root_governs)):
-            dc_root, th_root = _root_onset(tensor, nu, u, p_r, per_sample(big_a), scenario)
+            dc_root, th_root = _root_onset(tensor, nu, u, p_r, per_sample(big_a), scenario,
+                                            cavity_path)
             if parts:
                 es_parts = {"far_field": dc_es, "root": dc_root}
             if root_governs:
@@ -305,7 +313,8 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
     if "critical_plastic_strain" in cols and (only is None or "tunnel_collapse" in only):
         kw = _cavity_inputs(cols, scenario, local, per_sample, mb, s, a, weak)
         p_wc = cavity.collapse_wall_pressure(
-            critical_plastic_strain=weakened(cols["critical_plastic_strain"]), p_r=p_r, **kw)
+            critical_plastic_strain=weakened(cols["critical_plastic_strain"]), p_r=p_r,
+            path=cavity_path, **kw)
         dc_tc = p_r - p_wc
         out["tunnel_collapse"] = MechanismResult("tunnel_collapse", dc_tc,
                                                  np.full(dc_tc.shape, np.nan))
@@ -313,17 +322,40 @@ def evaluate(cols: Mapping[str, Array], scenario: Scenario,
 
 
 def _root_onset(tensor: Array, nu: Array, u: Array, p_r: Array, big_a: Array,
-                scenario: Scenario) -> tuple[Array, Array]:
+                scenario: Scenario, path: str = "compiled") -> tuple[Array, Array]:
     """Effective-strength onset of each tunnel in the wellbore's field, the worst over the
     root and the first wellbore radii (risk.mechanics.root): critical drawdown [MPa] and wall
-    angle [rad], (n, n_directions, n_stages)."""
+    angle [rad], (n, n_directions, n_stages). ``path``: "compiled" (the same arithmetic per
+    tunnel, :func:`risk.mechanics._collapse_kernel.root_onset`, equal to rounding) or "numpy"
+    (the reference path below)."""
     w = scenario.well
     well_frame = st.cavity_frame(w.inclination, w.azimuth)
     shots = np.asarray(w.shot_angles)
     # G = F W^T B^T per shot: cylindrical components of the wellbore -> tunnel frame
     rot = _frames(scenario) @ well_frame.T @ np.swapaxes(root.cylindrical_basis(shots), -1, -2)
-    rot = rot[None, :, None]  # (1, m, 1, 3, 3)
     local_w = root.well_local(tensor, well_frame)  # (n, k)
+    if path == "compiled":
+        from risk.mechanics._collapse_kernel import root_onset
+
+        n, n_k = local_w.sxx.shape
+
+        def nk(a: Array) -> Array:
+            return np.ascontiguousarray(np.broadcast_to(
+                np.asarray(a, dtype=float).reshape(np.shape(a)[0], -1), (n, n_k)))
+
+        best = np.empty(n * shots.size * n_k)
+        theta = np.empty(best.size)
+        trig = np.ascontiguousarray(np.stack([np.cos(2 * shots), np.sin(2 * shots),
+                                              np.cos(shots), np.sin(shots)], -1), dtype=float)
+        root_onset(*(np.ascontiguousarray(c, dtype=float) for c in local_w),  # type: ignore[call-arg]
+                   np.ascontiguousarray(nu, dtype=float), trig,
+                   np.ascontiguousarray(rot.reshape(-1, 9)),
+                   np.asarray(root.ROOT_RADII, dtype=float), nk(u), nk(big_a), nk(p_r), best,
+                   theta)
+        return best.reshape(n, shots.size, n_k), theta.reshape(n, shots.size, n_k)
+    if path != "numpy":
+        raise ValueError(f"path must be 'compiled' or 'numpy', got {path!r}")
+    rot = rot[None, :, None]  # (1, m, 1, 3, 3)
     local_w = st.LocalStress(*(c[:, None, :] for c in local_w))  # (n, 1, k)
     zero = st.LocalStress(*(np.zeros((1, 1, 1)) for _ in range(6)))
     th_shot = shots[None, :, None]

@@ -992,6 +992,7 @@ def collapse_wall_pressure(
     mb: ArrayLike | None = None,
     s: ArrayLike | None = None,
     a: ArrayLike | None = None,
+    path: str = "compiled",
 ) -> Array:
     """Highest wall pressure in [0, p_r] at which the perforation tunnel collapses [MPa].
 
@@ -1023,6 +1024,11 @@ def collapse_wall_pressure(
         Mohr-Coulomb strength [MPa] and friction angle [rad] (required for "mohr-coulomb").
     sigma_ci, mb, s, a : array_like, optional
         Hoek-Brown constants ([MPa], [1], [1], [1]) (required for "hoek-brown").
+    path : {"compiled", "numpy"}
+        How Mohr-Coulomb is searched: "compiled" (the default; the same margin and the same
+        Chandrupatla iteration made scalar per case, :mod:`risk.mechanics._collapse_kernel`,
+        equal to the numpy path to rounding, docs/derivations.md sec. 16) or "numpy" (the
+        reference path, described here). Hoek-Brown always takes the numpy path.
 
     Returns
     -------
@@ -1041,6 +1047,8 @@ def collapse_wall_pressure(
     """
     if criterion not in CAVITY_CRITERIA:
         raise ValueError(f"criterion must be one of {CAVITY_CRITERIA}; found {criterion!r}")
+    if path not in ("compiled", "numpy"):
+        raise ValueError(f"path must be 'compiled' or 'numpy'; found {path!r}")
     common: dict[str, ArrayLike] = dict(
         critical_plastic_strain=critical_plastic_strain, sigma0=sigma0, p_r=p_r, r_w=r_w,
         r_e=r_e, dilation_angle=dilation_angle, young_modulus=young_modulus,
@@ -1067,6 +1075,13 @@ def collapse_wall_pressure(
         _check_mc(v)
         margin = _margin_mc
         q = passive_coefficient(v["friction_angle"])
+        if path == "compiled":
+            from risk.mechanics._collapse_kernel import collapse_mc
+
+            res = np.empty(crit.shape)
+            collapse_mc(v["sigma0"], v["p_r"], v["r_w"], v["r_e"], v["ucs"], q, m,
+                        v["young_modulus"], v["poisson_ratio"], v["biot"], crit, res)
+            return res.reshape(shape)
         args = (*base, v["ucs"], q, m, *elastic,
                 *_mc_invariants(*base, v["ucs"], q, m, v["poisson_ratio"], v["biot"]))
         unconfined = v["ucs"]

@@ -365,7 +365,8 @@ def _scan_collapse(pressures, response, crit):
     ("hoek-brown", 45.0, None, 0.02, 2.0),
     ("hoek-brown", 40.0, None, 0.005, 0.1),
 ])
-def test_collapse_matches_brute_force_scan(criterion, sigma0, ucs, crit, r_e):
+@pytest.mark.parametrize("path", ["compiled", "numpy"])  # the kernel and the reference path
+def test_collapse_matches_brute_force_scan(criterion, sigma0, ucs, crit, r_e, path):
     # brute-force scan of the wall pressure on a 1e-3 MPa grid (independent of the root finder)
     p_r = 25.0
     grid = np.linspace(0.0, p_r, 25001)
@@ -379,7 +380,7 @@ def test_collapse_matches_brute_force_scan(criterion, sigma0, ucs, crit, r_e):
         resp = hoek_brown_cavity(sigma0=sigma0, p_r=p_r, p_w=grid, **kw, **strength)
     expected = _scan_collapse(grid, resp, crit)
     got = collapse_wall_pressure(criterion=criterion, critical_plastic_strain=crit,
-                                 sigma0=sigma0, p_r=p_r, **kw, **strength)
+                                 sigma0=sigma0, p_r=p_r, path=path, **kw, **strength)
     assert np.isfinite(expected)
     assert float(got) == pytest.approx(expected, abs=1.001e-3)
     assert float(got) >= expected  # the scan can only land on or below the true value
