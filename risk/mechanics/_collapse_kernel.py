@@ -125,8 +125,8 @@ def _margin(p_w: float, p_r: float, ucs: float, q: float, m: float, e_mod: float
             x = c1 / a1
         else:
             x = b1 / a1 * wright_omega(c1 / b1 + math.log(a1 / b1))
-        for _ in range(2):  # Newton polish
-            x = x - (a1 * x + b1 * math.log(x) - c1) / (a1 + b1 / x)
+        for _ in range(2):  # Newton polish (b1 = 0 at no drawdown: b1 ln x = 0, unneeded)
+            x = x - (a1 * x + (b1 * math.log(x) if b1 != 0.0 else 0.0) - c1) / (a1 + b1 / x)
         x = max(x, 1.0)
         lrho = math.log(x) / n
         s_r = beta * (x - 1.0)
@@ -216,8 +216,10 @@ def collapse_mc(sigma0, p_r, r_w, r_e, ucs, q, m, e_mod, nu, biot, crit, out):
                 # Chandrupatla's method as scipy.optimize.elementwise.find_root runs it
                 x1, f1 = p_lo, f_lo
                 x2 = p_hi
-                f2 = _margin(p_hi, pr, uc, qi, mi, e, nui, bi, cr, log_e, s0, big_a, n,
-                             rho_e, x_e, s_nf, k1, kn, rho_e_kn, rho_e_k1)
+                # scipy evaluates both ends again: at p_hi = p_r that is f_hi itself
+                f2 = f_hi if p_hi >= pr else _margin(
+                    p_hi, pr, uc, qi, mi, e, nui, bi, cr, log_e, s0, big_a, n, rho_e, x_e,
+                    s_nf, k1, kn, rho_e_kn, rho_e_k1)
                 x3, f3 = x2, f2
                 t = 0.5
                 for it in range(_MAXITER + 1):
