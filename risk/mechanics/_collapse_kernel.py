@@ -253,6 +253,8 @@ def collapse_mc(sigma0, p_r, r_w, r_e, ucs, q, m, e_mod, nu, biot, crit, out):
                     if failed or it == _MAXITER:  # the failing end: the lower one
                         res = x1 if x1 < x2 else x2
                         break
+                    if it == 0:  # scipy's first step is the bisection (t = 0.5)
+                        continue
                     xi1 = (x1 - x2) / (x3 - x2)
                     phi1 = (f1 - f2) / (f3 - f2)
                     alpha = (x3 - x1) / (x2 - x1)
