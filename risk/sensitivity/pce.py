@@ -224,12 +224,23 @@ def basis_table(xi: Array, top: int, families: Sequence[Family] | None = None) -
 
 
 def _products(table: Array, indices: IntArray) -> Array:
-    """The products ``prod_j table[a_j, j, :]`` of every multi-index ``a`` (n, m) [1]."""
-    psi = np.ones((table.shape[2], indices.shape[0]))
-    for j in range(indices.shape[1]):
-        col = indices[:, j]
-        if np.any(col):
-            psi *= table[col, j, :].T
+    """The products ``prod_j table[a_j, j, :]`` of every multi-index ``a`` (n, m) [1].
+
+    Built a block of rows at a time (about 64 k values, which stay in the processor's cache
+    while every input's factor multiplies them in); each value is the same product, in the
+    same order, as a whole-matrix pass would give.
+    """
+    rows = np.ascontiguousarray(table.transpose(2, 1, 0))  # (n, d, top + 1)
+    n, m = table.shape[2], indices.shape[0]
+    used = [(j, np.ascontiguousarray(indices[:, j])) for j in range(indices.shape[1])
+            if np.any(indices[:, j])]
+    psi = np.empty((n, m))
+    step = max(1, 65_536 // max(m, 1))
+    for lo in range(0, n, step):
+        block = psi[lo:lo + step]
+        block[...] = 1.0
+        for j, col in used:
+            block *= rows[lo:lo + step, j, col]
     return psi
 
 
