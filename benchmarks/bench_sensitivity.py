@@ -10,6 +10,9 @@
 2. Indices from an already fitted expansion of ~500 terms (8 inputs, degree 4: 495 terms) in
    < 1 ms, beside chaospy's Sens_t on a 3-input, order-8 expansion (165 terms; chaospy took
    ~17 s for that on this kind of machine, so larger ones are not attempted: a time cap).
+3. A run's design (docs/derivations.md, sec. 17): 1,024 runs of 10 inputs, 7 outputs, total
+   degree 5 (3,003 candidate terms): the sparse fit of all outputs with the matching pursuits
+   side by side, against one output at a time (the same paths, checked), and the basis.
 
 BLAS is pinned to one thread through OPENBLAS_NUM_THREADS before numpy loads, since
 threadpoolctl is not installed here (threaded BLAS made these small problems ~10x slower).
@@ -151,10 +154,36 @@ def part2(skip_chaospy: bool) -> None:
           f"{np.abs(st - ref_mine).max():.1e}")
 
 
+def part3() -> None:
+    from risk.sensitivity.pce import _omp, _omp_many
+
+    print("\n3. A run's design: 1,024 runs x 10 inputs, 7 outputs, degree 5")
+    rng = np.random.default_rng(7)
+    xi = ndtri(qmc.Sobol(D, scramble=True, seed=rng).random(1024))
+    u = ndtr(xi)
+    y = np.column_stack([expo_u(u), *(np.prod(1.0 + b * (u - 0.5) ** 2, axis=1)
+                                      for b in (0.5, 1.0, 2.0)),
+                         np.sin(3.0 * u[:, 0]) + u[:, 1] * u[:, 2], np.abs(u[:, 3] - 0.4),
+                         np.minimum(u @ B, 2.0)])
+    cand = sa.multi_indices(D, 5)
+    t_dm = best_of(lambda: sa.design_matrix(xi, cand), 3)
+    psi = sa.design_matrix(xi, cand)
+    cap, patience = 512, 51  # fit_pce's defaults at 1,024 runs
+    t_one = best_of(lambda: [_omp(psi, y[:, c], cap, patience) for c in range(y.shape[1])], 1)
+    t_many = best_of(lambda: _omp_many(psi, y, cap, patience), 1)
+    same = all(np.array_equal(a[0], b[0]) for a, b in zip(
+        _omp_many(psi, y, cap, patience),
+        [_omp(psi, y[:, c], cap, patience) for c in range(y.shape[1])], strict=True))
+    print(f"   basis ({len(cand)} terms): {t_dm:.3f} s; pursuits one output at a time "
+          f"{t_one:.2f} s, side by side {t_many:.2f} s -> {t_one / t_many:.1f}x; "
+          f"same terms chosen: {same}")
+
+
 def main() -> None:
     print(f"numpy {np.__version__}; BLAS threads {os.environ.get('OPENBLAS_NUM_THREADS')}")
     part1()
     part2("--skip-chaospy" in sys.argv)
+    part3()
 
 
 if __name__ == "__main__":

@@ -186,6 +186,11 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
     if not keys:
         return None
     sand = sand_drawdown(by_direction, keys, directions)
+    own_all = {}  # each mechanism's own limit per stage (its drawdowns formed once)
+    for key in keys:
+        one = sand_drawdown(by_direction, (key,), directions)
+        own_all[key] = [_limit(one[:, k], accepted_risk, p_r)[0] for k, p_r in enumerate(stages)]
+        del one
     rows = []
     for k, p_r in enumerate(stages):
         col = np.sort(sand[:, k])
@@ -195,8 +200,7 @@ def sand_free(by_direction: Mapping[str, Array], stages: Sequence[float], accept
             lim, low, method = solved[k]
             lim = min(lim, p_r)
             low = None if low is None else min(low, lim)
-        own = {key: _limit(sand_drawdown(by_direction, (key,), directions)[:, k],
-                           accepted_risk, p_r)[0] for key in keys}
+        own = {key: own_all[key][k] for key in keys}
         if solved_own:
             own.update({key: min(solved_own[(key, k)], p_r) for key in keys
                         if (key, k) in solved_own})

@@ -302,8 +302,14 @@ def _shots(a: Assessment, by_dir: Array, limit: float, p_r: float
     risk = a.scenario.accepted_risk
     lim = limit if math.isfinite(limit) else p_r
     n_dir = by_dir.shape[1]
-    p50s = [float(probability.percentiles(by_dir[:, j], [0.5])[0]) for j in range(n_dir)]
-    limits = [min(probability.drawdown_limit(by_dir[:, j], risk)[0], p_r) for j in range(n_dir)]
+    # each direction sorted once, for its median and its limit (the probability functions take
+    # a sorted array as it is)
+    p50s, limits = [], []
+    for j in range(n_dir):
+        col = by_dir[:, j].astype(np.float64)  # a copy, sorted in place
+        col.sort()
+        p50s.append(float(probability.percentiles(col, [0.5])[0]))
+        limits.append(min(probability.drawdown_limit(col, risk)[0], p_r))
     p_at = [probability.fraction_at_or_below(by_dir[:, j], lim) for j in range(n_dir)]
     # mean of the critical drawdown capped at p_r: the last tie-breaker (larger is safer)
     means = [float(np.mean(np.minimum(by_dir[:, j], p_r))) for j in range(n_dir)]

@@ -23,11 +23,11 @@ from risk.sensitivity.indices import (
 from risk.sensitivity.montecarlo import mc_sobol
 from risk.sensitivity.pce import (
     Family,
-    PolynomialChaos,
     _bootstrap_coefficients,
     _check_xy,
-    design_matrix,
-    fit_pce,
+    _fit,
+    _products,
+    basis_table,
 )
 from risk.sensitivity.result import SensitivityResult, _frozen
 from risk.sensitivity.shapley import _blocks_of, _check_corr, correlated_indices
@@ -182,30 +182,43 @@ def sobol_pce(
         xi_ho = (scipy.linalg.solve_triangular(lmat, ho[0].T, lower=True).T if correlated
                  else ho[0])
 
-    def validation_error(exp: PolynomialChaos, col: int) -> float:
+    tables: dict[int, Array] = {}  # the held-out runs' one-dimensional polynomials, by degree
+    checked: dict[tuple[int, int], float] = {}
+
+    def validation_error(k: int, col: int) -> float:
+        """Relative mean-square error of candidate ``k``'s expansion of output ``col`` on the
+        held-out runs (each computed once; the basis of those runs evaluated once per degree)."""
         if ho is None or xi_ho is None:
             return math.nan
-        var_ho = float(np.var(ho[1][:, col], ddof=1))
-        resid = ho[1][:, col] - exp(xi_ho)
-        return float(np.mean(resid**2)) / var_ho if var_ho > 0 else math.inf
+        if (k, col) not in checked:
+            exp = candidates[k][0][col]
+            top = int(exp.indices.max()) if exp.indices.size else 0
+            if top not in tables:
+                tables[top] = basis_table(xi_ho, top, families)
+            var_ho = float(np.var(ho[1][:, col], ddof=1))
+            resid = ho[1][:, col] - _products(tables[top], exp.indices) @ exp.coefficients
+            checked[(k, col)] = (float(np.mean(resid**2)) / var_ho if var_ho > 0
+                                 else math.inf)
+        return checked[(k, col)]
 
     cuts = list(truncations) if truncations else [(q, max_degree)]
     results = []
     with blas_single_thread():
-        candidates = [fit_pce(xi, y2, max_degree=deg, q=qq, method=method, families=families)
-                      for qq, deg in cuts]
-        expansions = []
+        # one design matrix per truncation, for every output's fit and bootstrap
+        candidates = [_fit(xi, y2, max_degree=deg, q=qq, method=method, max_terms=None,
+                           families=families) for qq, deg in cuts]
+        chosen = []
         for col in range(y2.shape[1]):
             # the truncation with the least error on the held-out runs (else the least
             # corrected leave-one-out error, which favours large bases after a selection)
-            scored = [(validation_error(c[col], col) if ho is not None else c[col].loo_error,
+            scored = [(validation_error(k, col) if ho is not None else c[0][col].loo_error,
                        k) for k, c in enumerate(candidates)]
-            best = min(scored, key=lambda t: (not t[0] <= math.inf, t[0], t[1]))[1]
-            expansions.append(candidates[best][col])
-        for col, exp in enumerate(expansions):
+            chosen.append(min(scored, key=lambda t: (not t[0] <= math.inf, t[0], t[1]))[1])
+        for col, best in enumerate(chosen):
+            exp = candidates[best][0][col]
             coef = exp.coefficients[:, None]
             if n_bootstrap > 0:
-                psi = design_matrix(xi, exp.indices, families)
+                psi = np.ascontiguousarray(candidates[best][2][:, candidates[best][1][col]])
                 boot = _bootstrap_coefficients(psi, y2[:, col], rng, n_bootstrap)
                 coef = np.concatenate([coef, boot], axis=1)
             if correlated:
@@ -216,7 +229,7 @@ def sobol_pce(
                 ind = independent_indices(exp.indices, coef, group_pos)
                 first, total = ind["first"], ind["total"]
             shap = ind["shapley"]
-            validation = validation_error(exp, col)
+            validation = validation_error(best, col)
             error = (validation if ho is not None else exp.loo_error) if widen else 0.0
             f_lo, f_hi = surrogate_bounds(*_interval(first[:, 1:], confidence), error)
             t_lo, t_hi = surrogate_bounds(*_interval(total[:, 1:], confidence), error)

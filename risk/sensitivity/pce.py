@@ -12,7 +12,7 @@ Blatman, G., Sudret, B. (2010, 2011) and Pati, Rezaiifar & Krishnaprasad (1993):
 from __future__ import annotations
 
 import math
-from collections.abc import Iterator, Sequence
+from collections.abc import Generator, Iterator, Sequence
 from dataclasses import dataclass
 from typing import Literal
 
@@ -197,6 +197,20 @@ def design_matrix(xi: Array, indices: IntArray,
     if xi.ndim != 2 or xi.shape[1] != indices.shape[1]:
         raise ValueError(f"xi must be (n, {indices.shape[1]}), got {xi.shape}")
     top = int(indices.max()) if indices.size else 0
+    return _products(basis_table(xi, top, families), indices)
+
+
+def basis_table(xi: Array, top: int, families: Sequence[Family] | None = None) -> Array:
+    """The one-dimensional polynomials of every input, ``(top + 1, d, n)`` [1]: entry
+    ``[k, j, i]`` is the degree-``k`` polynomial of input ``j``'s family at row ``i`` (what
+    :func:`design_matrix` multiplies; computed once, it serves any index set of degree <= top).
+
+    Parameters
+    ----------
+    xi : independent standard normals (n, d) [1]
+    top : highest degree in any one input [1]
+    families : as for :func:`design_matrix`
+    """
     table = hermite_orthonormal(xi.T, top)  # (top+1, d, n)
     for j, fam in enumerate(families or ()):
         if isinstance(fam, Recurrence):
@@ -206,11 +220,27 @@ def design_matrix(xi: Array, indices: IntArray,
         elif fam != "hermite":
             raise ValueError(f"family must be 'hermite', 'legendre' or a Recurrence, got "
                              f"{fam!r}")
-    psi = np.ones((xi.shape[0], indices.shape[0]))
-    for j in range(indices.shape[1]):
-        col = indices[:, j]
-        if np.any(col):
-            psi *= table[col, j, :].T
+    return table
+
+
+def _products(table: Array, indices: IntArray) -> Array:
+    """The products ``prod_j table[a_j, j, :]`` of every multi-index ``a`` (n, m) [1].
+
+    Built a block of rows at a time (about 64 k values, which stay in the processor's cache
+    while every input's factor multiplies them in); each value is the same product, in the
+    same order, as a whole-matrix pass would give.
+    """
+    rows = np.ascontiguousarray(table.transpose(2, 1, 0))  # (n, d, top + 1)
+    n, m = table.shape[2], indices.shape[0]
+    used = [(j, np.ascontiguousarray(indices[:, j])) for j in range(indices.shape[1])
+            if np.any(indices[:, j])]
+    psi = np.empty((n, m))
+    step = max(1, 65_536 // max(m, 1))
+    for lo in range(0, n, step):
+        block = psi[lo:lo + step]
+        block[...] = 1.0
+        for j, col in used:
+            block *= rows[lo:lo + step, j, col]
     return psi
 
 
@@ -249,6 +279,48 @@ def _omp(psi: Array, y: Array, max_terms: int, patience: int) -> tuple[IntArray,
     best point or at ``max_terms``; the returned basis is the one at the best point and its
     coefficients are its least-squares fit.
     """
+    path = _omp_path(psi, y, max_terms, patience)
+    try:
+        resid = next(path)
+        while True:
+            resid = path.send(psi.T @ resid)
+    except StopIteration as done:
+        return done.value
+
+
+def _omp_many(psi: Array, y2: Array, max_terms: int, patience: int
+              ) -> list[tuple[IntArray, Array, float]]:
+    """:func:`_omp` of every column of ``y2`` (n, k) on the same basis, the paths run side by
+    side: the correlations of all the residuals still running with the candidate columns come
+    from one matrix product per step (``psi`` is read from memory once for all outputs, where
+    one matrix-vector product per output read it k times). The paths are those of
+    :func:`_omp` but for the rounding of those correlations (about 1e-16 relative)."""
+    paths = {c: _omp_path(psi, y2[:, c], max_terms, patience) for c in range(y2.shape[1])}
+    out: dict[int, tuple[IntArray, Array, float]] = {}
+    asked: dict[int, Array] = {}
+    for c, path in paths.items():
+        try:  # the constant enters without a product
+            asked[c] = next(path)
+        except StopIteration as done:
+            out[c] = done.value
+    while asked:
+        cols = list(asked)
+        corr = np.stack([asked[c] for c in cols]) @ psi  # (running outputs, m)
+        asked = {}
+        for row, c in enumerate(cols):
+            try:
+                asked[c] = paths[c].send(corr[row])
+            except StopIteration as done:
+                out[c] = done.value
+    return [out[c] for c in range(y2.shape[1])]
+
+
+def _omp_path(psi: Array, y: Array, max_terms: int, patience: int
+              ) -> Generator[Array, Array, tuple[IntArray, Array, float]]:
+    """The matching pursuit of :func:`_omp` as a generator: it yields the residual whenever it
+    needs the correlations ``psi.T @ resid`` and is sent them back, so that the caller can
+    compute them for several outputs at once; it returns (active columns, coefficients,
+    corrected LOO error)."""
     n, m = psi.shape
     max_terms = min(max_terms, m, n - 2)
     norms = np.sqrt(np.sum(psi * psi, axis=0))
@@ -268,7 +340,7 @@ def _omp(psi: Array, y: Array, max_terms: int, patience: int) -> tuple[IntArray,
         if s == 0:
             k = 0
         else:
-            score = np.abs(psi.T @ resid) / np.where(usable, norms, np.inf)
+            score = np.abs((yield resid)) / np.where(usable, norms, np.inf)
             k = int(np.argmax(score))
             if not usable[k] or score[k] <= 1e-14 * math.sqrt(max(var_y, 1e-300) * n):
                 break
@@ -352,6 +424,24 @@ def fit_pce(
     -------
     one :class:`PolynomialChaos` per output column
     """
+    return _fit(xi, y, max_degree=max_degree, q=q, method=method, max_terms=max_terms,
+                families=families)[0]
+
+
+def _fit(
+    xi: ArrayLike,
+    y: ArrayLike,
+    *,
+    max_degree: int | None,
+    q: float,
+    method: Method,
+    max_terms: int | None,
+    families: Sequence[Family] | None,
+) -> tuple[list[PolynomialChaos], list[IntArray], Array]:
+    """:func:`fit_pce`, also returning where each expansion's terms sit among the candidate
+    columns and the candidates' design matrix (n, m) [1], whose columns ``psi[:, cols]`` are
+    bit for bit ``design_matrix(xi, expansion.indices)`` (a product of the same factors in the
+    same order; a factor of degree 0 is an exact 1.0), so no caller evaluates the basis again."""
     xi, y2 = _check_xy(xi, y)
     n, d = xi.shape
     if max_degree is None:
@@ -362,15 +452,16 @@ def fit_pce(
         raise ValueError(f"families must name {d} families, got {len(fams)}")
     psi = design_matrix(xi, cand, families)
     out: list[PolynomialChaos] = []
+    where: list[IntArray] = []
     if method == "omp":
         cap = max_terms if max_terms is not None else max(2, n // 2)
         patience = max(10, cap // 10)
-        for col in y2.T:
-            active, coef, err = _omp(psi, col, cap, patience)
+        for active, coef, err in _omp_many(psi, y2, cap, patience):
             order = np.argsort(active, kind="stable")
             out.append(PolynomialChaos(_ro(cand[active[order]]), _frozen(coef[order]),
                                        err, n, fams))
-        return out
+            where.append(active[order])
+        return out, where, psi
     if method != "ols":
         raise ValueError(f"method must be 'omp' or 'ols', got {method!r}")
     degrees = cand.sum(axis=1)
@@ -395,7 +486,8 @@ def fit_pce(
             raise ValueError(f"too few runs ({n}) for even a degree-1 basis in {d} inputs")
         cols = np.flatnonzero(degrees <= best_p[j])
         out.append(PolynomialChaos(_ro(cand[cols]), _frozen(cj), float(best_err[j]), n, fams))
-    return out
+        where.append(cols)
+    return out, where, psi
 
 
 def _ro(a: IntArray) -> IntArray:
