@@ -424,3 +424,29 @@ def test_png_image_data_only_for_8_bit_rgb():
     for mode in ("RGBA", "L", "P"):
         assert memo.pdf.png_image_data(png(mode)) is None, mode
     assert memo.pdf.png_image_data(b"GIF89a") is None
+
+
+@pytest.mark.slow
+def test_memo_of_changed_results_is_laid_out_while_drawing(legacy, monkeypatch):
+    """`risk memo` whose figures were drawn for other results: none is kept, so the memo takes
+    the usual path (the PDF laid out while the figures are drawn, where a core is idle) and
+    equals the memo rendered afresh; with the figures of these very results and the same page,
+    the PDF written before is kept as it was."""
+    from risk.report.memo import render as mr
+
+    one = memo.build_memo(legacy, workers=1)
+    later = {**legacy, "run_date": "2031-01-01 00:00 UTC", "seed": 7}
+    started = []
+    real = mr.draw_in_background
+
+    def spy(results: Any, **kwargs: Any) -> Any:
+        started.append(True)
+        return real(results, **kwargs)
+
+    monkeypatch.setattr(mr, "draw_in_background", spy)
+    redone = memo.build_memo(later, reuse=one.figures, previous=(one.html, one.pdf), workers=2)
+    assert started and redone == memo.build_memo(later, workers=1)
+    started.clear()
+    kept = memo.build_memo(legacy, reuse=one.figures, previous=(one.html, b"%PDF- before"),
+                           workers=2)
+    assert not started and kept.pdf == b"%PDF- before"
