@@ -364,6 +364,33 @@ def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
     rows.append(("  whole memo: in turn / PDF laid out while drawing",
                  f"{t_seq:.2f} s / {t_par:.2f} s",
                  f"{t_seq / t_par:.2f}x; goal figures + PDF <= 1.5 s; load average {load:.1f}"))
+    # what a run pays once: importing the drawing and the PDF engine after the pipeline's own
+    # modules (a fresh interpreter; no seaborn or pyplot since issue 19)
+    code = ("import time, sys, risk.api, risk.cli\n"
+            "c = time.process_time()\n"
+            "import risk.report.memo.render, weasyprint\n"
+            "print(time.process_time() - c, 'seaborn' in sys.modules)")
+    done = subprocess.run([sys.executable, "-c", code], check=True, capture_output=True,
+                          text=True, cwd=ROOT, env={**os.environ, "PYTHONPATH": str(ROOT)})
+    cpu, seaborn = done.stdout.split()
+    rows.append(("  importing the memo's modules and WeasyPrint (cold)",
+                 f"CPU {float(cpu):.2f} s", f"seaborn imported: {seaborn}"))
+
+
+def memo_cost(results: dict[str, object]) -> tuple[float, float, int]:
+    """CPU seconds of drawing the figures (one process) and of the PDF for these results,
+    after a warm-up rendering, and the number of figures."""
+    from risk.report.figures import render_all
+    from risk.report.memo.render import build_memo, render_html, render_pdf
+
+    build_memo(results, workers=1)
+    c = time.process_time()
+    figs = render_all(results, workers=1)
+    c_fig = time.process_time() - c
+    page = render_html(results, figs, linked=True)
+    c = time.process_time()
+    render_pdf(page, images=figs)
+    return c_fig, time.process_time() - c, len(figs)
 
 
 def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
@@ -382,6 +409,8 @@ def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
        the run's wall time and against its CPU time (the fairer one on a loaded machine: the
        loop's time is CPU time).
     """
+    import json
+
     from mechanism_loop import per_case_seconds
 
     samples = 20_000 if quick else 200_000
@@ -401,8 +430,12 @@ def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
         t_run, _ = run_cli(["run", str(scenario), "--out", str(Path(tmp) / "out"), "-q",
                             "--samples", str(samples)])
         after = os.times()
+        results = json.loads((Path(tmp) / "out" / "results.json").read_text(encoding="utf-8"))
     cpu = (after.children_user - before.children_user
            + after.children_system - before.children_system)
+    # the memo's cost does not grow with the sample count: the figures and the PDF are drawn
+    # from results.json alone (summaries, histograms of 24 bins, curves on fixed grids)
+    c_fig, c_pdf, n_fig = memo_cost(results)
     cases = samples * 6 * 3
     rows.append((f"risk run, G-3 at 3 stages, {samples:,} samples x 6 shots",
                  f"{t_run:.1f} s (CPU {cpu:.1f} s)",
@@ -419,6 +452,8 @@ def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
     for name, t in per.items():
         rows.append((f"    {name}", f"{t * 1e3:.3f} ms per case", ""))
     rows.append(("    pore collapse", f"{pore * 1e3:.3f} ms per sample", ""))
+    rows.append((f"  its memo: {n_fig} figures / PDF (CPU, warm)", f"{c_fig:.2f} s / {c_pdf:.2f} s",
+                 "drawn from results.json alone: bounded whatever the sample count"))
 
 
 if __name__ == "__main__":

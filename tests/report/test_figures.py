@@ -410,3 +410,35 @@ def test_no_background_drawing_where_no_child_may_start(legacy, monkeypatch):
 
     monkeypatch.setattr(multiprocessing.process.BaseProcess, "start", refuse)
     assert draw_in_background(legacy) is None
+
+
+def test_second_drawing_process_only_where_two_cores_are_idle(monkeypatch):
+    """A second process only where this one and it each get an idle core: every core busy by
+    the load average rules it out without waiting to measure; otherwise the measured idle
+    cores decide (a run alone on the machine counts about 1 in its own load average)."""
+    from risk.report.figures import render as rn
+
+    monkeypatch.setattr(rn.os, "sched_getaffinity", lambda _pid: {0, 1})
+    monkeypatch.setattr(rn.os, "getloadavg", lambda: (2.4, 2.0, 1.5))
+
+    def not_measured() -> float:
+        raise AssertionError("idle cores measured though every core is busy")
+
+    monkeypatch.setattr(rn, "_idle_cores", not_measured)
+    assert rn._workers() == 1
+    monkeypatch.setattr(rn.os, "getloadavg", lambda: (1.1, 0.9, 0.5))
+    monkeypatch.setattr(rn, "_idle_cores", lambda: 1.9)
+    assert rn._workers() == 2
+    monkeypatch.setattr(rn, "_idle_cores", lambda: 1.0)  # another process holds one core
+    assert rn._workers() == 1
+
+
+def test_idle_cores_are_within_the_machine():
+    """Measured from the kernel's CPU time counters (proc(5), /proc/stat): between no core
+    and every core of the machine."""
+    import os
+
+    from risk.report.figures import render as rn
+
+    idle = rn._idle_cores(0.05)
+    assert idle is None or 0.0 <= idle <= (os.cpu_count() or 1) + 1e-9

@@ -362,3 +362,91 @@ def test_pdf_of_an_unchanged_memo_is_kept(legacy):
     later = {**legacy, "run_date": "2031-01-01 00:00 UTC"}
     redone = memo.build_memo(later, reuse=one.figures, previous=(one.html, b"%PDF- before"))
     assert redone.pdf.startswith(PDF_MAGIC) and redone.html != one.html
+
+
+def _pdf_images(pdf: bytes) -> list[tuple[dict[str, int], bytes]]:
+    """Every image XObject of a PDF: its /Width, /Height, /BitsPerComponent, /Predictor,
+    /Colors and /Columns, and its stream data (read by /Length; ISO 32000-1:2008, sec. 7.3.8
+    and 8.9.5)."""
+    out = []
+    for m in re.finditer(rb"<<(/Type\s*/XObject\s*/Subtype\s*/Image.*?)>>\s*stream\r?\n",
+                         pdf, re.S):
+        head = m.group(1)
+        keys = {k.decode(): int(v) for k, v in re.findall(
+            rb"/(Width|Height|BitsPerComponent|Predictor|Colors|Columns|Length)\s+(\d+)", head)}
+        out.append((keys, pdf[m.end():m.end() + keys["Length"]]))
+    return out
+
+
+def test_pdf_embeds_the_figures_pixels_as_drawn(perforated, perforated_figures):
+    """The PDF holds each figure's PNG image data as it is (no re-encoding): a PNG-predicted
+    Flate stream of 8-bit RGB scanlines (ISO 32000-1:2008, sec. 7.4.4.4) equal to the PNG's
+    IDAT data. Decoded as the PDF describes it (the stream wrapped in a PNG of the dictionary's
+    width, height and colour type, PNG specification sec. 11.2), Pillow reads the figure's
+    pixels back."""
+    import io
+    import struct
+
+    import numpy as np
+    from PIL import Image
+
+    def chunk(kind: bytes, data: bytes) -> bytes:
+        return (struct.pack(">I", len(data)) + kind + data
+                + struct.pack(">I", zlib.crc32(kind + data)))
+
+    page = memo.render_html(perforated, perforated_figures, linked=True)
+    embedded = _pdf_images(memo.render_pdf(page, images=perforated_figures))
+    assert len(embedded) == len(perforated_figures)
+    by_data = {memo.pdf.png_image_data(png): png for png in perforated_figures.values()}
+    for keys, data in embedded:
+        png = by_data[data]  # the figure's own bytes, not a re-encoding of them
+        assert (keys["BitsPerComponent"], keys["Colors"], keys["Predictor"]) == (8, 3, 15)
+        assert keys["Columns"] == keys["Width"]
+        ihdr = struct.pack(">IIBBBBB", keys["Width"], keys["Height"], 8, 2, 0, 0, 0)
+        as_described = (b"\x89PNG\r\n\x1a\n" + chunk(b"IHDR", ihdr) + chunk(b"IDAT", data)
+                        + chunk(b"IEND", b""))
+        assert np.array_equal(np.asarray(Image.open(io.BytesIO(as_described))),
+                              np.asarray(Image.open(io.BytesIO(png)).convert("RGB")))
+
+
+def test_png_image_data_only_for_8_bit_rgb():
+    """RGBA, grey or palette PNGs (not what the figures are) are left to WeasyPrint."""
+    import io
+
+    from PIL import Image
+
+    def png(mode: str) -> bytes:
+        out = io.BytesIO()
+        Image.new(mode, (3, 2)).save(out, format="png")
+        return out.getvalue()
+
+    assert memo.pdf.png_image_data(png("RGB"))
+    for mode in ("RGBA", "L", "P"):
+        assert memo.pdf.png_image_data(png(mode)) is None, mode
+    assert memo.pdf.png_image_data(b"GIF89a") is None
+
+
+@pytest.mark.slow
+def test_memo_of_changed_results_is_laid_out_while_drawing(legacy, monkeypatch):
+    """`risk memo` whose figures were drawn for other results: none is kept, so the memo takes
+    the usual path (the PDF laid out while the figures are drawn, where a core is idle) and
+    equals the memo rendered afresh; with the figures of these very results and the same page,
+    the PDF written before is kept as it was."""
+    from risk.report.memo import render as mr
+
+    one = memo.build_memo(legacy, workers=1)
+    later = {**legacy, "run_date": "2031-01-01 00:00 UTC", "seed": 7}
+    started = []
+    real = mr.draw_in_background
+
+    def spy(results: Any, **kwargs: Any) -> Any:
+        started.append(True)
+        return real(results, **kwargs)
+
+    monkeypatch.setattr(mr, "draw_in_background", spy)
+    redone = memo.build_memo(later, reuse=one.figures, previous=(one.html, one.pdf), workers=2)
+    assert started and redone == memo.build_memo(later, workers=1)
+    started.clear()
+    kept = memo.build_memo(legacy, reuse=one.figures, previous=(one.html, b"%PDF- before"),
+                           workers=2)
+    assert not started and kept.pdf == b"%PDF- before"

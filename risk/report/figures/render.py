@@ -15,6 +15,7 @@ import json
 import multiprocessing
 import os
 import struct
+import time
 import zlib
 from collections.abc import Callable, Mapping
 from concurrent.futures import ProcessPoolExecutor
@@ -72,14 +73,14 @@ KEY_CHUNK: Final = "risk-figure-key"
 @functools.lru_cache(maxsize=1)
 def _code_digest() -> str:
     """Digest of what draws the figures: this package's sources, the shared formatting, and
-    the versions of the tool and of matplotlib and seaborn."""
+    the versions of the tool and of matplotlib (the colours and style once taken from seaborn
+    are this package's own: :mod:`risk.report.figures.palettes`)."""
     import matplotlib
-    import seaborn
 
     from risk import __version__
 
     here = Path(__file__).resolve().parent
-    h = hashlib.sha256(f"{__version__} {matplotlib.__version__} {seaborn.__version__}".encode())
+    h = hashlib.sha256(f"{__version__} {matplotlib.__version__}".encode())
     for path in (*sorted(here.glob("*.py")), here.parent / "formatting.py"):
         h.update(path.name.encode() + b"\0" + path.read_bytes())
     return h.hexdigest()
@@ -167,17 +168,46 @@ def _render_one(name: str, results: Mapping[str, Any], key: str = "") -> bytes |
     return _png(fig, provenance_text(results), key)
 
 
+def _idle_cores(window: float = 0.1) -> float | None:
+    """Cores left idle [-] over ``window`` [s] while this process sleeps, from the kernel's
+    CPU time counters (Linux ``/proc/stat``, first line: user, nice, system, idle, iowait,
+    irq, softirq, steal in clock ticks, summed over the CPUs); None where unreadable."""
+    def counters() -> tuple[int, int]:
+        with open("/proc/stat", "rb") as f:
+            ticks = [int(v) for v in f.readline().split()[1:9]]
+        return ticks[3] + ticks[4], sum(ticks)
+
+    try:
+        idle0, total0 = counters()
+        time.sleep(window)
+        idle1, total1 = counters()
+    except (OSError, ValueError, IndexError):
+        return None
+    if total1 <= total0:
+        return None
+    return (idle1 - idle0) / (total1 - total0) * (os.cpu_count() or 1)
+
+
 def _workers() -> int:
-    """Processes for drawing: 2 when this process may use two cores and one of them is idle
-    (one-minute load average below cores - 1), else 1. Measured: on two busy cores a second
-    process only adds its start-up and colder caches (0.87-0.91x); the figures' CPU time
-    splits about evenly over two (3.9 s in one process, 4.6 s over two; benchmarks/README.md)."""
+    """Processes for drawing: 2 when this process may use two cores and about two are idle
+    while it waits (so that it and a second process each get one), else 1.
+
+    The one-minute load average counts this run itself (near 1 after a run of a minute), so
+    it only rules a second process out (load >= cores: every core busy); where it leaves room,
+    the idle cores are measured over 0.1 s (:func:`_idle_cores`, at least 1.5 of them). Measured:
+    on two busy cores a second process only adds its start-up and colder caches (0.87-0.91x);
+    the figures' CPU time splits about evenly over two (benchmarks/README.md)."""
     try:
         cores = len(os.sched_getaffinity(0))
         load = os.getloadavg()[0]
     except (AttributeError, OSError):  # pragma: no cover - not on Linux
         return 1
-    return 2 if cores >= 2 and load < cores - 1 else 1
+    if cores < 2 or load >= cores:
+        return 1
+    idle = _idle_cores()
+    if idle is None:  # pragma: no cover - no /proc/stat: the load average alone
+        return 2 if load < cores - 1 else 1
+    return 2 if idle >= 1.5 else 1
 
 
 def render_all(results: Mapping[str, Any], *, workers: int | None = None,

@@ -177,8 +177,11 @@ def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None 
     ``previous``: the HTML and PDF of a memo rendered before (`risk memo` on a folder whose
     files are as the tool wrote them). Where every figure is reused and the page comes out
     the same (the same text, numbers and figure bytes), its PDF is returned as it is instead
-    of being laid out again (a memo re-rendered with nothing changed costs the HTML alone)."""
-    if previous is not None and reuse:
+    of being laid out again (a memo re-rendered with nothing changed costs the HTML alone);
+    where no figure can be kept, as without ``previous``."""
+    # figures drawn for other results (or by other code) are all redrawn: then the usual path
+    # below, which lays out the PDF while they are drawn where a core is idle
+    if previous is not None and reuse and _keeps_figures(results, reuse):
         figures = render_all(results, reuse=reuse, workers=1)
         html = render_html(results, figures)
         if html == previous[0] and all(reuse.get(n) == png for n, png in figures.items()):
@@ -206,6 +209,12 @@ def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None 
     return Memo(html=render_html(results, figures),
                 pdf=render_pdf(render_html(results, figures, linked=True), images=figures),
                 figures=dict(figures))
+
+
+def _keeps_figures(results: Mapping[str, Any], reuse: Mapping[str, bytes]) -> bool:
+    """Whether some figure drawn before is kept for these results (its stored key matches)."""
+    key = figure_render.figure_key(results)
+    return any(figure_render.png_key(png) == key for png in reuse.values())
 
 
 def _solved_limits(results: Mapping[str, Any]) -> bool:
