@@ -9,9 +9,7 @@ figures are plain :class:`matplotlib.figure.Figure` objects drawn under a fixed 
 (:func:`style`), so the same results give byte-identical PNGs.
 
 Colours come from seaborn's colour-blind-safe ``"colorblind"`` palette (mechanisms, stages) and
-perceptually uniform sequential/diverging maps (probability bands, correlations), written out in
-``palettes`` with seaborn's "whitegrid"/"paper" style in ``common`` so that drawing does not
-import seaborn. Every axis label
+perceptually uniform sequential/diverging maps (probability bands, correlations). Every axis label
 carries its unit in brackets, in the run's pressure unit (``results["units"]["pressure"]``).
 Percentile keys follow :mod:`risk.conventions` and :mod:`risk.report.results`.
 

@@ -13,10 +13,9 @@ from typing import Any, Final
 
 import matplotlib as mpl
 import numpy as np
+import seaborn as sns
 from cycler import cycler
 from matplotlib.figure import Figure
-
-from risk.report.figures.palettes import colorblind
 
 DPI: Final = 150
 PAGE_WIDTH: Final = 7.0  # [in] printable width of an A4 page with 2 cm margins, rounded
@@ -27,7 +26,9 @@ MAX_HEIGHT: Final = 9.0
 #: the frame.
 _P_LIMITS: Final = (-0.02, 1.02)
 
-PALETTE: Final[list[tuple[float, float, float]]] = colorblind(10)
+PALETTE: Final[list[tuple[float, float, float]]] = [
+    (float(c[0]), float(c[1]), float(c[2])) for c in sns.color_palette("colorblind", 10)
+]
 #: Fixed colour per mechanism key, so a mechanism keeps its colour in every figure.
 _MECHANISM_ORDER: Final = ("yield_onset", "effective_strength_onset", "tunnel_collapse",
                            "pore_collapse")
@@ -77,34 +78,6 @@ def _hide_unused(axes: np.ndarray, used: int) -> None:
         ax.set_visible(False)
 
 
-#: seaborn 0.13's "whitegrid" axes style (``seaborn.axes_style("whitegrid")``; Waskom 2021,
-#: J. Open Source Softw. 6(60), 3021), written out so that drawing does not import seaborn.
-_WHITEGRID: Final[dict[str, Any]] = {
-    "figure.facecolor": "white", "axes.labelcolor": ".15", "xtick.direction": "out",
-    "ytick.direction": "out", "xtick.color": ".15", "ytick.color": ".15",
-    "axes.axisbelow": True, "grid.linestyle": "-", "text.color": ".15",
-    "font.family": ["sans-serif"],
-    "font.sans-serif": ["Arial", "DejaVu Sans", "Liberation Sans", "Bitstream Vera Sans",
-                        "sans-serif"],
-    "lines.solid_capstyle": "round", "patch.edgecolor": "w", "patch.force_edgecolor": True,
-    "image.cmap": "rocket", "xtick.top": False, "ytick.right": False, "axes.grid": True,
-    "axes.facecolor": "white", "axes.edgecolor": ".8", "grid.color": ".8",
-    "axes.spines.left": True, "axes.spines.bottom": True, "axes.spines.right": True,
-    "axes.spines.top": True, "xtick.bottom": False, "ytick.left": False,
-}
-#: seaborn's "notebook" context, which its "paper" context scales by 0.8
-#: (``seaborn.plotting_context("paper")``), font sizes included.
-_NOTEBOOK: Final[dict[str, float]] = {
-    "axes.linewidth": 1.25, "grid.linewidth": 1, "lines.linewidth": 1.5,
-    "lines.markersize": 6, "patch.linewidth": 1, "xtick.major.width": 1.25,
-    "ytick.major.width": 1.25, "xtick.minor.width": 1, "ytick.minor.width": 1,
-    "xtick.major.size": 6, "ytick.major.size": 6, "xtick.minor.size": 4,
-    "ytick.minor.size": 4, "font.size": 12, "axes.labelsize": 12, "axes.titlesize": 12,
-    "xtick.labelsize": 11, "ytick.labelsize": 11, "legend.fontsize": 11,
-    "legend.title_fontsize": 12,
-}
-
-
 def style() -> dict[str, Any]:
     """The rc settings every figure is drawn under (seaborn's "whitegrid" and "paper"
     context, a bundled font so text renders the same on every machine); a fresh copy of
@@ -114,9 +87,8 @@ def style() -> dict[str, Any]:
 
 @functools.lru_cache(maxsize=1)
 def _style() -> dict[str, Any]:
-    rc: dict[str, Any] = {k: (list(v) if isinstance(v, list) else v)
-                          for k, v in _WHITEGRID.items()}
-    rc.update({k: v * 0.8 for k, v in _NOTEBOOK.items()})
+    rc: dict[str, Any] = dict(sns.axes_style("whitegrid"))
+    rc.update(sns.plotting_context("paper", font_scale=1.0))
     rc.update({
         "font.family": "DejaVu Sans",
         "font.sans-serif": ["DejaVu Sans"],

@@ -10,6 +10,7 @@ from collections.abc import Mapping
 from typing import Any
 
 import numpy as np
+import seaborn as sns
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
@@ -32,7 +33,6 @@ from risk.report.figures.common import (
     _unit,
     mechanism_color,
 )
-from risk.report.figures.palettes import colorblind, rocket_lut, sampled
 from risk.report.formatting import format_value
 from risk.report.reading import drawdown_mechanisms as _drawdown_mechanisms
 
@@ -114,9 +114,8 @@ def plot_failure_probability(results: Mapping[str, Any], *, fig: Figure | None =
 # --------------------------------------------------------------------------- operating envelope
 
 def _band_colors(n: int) -> list[tuple[float, float, float]]:
-    """``n`` colours of the reversed "rocket" map, light to dark, its palest and darkest
-    left out (``seaborn.color_palette("rocket_r", n + 2)[1:n + 1]``)."""
-    return sampled(rocket_lut()[::-1], n + 2)[1:n + 1]
+    return [(float(c[0]), float(c[1]), float(c[2]))
+            for c in sns.color_palette("rocket_r", n + 2)[1:n + 1]]
 
 
 def plot_envelope(results: Mapping[str, Any], *, fig: Figure | None = None) -> Figure | None:
@@ -241,7 +240,7 @@ def plot_tunnel_collapse(results: Mapping[str, Any], *, fig: Figure | None = Non
         fig = fig or _new_figure(3.4)
         ax_r, ax_e = fig.subplots(1, 2, sharex=True)
         handles: list[Any] = []
-        colors = colorblind(len(profile))
+        colors = [tuple(c) for c in sns.color_palette("colorblind", len(profile))]
         for c, st in zip(colors, profile, strict=True):
             d = _arr(st["drawdown"])
             label = f"median, {PR} = {format_value(st.get('reservoir_pressure'), unit)}"

@@ -3,11 +3,13 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+import warnings
+from collections.abc import Mapping
 from typing import Any
 
 import matplotlib as mpl
 import numpy as np
+import seaborn as sns
 from matplotlib.axes import Axes
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
@@ -80,51 +82,15 @@ def plot_input_correlation(results: Mapping[str, Any], *, ax: Axes | None = None
         labels = [input_label(str(x)) for x in names]
         text = np.array([[format_value(v + 0.0, "-", none="") if np.isfinite(v) else ""
                           for v in np.round(row, 2)] for row in m])
-        _heatmap(ax, m, labels, text)
+        with warnings.catch_warnings():  # seaborn 0.13 calls a colormap method matplotlib
+            warnings.simplefilter("ignore", PendingDeprecationWarning)  # plans to deprecate
+            sns.heatmap(m, ax=ax, vmin=-1.0, vmax=1.0, center=0.0, cmap="RdBu_r", annot=text,
+                        fmt="", annot_kws={"fontsize": 7}, square=True, linewidths=0.5,
+                        linecolor="white", xticklabels=labels, yticklabels=labels,
+                        cbar_kws={"label": "Spearman rank correlation [-]", "shrink": 0.8})
         ax.tick_params(axis="x", labelrotation=45)
         ax.tick_params(axis="y", labelrotation=0)
         for t in ax.get_xticklabels():
             t.set_horizontalalignment("right")
             t.set_rotation_mode("anchor")
     return ax
-
-
-def _heatmap(ax: Axes, m: np.ndarray, labels: Sequence[str], text: np.ndarray) -> None:
-    """A correlation matrix [-] as a heatmap with each cell's value written in it, drawn as
-    seaborn 0.13's ``heatmap`` draws it (Waskom 2021, J. Open Source Softw. 6(60), 3021)
-    with ``vmin=-1, vmax=1, center=0, cmap="RdBu_r", square=True, linewidths=0.5,
-    linecolor="white"``, annotations at 7 pt, a colorbar at 0.8 of the height: the same
-    pixels without importing seaborn or drawing the figure once more to test whether tick
-    labels overlap (their rotation is set afterwards anyway)."""
-    base = mpl.colormaps["RdBu_r"]
-    cmap = mpl.colors.ListedColormap(base(np.linspace(0.0, 1.0, 256))).with_extremes(
-        bad=base(np.ma.masked_invalid([np.nan]))[0])  # seaborn's centring, its bad colour
-    ax.set_aspect("equal")
-    for side in ("top", "right", "left", "bottom"):
-        ax.spines[side].set_visible(False)
-    mesh = ax.pcolormesh(np.ma.masked_invalid(m), cmap=cmap, vmin=-1.0, vmax=1.0,
-                         linewidths=0.5, edgecolor="white")
-    n_rows, n_cols = m.shape
-    ax.set(xlim=(0, n_cols), ylim=(0, n_rows))
-    ax.invert_yaxis()
-    fig = ax.get_figure(root=True)
-    if fig is None:  # pragma: no cover - an Axes is always made on a figure here
-        raise ValueError("the heatmap's axes belong to no figure")
-    bar = fig.colorbar(mesh, None, ax, label="Spearman rank correlation [-]", shrink=0.8)
-    bar.outline.set_linewidth(0)
-    ax.set(xticks=np.arange(n_cols) + 0.5, yticks=np.arange(n_rows) + 0.5)
-    ax.set_xticklabels(labels)
-    for t in ax.set_yticklabels(labels, rotation="vertical"):
-        t.set_verticalalignment("center")
-    ax.set(xlabel="", ylabel="")
-    mesh.update_scalarmappable()
-    faces = np.asarray(mesh.get_facecolor(), dtype=float)
-    for k, (value, label) in enumerate(zip(m.flat, text.flat, strict=True)):
-        if not np.isfinite(value):
-            continue
-        # relative luminance of the cell (W3C WCAG 2.0): dark text on light cells
-        rgb = faces[k, :3]
-        rgb = np.where(rgb <= 0.03928, rgb / 12.92, ((rgb + 0.055) / 1.055) ** 2.4)
-        dark = float(rgb @ np.array([0.2126, 0.7152, 0.0722])) > 0.408
-        ax.text(k % n_cols + 0.5, k // n_cols + 0.5, str(label), color=".15" if dark else "w",
-                ha="center", va="center", fontsize=7)

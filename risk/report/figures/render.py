@@ -73,14 +73,14 @@ KEY_CHUNK: Final = "risk-figure-key"
 @functools.lru_cache(maxsize=1)
 def _code_digest() -> str:
     """Digest of what draws the figures: this package's sources, the shared formatting, and
-    the versions of the tool and of matplotlib (the colours and style once taken from seaborn
-    are this package's own: :mod:`risk.report.figures.palettes`)."""
+    the versions of the tool and of matplotlib and seaborn."""
     import matplotlib
+    import seaborn
 
     from risk import __version__
 
     here = Path(__file__).resolve().parent
-    h = hashlib.sha256(f"{__version__} {matplotlib.__version__}".encode())
+    h = hashlib.sha256(f"{__version__} {matplotlib.__version__} {seaborn.__version__}".encode())
     for path in (*sorted(here.glob("*.py")), here.parent / "formatting.py"):
         h.update(path.name.encode() + b"\0" + path.read_bytes())
     return h.hexdigest()
