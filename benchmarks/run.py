@@ -365,7 +365,7 @@ def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
                  f"{t_seq:.2f} s / {t_par:.2f} s",
                  f"{t_seq / t_par:.2f}x; goal figures + PDF <= 1.5 s; load average {load:.1f}"))
     # what a run pays once: importing the drawing and the PDF engine after the pipeline's own
-    # modules (a fresh interpreter; no seaborn or pyplot since issue 19)
+    # modules (a fresh interpreter; seaborn, and pyplot with it, is imported for the figures)
     code = ("import time, sys, risk.api, risk.cli\n"
             "c = time.process_time()\n"
             "import risk.report.memo.render, weasyprint\n"
