@@ -311,6 +311,12 @@ def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: st
         cos2 = np.empty(size)
         arc_onset(*views, CODES[criterion], n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
         psi = np.arctan2(psi, cos2, out=psi)  # nan where never
+    elif criterion == "mogi-coulomb":
+        from risk.mechanics._mogi_kernel import mogi_onset
+
+        cos2 = np.empty(size)
+        mogi_onset(*views, n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
+        psi = np.arctan2(psi, cos2, out=psi)  # nan where never
     else:
         onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
     inverse = tuple(int(i) for i in np.argsort(order))
