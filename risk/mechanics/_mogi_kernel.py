@@ -14,15 +14,24 @@ Value at one angle
     largest and smallest of them: (m + r)/2, m or (m - r)/2 as the wall is compressive, has one
     tensile principal stress or two. Only on the middle branch is the crossing F = 0 a root of
     a quadratic in the wall pressure p; on the others it is a root of a quartic. The crossing
-    is therefore taken by a fixed number of Newton steps on F, safeguarded by bisection on the
-    bracket [0, p_r] as it shrinks, started from the middle branch's quadratic root. The value
-    searched and its slope are those of the Drucker-Prager kernel (v = the crossing, F(0) where
-    the angle never fails, p_r + F(p_r) where it fails with no drawdown).
+    is therefore taken by a fixed number of steps, each the root of the quadratic obtained with
+    r replaced by its tangent (a Newton step on the r term alone), safeguarded by the bracket
+    [0, p_r] as it shrinks and started from the middle branch's quadratic root, then one Newton
+    step on F. The value searched and its slope are those of the Drucker-Prager kernel
+    (v = the crossing, F(0) where the angle never fails, p_r + F(p_r) where it fails with no
+    drawdown).
 
 Where to look for the worst angle
     Mogi-Coulomb's excess falls as the hoop-axial shear rises where the two wall stresses are
     nearly equal (dF/dr = -b/2 at r = 0), so the half circle of the Drucker-Prager kernel does
-    not hold: the search covers the whole circle, with a grid of _GRID directions.
+    not hold: the search covers the whole circle, with a grid of _GRID directions. Where the
+    value search finds no failure at p_r, F(p_r) and the tensile cut-off are searched on the
+    circle only where the value grid's largest F and -lo at p_r, plus a Lipschitz bound over
+    half a grid step, do not rule them out.
+
+The Mogi-Coulomb elastic domain is not convex (derivations sec. 15.4): where the failing
+wall pressures at one angle form a middle interval, this kernel (like the envelope iteration
+and the numpy reference path) does not see them.
 
 Cases whose grid shows two maxima that might compete, whose slope search has not converged or
 whose polished crossing has not converged take the general envelope iteration of
@@ -54,8 +63,8 @@ from risk.mechanics._onset_kernel import (
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
 _GRID = 12  # directions of the grid over the whole circle in psi
 _ROUNDS = 6  # Anderson-Bjorck steps for every case
-# safeguarded Newton steps per crossing: 2 on the grid, 3 in the steps on the slope, 8 at the
-# final angle (written out in _dir)
+# safeguarded steps per crossing (:func:`_step`): 2 on the grid, 3 in the steps on the slope,
+# 8 at the final angle (written out in _dir)
 _S = math.sqrt(2.0) / 3.0  # tau_oct = _S sqrt(m^2 + 3 r^2) at the wall
 _S2 = 2.0 / 9.0
 _HALF_STEP = math.pi / _GRID  # every direction lies within this of a grid direction [rad]
@@ -90,20 +99,45 @@ def _mogi(m: float, h: float, w: float, aa: float, bb: float
 
 
 @_jit_inline
-def _newton(x: float, lo: float, hi: float, ma: float, ha: float, mb: float, w: float,
-            aa: float, bb: float) -> tuple[float, float, float, float]:
-    """One Newton step on F at wall pressure x (m = ma - mb x, h = ha - x/2), kept in the
-    bracket [lo, hi] of the crossing (a bisection where it leaves it or F does not fall),
-    which the sign of F at x narrows first. Returns the new x, the bracket and the step's
-    size. Branch-free."""
-    f, fm, fh, _fw = _mogi(ma - mb * x, ha - 0.5 * x, w, aa, bb)
-    fp = -mb * fm - 0.5 * fh
+def _step(x: float, lo: float, hi: float, ma: float, ha: float, mb: float, w: float,
+          aa: float, bb: float) -> tuple[float, float, float, float]:
+    """One step towards the crossing from wall pressure x (m = ma - mb x, h = ha - x/2): the
+    sign of F at x narrows the bracket [lo, hi] (F(lo) >= 0 > F(hi)), then the next x is the
+    root of the model with the branch at x and r replaced by its tangent at x (a quadratic:
+    docs/derivations.md, sec. 15.4), the one in the bracket (to rounding) with a non-negative
+    right-hand side nearest x, or the bracket's middle where there is none. Returns the new x, the
+    bracket and the step's size. Branch-free."""
+    m = ma - mb * x
+    h = ha - 0.5 * x
+    r = math.sqrt(h * h + w)
+    q = math.sqrt(m * m + 3.0 * r * r)
+    up = 1.0 if m + r > 0.0 else 0.0
+    dn = 1.0 if m - r < 0.0 else 0.0
+    cm = 0.5 * (up + dn)  # mid = cm m + cr r on this branch
+    cr = 0.5 * (up - dn)
+    f = _S * q - aa - bb * (cm * m + cr * r)
     fail = f >= 0.0
     lo = x if fail else lo
     hi = hi if fail else x
-    xn = x - f / fp
-    ok = (fp < 0.0) & (xn >= lo) & (xn <= hi)
-    xn = xn if ok else 0.5 * (lo + hi)
+    r1 = -0.5 * h / max(r, 1e-300)  # dr/dp
+    e0 = aa + bb * (cm * ma + cr * (r - r1 * x))  # a + b mid = e0 - e1 p on the tangent
+    e1 = bb * (cm * mb - cr * r1)
+    q2 = _S2 * (mb * mb + 0.75) - e1 * e1
+    q1 = -_S2 * (2.0 * ma * mb + 3.0 * ha) + 2.0 * e0 * e1
+    q0 = _S2 * (ma * ma + 3.0 * (ha * ha + w)) - e0 * e0
+    sd = math.sqrt(max(q1 * q1 - 4.0 * q2 * q0, 0.0))
+    half = -0.5 * (q1 + (sd if q1 >= 0.0 else -sd))
+    ra = half / q2
+    rb = q0 / half
+    # a root within rounding of the bracket counts as in it (at the crossing F(x) may be
+    # -1e-15 and the model's root x + 1e-15: found in review), and is clipped into it
+    tol = 1e-12 * (1.0 + abs(x))
+    da = abs(ra - x) if ((ra >= lo - tol) & (ra <= hi + tol)
+                         & (e0 - e1 * ra >= 0.0)) else math.inf
+    db = abs(rb - x) if ((rb >= lo - tol) & (rb <= hi + tol)
+                         & (e0 - e1 * rb >= 0.0)) else math.inf
+    xn = ra if da <= db else rb
+    xn = min(max(xn, lo), hi) if min(da, db) < math.inf else 0.5 * (lo + hi)
     return xn, lo, hi, abs(xn - x)
 
 
@@ -121,7 +155,7 @@ def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: fl
          w1: float, w2: float, bt: float, bz: float, nu: float, p_r: float, aa: float,
          bb: float, refine: bool, polish: bool) -> tuple[float, float, float, float, float]:
     """The value at the direction turned from (cb, sb) by 2 atan(t), its slope in psi, the
-    size of the last Newton step (module docstring; docs/derivations.md, sec. 15.4), and F and
+    size of the last step (module docstring; docs/derivations.md, sec. 15.4), and F and
     -lo at p_r (for the screens of :func:`_search`)."""
     c, s = _turn(t, cb, sb)
     dev = pp * c + qq * s
@@ -149,23 +183,27 @@ def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: fl
     r2 = q0 / half
     in1 = (r1 >= 0.0) & (r1 <= p_r)
     x = r1 if in1 else r2
+    # where neither root lies in [0, p_r], the secant point of F(0) >= 0 > F(p_r)
+    x = x if (x >= 0.0) & (x <= p_r) else p_r * f0 / (f0 - fr)
     x = min(max(x, 0.0), p_r) if x == x else 0.5 * p_r
-    # safeguarded Newton steps on F, the bracket [lo, hi] kept with F(lo) >= 0 > F(hi);
+    # safeguarded steps (:func:`_step`), the bracket [lo, hi] kept with F(lo) >= 0 > F(hi);
     # written out (no inner loop: the loop over cases then vectorises)
     lo, hi = 0.0, p_r
-    x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
-    x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
+    x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+    x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
     if refine:
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
     if polish:
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
-        x, lo, hi, dx = _newton(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
     f, fm, fh, fw = _mogi(ma - mb * x, ha - 0.5 * x, w, aa, bb)
     fp = -mb * fm - 0.5 * fh
     gx = -(fm * dm + fh * dh + fw * dw) / fp
+    xn = x - f / fp  # a last Newton step, kept in the bracket
+    x = xn if (fp < 0.0) & (xn >= lo) & (xn <= hi) else x
     top = fr >= 0.0
     bottom = (f0 < 0.0) & (not top)
     v = p_r + fr if top else (f0 if bottom else x)
@@ -203,9 +241,9 @@ def _at_p_r(kind: int, t: float, cb: float, sb: float, k0: float, z0: float, pp:
 @_jit
 def _evaluate(kind, mode, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
     """The function a search maximises at t = tt[r] from (cb[r], sb[r]) for every case r of a
-    block: the value (kind _VALUE; Newton steps 2 for ``mode`` 0 (the grid), 3 for 1 (the
+    block: the value (kind _VALUE; steps 2 for ``mode`` 0 (the grid), 3 for 1 (the
     steps on the slope), 8 for 2 (the final value)), F at p_r or -lo at p_r.
-    Returns (values, slopes, and F and -lo at p_r for the value (the last Newton steps
+    Returns (values, slopes, and F and -lo at p_r for the value (the last steps
     twice polished; the values twice for the others)). One plain loop per kind, its outputs
     allocated in it (such loops vectorise; see the Drucker-Prager kernel)."""
     if kind == _VALUE:
@@ -237,7 +275,7 @@ def _loop_value(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb)
 
 @_jit
 def _loop_refine(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
-    """:func:`_dir` with 3 Newton steps at every case (see :func:`_evaluate`)."""
+    """:func:`_dir` with 3 steps at every case (see :func:`_evaluate`)."""
     cnt = tt.size
     vn, gn, fn, tn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
@@ -411,15 +449,18 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
     vn, gn, dn, _d = _evaluate(kind, 2, bx, bcb, bsb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
                            p_r, aa, bb)
     for r in range(cnt):
+        # the search compared values of fewer steps: where the polished one differs, those
+        # were not converged and the comparison is not trusted (flag)
+        loose = abs(vn[r] - bv[r]) > 1e-7 * (1.0 + abs(vn[r]))
         bv_out[r] = vn[r]
         c, s = _turn(bx[r], bcb[r], bsb[r])
         bc_out[r] = c
         bs_out[r] = s
         # converged: the slope's root bracketed to 1e-7 in t, or the slope at the best point
         # below 1e-6 MPa/rad (the value is then the maximum to g^2/(2|v''|)); the crossing's
-        # last Newton step below 1e-9 MPa (the error after it is of its square's order)
+        # last step below 1e-9 MPa (the error after it is of its square's order)
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
-        flag_out[r] = 1.0 if (peaks[r] > 1.0) | open_ | (dn[r] > 1e-9) else 0.0
+        flag_out[r] = 1.0 if (peaks[r] > 1.0) | open_ | (dn[r] > 1e-9) | loose else 0.0
 
 
 @_jit_inline

@@ -28,7 +28,10 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
 - **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
   with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
   below.
-- **the other criteria** (Mogi-Coulomb, modified Lade): the envelope iteration (Notes of
+- **Mogi-Coulomb**: a compiled kernel on the whole circle (:mod:`risk.mechanics._mogi_kernel`):
+  the crossing at one angle by a fixed number of safeguarded steps, the worst angle searched
+  as for Drucker-Prager but on the whole circle (docs/derivations.md, sec. 15.4).
+- **the other criteria** (modified Lade): the envelope iteration (Notes of
   :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
   one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
   is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):
