@@ -63,7 +63,7 @@ from risk.mechanics._onset_kernel import (
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
 _GRID = 12  # directions of the grid over the whole circle in psi
 _ROUNDS = 6  # Anderson-Bjorck steps for every case
-# safeguarded steps per crossing (:func:`_step`): 2 on the grid, 3 in the steps on the slope,
+# safeguarded steps per crossing (:func:`_step`): 1 on the grid, 3 in the steps on the slope,
 # 8 at the final angle (written out in _dir)
 _S = math.sqrt(2.0) / 3.0  # tau_oct = _S sqrt(m^2 + 3 r^2) at the wall
 _S2 = 2.0 / 9.0
@@ -190,8 +190,8 @@ def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: fl
     # written out (no inner loop: the loop over cases then vectorises)
     lo, hi = 0.0, p_r
     x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
-    x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
     if refine:
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
         x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
     if polish:
         x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
@@ -241,7 +241,7 @@ def _at_p_r(kind: int, t: float, cb: float, sb: float, k0: float, z0: float, pp:
 @_jit
 def _evaluate(kind, mode, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
     """The function a search maximises at t = tt[r] from (cb[r], sb[r]) for every case r of a
-    block: the value (kind _VALUE; steps 2 for ``mode`` 0 (the grid), 3 for 1 (the
+    block: the value (kind _VALUE; steps 1 for ``mode`` 0 (the grid), 3 for 1 (the
     steps on the slope), 8 for 2 (the final value)), F at p_r or -lo at p_r.
     Returns (values, slopes, and F and -lo at p_r for the value (the last steps
     twice polished; the values twice for the others)). One plain loop per kind, its outputs
