@@ -13,7 +13,9 @@ At the wall the effective radial stress is zero (permeable, producing wall: the 
     s'_t = a_t - (2 - A) p_w,     s'_z = a_z - (1 - A) p_w,     t_tz independent of p_w
 
 (:func:`risk.mechanics.stresses.wall_stresses`, Terzaghi effective stress). Every criterion in
-:mod:`risk.mechanics.criteria` has a convex elastic domain, so along this straight stress path
+:mod:`risk.mechanics.criteria` has a convex elastic domain (all but Mogi-Coulomb, whose domain
+turns inwards at the triaxial-extension corners: a known limitation of every path here,
+docs/derivations.md sec. 15.4), so along this straight stress path
 the safe wall pressures at one angle form a single interval, and the tensile cut-off can only be
 reached at zero drawdown (the smallest principal effective stress does not fall as ``p_w``
 falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
@@ -298,7 +300,8 @@ def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: st
 
 def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
-    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`), any other
+    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`),
+    Mogi-Coulomb by the whole-circle kernel (:mod:`risk.mechanics._mogi_kernel`), any other
     criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
     from risk.mechanics._onset_kernel import CODES, onset
 

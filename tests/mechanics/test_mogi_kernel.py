@@ -260,3 +260,28 @@ def test_non_convex_domain_known_limitation():
         warnings.simplefilter("ignore", RuntimeWarning)
         ref = _brute(one, p_r=p_r[i], A=a[i], nu=nu[i], strength=prm, t0=t0[i], criterion=MOGI)
     assert float(got) == pytest.approx(ref, abs=1e-7)
+
+
+def test_domain_turns_inwards_at_triaxial_extension():
+    # docs/derivations.md sec. 15.4 (derived): two states on the failure surface, mirror
+    # images about the triaxial-extension line s1 = s2 (same mean stress), have a strictly
+    # failing midpoint, so the elastic domain is not convex; checked with the criterion of
+    # risk.mechanics.criteria (Al-Ajmi & Zimmerman 2005, eqs. 13-15) at 10 to 60 degrees.
+    from risk.mechanics.criteria import CRITERIA
+
+    for phi in np.radians([10.0, 30.0, 60.0]):
+        prm = StrengthParameters(30.0, phi)
+
+        def f(s, prm=prm):
+            s = np.sort(s)[::-1]
+            return float(CRITERIA[MOGI](s[0], s[1], s[2], prm))
+
+        def on_surface(e):
+            d = np.array([1.0 + e, 1.0 - e, -2.0])
+            d -= d.mean()
+            k = brentq(lambda k: f(20.0 + k * d), 0.0, 1e3, xtol=1e-13)
+            return 20.0 + k * d
+
+        a_, b_ = on_surface(0.3), on_surface(-0.3)
+        assert abs(f(a_)) < 1e-9 and abs(f(b_)) < 1e-9
+        assert f(0.5 * (a_ + b_)) > 1e-3
