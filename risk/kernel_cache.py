@@ -36,7 +36,8 @@ COMPILING = ("compiling the yield-onset kernels (once per machine and version, a
 #: The compiled modules, in the order they are loaded.
 KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel",
                   "risk.mechanics._rotation_kernel", "risk.mechanics._compaction_kernel",
-                  "risk.mechanics._arc_kernel", "risk.mechanics._collapse_kernel")
+                  "risk.mechanics._arc_kernel", "risk.mechanics._collapse_kernel",
+                  "risk.mechanics._mogi_kernel")
 
 _MECHANICS = Path(__file__).resolve().parent / "mechanics"
 

@@ -13,7 +13,9 @@ At the wall the effective radial stress is zero (permeable, producing wall: the 
     s'_t = a_t - (2 - A) p_w,     s'_z = a_z - (1 - A) p_w,     t_tz independent of p_w
 
 (:func:`risk.mechanics.stresses.wall_stresses`, Terzaghi effective stress). Every criterion in
-:mod:`risk.mechanics.criteria` has a convex elastic domain, so along this straight stress path
+:mod:`risk.mechanics.criteria` has a convex elastic domain (all but Mogi-Coulomb, whose domain
+turns inwards at the triaxial-extension corners: a known limitation of every path here,
+docs/derivations.md sec. 15.4), so along this straight stress path
 the safe wall pressures at one angle form a single interval, and the tensile cut-off can only be
 reached at zero drawdown (the smallest principal effective stress does not fall as ``p_w``
 falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
@@ -28,7 +30,10 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
 - **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
   with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
   below.
-- **the other criteria** (Mogi-Coulomb, modified Lade): the envelope iteration (Notes of
+- **Mogi-Coulomb**: a compiled kernel on the whole circle (:mod:`risk.mechanics._mogi_kernel`):
+  the crossing at one angle by a fixed number of safeguarded steps, the worst angle searched
+  as for Drucker-Prager but on the whole circle (docs/derivations.md, sec. 15.4).
+- **the other criteria** (modified Lade): the envelope iteration (Notes of
   :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
   one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
   is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):
@@ -295,7 +300,8 @@ def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: st
 
 def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
-    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`), any other
+    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`),
+    Mogi-Coulomb by the whole-circle kernel (:mod:`risk.mechanics._mogi_kernel`), any other
     criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
     from risk.mechanics._onset_kernel import CODES, onset
 
@@ -310,6 +316,12 @@ def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: st
 
         cos2 = np.empty(size)
         arc_onset(*views, CODES[criterion], n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
+        psi = np.arctan2(psi, cos2, out=psi)  # nan where never
+    elif criterion == "mogi-coulomb":
+        from risk.mechanics._mogi_kernel import mogi_onset
+
+        cos2 = np.empty(size)
+        mogi_onset(*views, n_theta, p_k, cos2, psi)  # type: ignore[call-arg]
         psi = np.arctan2(psi, cos2, out=psi)  # nan where never
     else:
         onset(*views, CODES[criterion], n_theta, p_k, psi)  # type: ignore[call-arg]
