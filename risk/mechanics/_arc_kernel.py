@@ -57,13 +57,21 @@ import math
 import numpy as np
 from numba import njit, prange, types
 
-from risk.mechanics._onset_kernel import _solve_case, _strength_constants, _tension_bound
+from risk.mechanics._onset_kernel import (
+    _LADE,
+    _solve_case,
+    _strength_constants,
+    _tension_bound,
+)
 
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
 _GRID = 8  # intervals of the grid in t over the half circle
 _ROUNDS = 6  # Anderson-Bjorck steps for every case
 _THIRD = 1.0 / 3.0
 _VALUE, _TENSION, _SHEAR_R, _POLISHED = 0, 1, 2, 3  # the function a search maximises
+_L_VALUE, _L_POLISHED, _L_SHEAR_R = 4, 5, 6  # the same for modified Lade
+_HALLEY = 4  # Halley steps of the modified Lade crossing in the search
+_HALLEY_POLISH = 6  # and for the final value (derivations, sec. 15.3)
 
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -206,6 +214,138 @@ def _shear_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float
     return max(f_lo, f_hi) - kk
 
 
+@_jit_inline
+def _lade_at(p: float, xa: float, za: float, ua: float, w: float, dx: float, dz: float,
+             dw: float, bt: float, bz: float, ss: float, ks: float) -> tuple[float, float]:
+    """The modified Lade excess in sign, G [MPa], at wall pressure p, and its slope in psi
+    (docs/derivations.md, sec. 15.3): G = P/(3 u^2), P = u^3 - K S (X Z - w), where every
+    shifted principal stress is positive (u = I1'', X, Z the shifted hoop and axial stresses;
+    xa, za, ua their values at p = 0 and dx, dz their slopes in psi), else the smaller shifted
+    eigenvalue's negative, -(lo + S) = r - (X + Z)/2 > 0: G has the sign of the excess of
+    risk.mechanics.criteria.modified_lade. Branch-free."""
+    x_ = xa - bt * p
+    z_ = za - bz * p
+    u = ua - (bt + bz) * p
+    du = dx + dz
+    hh = 0.5 * (x_ - z_)
+    rr = math.sqrt(hh * hh + w)
+    ten = rr - 0.5 * (x_ + z_)  # -(lo + S)
+    gten = (hh * 0.5 * (dx - dz) + 0.5 * dw) / max(rr, 1e-300) - 0.5 * du
+    iu = 1.0 / u
+    pl = u * u * u - ks * (x_ * z_ - w)
+    dpl = 3.0 * u * u * du - ks * (dx * z_ + x_ * dz - dw)
+    gl = pl * iu * iu * _THIRD
+    ggl = (dpl - 2.0 * pl * du * iu) * iu * iu * _THIRD
+    use = (u > 0.0) & (gl >= ten)
+    return (gl if use else ten), (ggl if use else gten)
+
+
+@_jit_inline
+def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, pp: float,
+              qq: float, w0: float, w1: float, w2: float, bt: float, bz: float, nu: float,
+              p_r: float, ss: float, ks: float, polish: bool) -> tuple[float, float]:
+    """As :func:`_dir` for modified Lade (ss = S, ks = K S): the crossing in [0, p_r] is the
+    root of the cubic P by Halley steps on P/u^3 from p = 0 inside the bracket, _HALLEY of
+    them, or with ``polish`` _HALLEY_POLISH of them and the slope set to nan where the last
+    step still moved by more than 1e-7 (1 + p_r) (the caller then takes the general path;
+    docs/derivations.md, sec. 15.3). Branch-free (vectorises)."""
+    t2 = t * t
+    inv = 1.0 / (1.0 + t2)
+    cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
+    c = cm * cx - sm * sx
+    s = sm * cx + cm * sx
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    ddev = sg * (qq * c - pp * s)
+    dw = sg * (w2 * c - w1 * s)
+    xa = k0 - dev + ss  # shifted hoop and axial stresses and I1'' at p = 0
+    za = z0 - nu * dev + ss
+    ua = xa + za + ss
+    dx = -ddev  # their slopes in psi at fixed p
+    dz = -nu * ddev
+    f0, g0 = _lade_at(0.0, xa, za, ua, w, dx, dz, dw, bt, bz, ss, ks)
+    fr, gr = _lade_at(p_r, xa, za, ua, w, dx, dz, dw, bt, bz, ss, ks)
+    # the crossing where G(0) >= 0 > G(p_r): every shifted stress is positive on [0, p_r]
+    # there and P has one sign change in it (derivations, sec. 15.3)
+    ub = bt + bz
+    bb = 2.0 * ks * bt * bz
+    x, lo, hi, last = 0.0, 0.0, p_r, 0.0
+    for _ in range(_HALLEY_POLISH if polish else _HALLEY):
+        x_ = xa - bt * x
+        z_ = za - bz * x
+        u = ua - ub * x
+        iu = 1.0 / u
+        pl = u * u * u - ks * (x_ * z_ - w)
+        d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
+        d2 = 6.0 * u * ub * ub - bb
+        e1 = d1 + 3.0 * ub * pl * iu  # (P/u^3)' u^3
+        e2 = d2 + (6.0 * ub * d1 + 12.0 * ub * ub * pl * iu) * iu  # (P/u^3)'' u^3
+        fail = pl >= 0.0
+        lo = x if fail else lo
+        hi = hi if fail else x
+        xn = x - 2.0 * pl * e1 / (2.0 * e1 * e1 - pl * e2)
+        inside = (xn >= lo) & (xn <= hi)  # false for nan
+        xn = xn if inside else 0.5 * (lo + hi)
+        last = abs(xn - x)
+        x = xn
+    x_ = xa - bt * x
+    z_ = za - bz * x
+    u = ua - ub * x
+    d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
+    dpl = 3.0 * u * u * (dx + dz) - ks * (dx * z_ + x_ * dz - dw)
+    gx = -dpl / d1
+    if polish:
+        gx = gx if last <= 1e-7 * (1.0 + p_r) else math.nan
+    top = fr >= 0.0
+    bottom = (f0 < 0.0) & (not top)
+    v = p_r + fr if top else (f0 if bottom else x)
+    g = gr if top else (g0 if bottom else gx)
+    return v, g
+
+
+@_jit_inline
+def _lade_shear_r(t: float, cm: float, sm: float, sg: float, k0: float, z0: float,
+                  pp: float, qq: float, w0: float, w1: float, w2: float, bt: float, bz: float,
+                  nu: float, p_r: float, ss: float, ks: float) -> tuple[float, float]:
+    """G of :func:`_lade_at` at p_r at the direction turned from (cm, sm) by 2 atan(t), and
+    its slope in psi. Branch-free."""
+    t2 = t * t
+    inv = 1.0 / (1.0 + t2)
+    cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
+    c = cm * cx - sm * sx
+    s = sm * cx + cm * sx
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    ddev = sg * (qq * c - pp * s)
+    dw = sg * (w2 * c - w1 * s)
+    xa = k0 - dev + ss
+    za = z0 - nu * dev + ss
+    return _lade_at(p_r, xa, za, xa + za + ss, w, -ddev, -nu * ddev, dw, bt, bz, ss, ks)
+
+
+@_jit_inline
+def _lade_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float, w1: float,
+                w2: float, bt: float, bz: float, nu: float, ss: float, ks: float) -> float:
+    """A number of the sign of an upper bound over every wall angle of the modified Lade
+    excess at wall pressure p (as :func:`_shear_bound`): with m in [m_lo, m_hi] and
+    r^2 <= r2, where m_lo + S > sqrt(r2) (every shifted stress positive at every angle), L =
+    I1'' - cbrt(K I3'') rises with r and is convex in m (derivations, sec. 15.3), so its
+    largest value is at an end with r^2 = r2; else 1 (not ruled out)."""
+    amp = math.sqrt(pp * pp + qq * qq)
+    mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
+    m_lo = mc - 0.5 * (1.0 + nu) * amp
+    m_hi = mc + 0.5 * (1.0 + nu) * amp
+    h_max = abs(0.5 * (k0 - z0) - 0.5 * p) + 0.5 * (1.0 - nu) * amp
+    r2 = h_max * h_max + w0 + math.sqrt(w1 * w1 + w2 * w2)
+    u_lo = 2.0 * m_lo + 3.0 * ss
+    u_hi = 2.0 * m_hi + 3.0 * ss
+    y_lo = m_lo + ss
+    y_hi = m_hi + ss
+    g_lo = (u_lo * u_lo * u_lo - ks * (y_lo * y_lo - r2)) / (3.0 * u_lo * u_lo)
+    g_hi = (u_hi * u_hi * u_hi - ks * (y_hi * y_hi - r2)) / (3.0 * u_hi * u_hi)
+    return max(g_lo, g_hi) if y_lo > math.sqrt(r2) else 1.0
+
+
 @_jit
 def _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
     """The function a search maximises, at t = tt[r] for every case r of a block: the value
@@ -219,6 +359,14 @@ def _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
         return _loop_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
     if kind == _SHEAR_R:
         return _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    if kind == _L_VALUE:
+        return _loop_l_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    if kind == _L_POLISHED:
+        return _loop_l_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                                lam2)
+    if kind == _L_SHEAR_R:
+        return _loop_l_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                               lam2)
     return _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
 
 
@@ -260,6 +408,45 @@ def _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k
         gn[r] = g
     return vn, gn
 
+
+
+@_jit
+def _loop_l_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` with the final steps at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], True)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_shear_r` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_shear_r(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                             w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r])
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
 
 @_jit
 def _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
@@ -441,7 +628,7 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             fh[r] = nfh
             kept[r] = 1.0 if right else -1.0
     # the polished value at the best point, and its slope
-    polish = _POLISHED if kind == _VALUE else kind
+    polish = _POLISHED if kind == _VALUE else (_L_POLISHED if kind == _L_VALUE else kind)
     vn, gn = _evaluate(polish, bx, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
                        lam2)
     for r in range(cnt):
@@ -449,21 +636,34 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         # converged: the slope's root bracketed to 1e-7 in t, or the slope at the best point
         # below 1e-6 MPa/rad (the value is then the maximum to g^2/(2|v''|))
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
-        flag_out[r] = 2.0 if peaks[r] > 1.0 else (1.0 if open_ else 0.0)
+        # a modified Lade crossing not converged in its fixed steps: nan slope, finite value
+        stuck = (gn[r] != gn[r]) & (vn[r] == vn[r])
+        flag_out[r] = 2.0 if (peaks[r] > 1.0) | stuck else (1.0 if open_ else 0.0)
     bv_out[:] = bv
     bx_out[:] = bx
     return lo, hi
 
 
+@_jit_inline
+def _value_one(lade: bool, t: float, cm: float, sm: float, sg: float, k: tuple,
+               polish: bool) -> tuple[float, float]:
+    """The value and its slope at one t of one case: :func:`_dir` (Drucker-Prager) or
+    :func:`_lade_dir` (modified Lade)."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2 = k
+    if lade:
+        return _lade_dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2,
+                         polish)
+    return _dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, polish)
+
+
 @_jit
-def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: float,
-               sg: float, k: tuple) -> tuple[float, float]:
+def _brent_max(lade: bool, a: float, b: float, best_v: float, best_t: float, cm: float,
+               sm: float, sg: float, k: tuple) -> tuple[float, float]:
     """Brent's zero finder (Brent 1973, ch. 4, 'zeroin') on the slope in t over a bracket
     [a, b] of its root, keeping the largest value seen: the fallback of the vectorised
     steps (as in the Mohr-Coulomb kernel)."""
-    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2 = k
-    va, fa = _dir(a, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
-    vb, fb = _dir(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
+    va, fa = _value_one(lade, a, cm, sm, sg, k, False)
+    vb, fb = _value_one(lade, b, cm, sm, sg, k, False)
     fa = fa if fa > 0.0 else 1e-300
     fb = fb if fb < 0.0 else -1e-300
     c, fc = a, fa
@@ -505,7 +705,7 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
             e = m
         a, fa = b, fb
         b = b + dlt if abs(dlt) > tol else b + math.copysign(tol, m)
-        vb, fb = _dir(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
+        vb, fb = _value_one(lade, b, cm, sm, sg, k, False)
         if vb > best_v:
             best_v, best_t = vb, b
     return best_v, best_t
@@ -515,8 +715,9 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
 def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi, mb, hb_s,
               hb_a, code, n_theta, out_p, out_c, out_s):
     """Critical wall pressure [MPa] into out_p and (cos, sin) of psi = 2 theta at the worst
-    wall angle into (out_c, out_s) (nan where never) for a Drucker-Prager criterion ``code``
-    (the codes of :data:`risk.mechanics._onset_kernel.CODES`), for 3-D inputs that broadcast
+    wall angle into (out_c, out_s) (nan where never) for a Drucker-Prager criterion or
+    modified Lade, ``code`` (the codes of :data:`risk.mechanics._onset_kernel.CODES`), for
+    3-D inputs that broadcast
     to shape (n0, n1, n2) (strides may be zero); outputs flat, in C order of that shape.
     ``n_theta``: grid angles of the general path taken by the cases flagged in the module
     docstring."""
@@ -525,6 +726,7 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
     cos_g = np.cos(np.arange(n_theta) * (2.0 * math.pi / n_theta))
     sin_g = np.sin(np.arange(n_theta) * (2.0 * math.pi / n_theta))
     nblocks = (total + _BLOCK - 1) // _BLOCK
+    lade = code == _LADE
     for blk in prange(nblocks):
         first = blk * _BLOCK
         cnt = min(_BLOCK, total - first)
@@ -542,7 +744,10 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             if ph != last_phi:
                 last_phi = ph
                 k_unit, lam, _, _ = _strength_constants(code, 1.0, ph, 0.0, 0.0, 0.0)
-            x[9, r], x[10, r] = k_unit * ucs[i, j, m], lam
+            # modified Lade: S = c/tan phi is proportional to UCS, and K = 27 + eta; the
+            # block's constants are S and K S (kk and lam2 below)
+            kx = k_unit * ucs[i, j, m]
+            x[9, r], x[10, r] = kx, (0.5 * lam * kx if lade else lam)
             m += 1
             if m == n2:
                 m = 0
@@ -560,10 +765,16 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
         sel = np.empty(cnt, dtype=np.bool_)
         for r in range(cnt):
             # (not "< 0": nan inputs take the search and give nan, as elsewhere)
-            sel[r] = not (_shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
-                                       bt[r], bz[r], nuv[r], kk[r], lam2[r]) < 0.0)
+            if lade:
+                bound = _lade_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                    bt[r], bz[r], nuv[r], kk[r], lam2[r])
+            else:
+                bound = _shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                     bt[r], bz[r], nuv[r], kk[r], lam2[r])
+            sel[r] = not (bound < 0.0)
         idx = np.nonzero(sel)[0]
-        value = np.int64(_VALUE)  # not a literal: one compiled search serves every kind
+        # not a literal: one compiled search serves every kind
+        value = np.int64(_L_VALUE if lade else _VALUE)
         if idx.size == cnt:
             lo, hi = _search(value, k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
                              sm, sg, bv, bx, flag)
@@ -577,10 +788,12 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             if flag[r] == 1.0:
                 k = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r], nuv[r],
                      prv[r], kk[r], lam2[r])
-                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], cm[r], sm[r], sg[r], k)
-                bv[r] = _dir(bx[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
-                             w1[r], w2[r], bt[r], bz[r], nuv[r], prv[r], kk[r], lam2[r],
-                             True)[0]
+                bv[r], bx[r] = _brent_max(lade, lo[r], hi[r], bv[r], bx[r], cm[r], sm[r],
+                                          sg[r], k)
+                vf, gf = _value_one(lade, bx[r], cm[r], sm[r], sg[r], k, True)
+                bv[r] = vf
+                if gf != gf and vf == vf:
+                    flag[r] = 2.0  # a modified Lade crossing not converged: general path
         # with no drawdown, where the value search found no failure: the criterion at p_r
         # (an angle may fail at p_r but not at 0, in a sector the grid can miss; the value
         # there is p_r + F(p_r), not reached from the crossing's side), then the tensile
@@ -592,11 +805,17 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             i, rem = flat // (n1 * n2), flat % (n1 * n2)
             j, m = rem // n2, rem % n2
             tq[r] = t0[i, j, m]
-        for kind in (_SHEAR_R, _TENSION):
+        shear_r = _L_SHEAR_R if lade else _SHEAR_R
+        for kind in (shear_r, _TENSION):
             for r in range(cnt):
-                if kind == _SHEAR_R:
-                    bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                                         w2[r], bt[r], bz[r], nuv[r], kk[r], lam2[r])
+                if kind == shear_r:
+                    if lade:
+                        bound = _lade_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                                            w2[r], bt[r], bz[r], nuv[r], kk[r], lam2[r])
+                    else:
+                        bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                             w1[r], w2[r], bt[r], bz[r], nuv[r], kk[r],
+                                             lam2[r])
                     sel[r] = (bv[r] < prv[r]) & (bound >= 0.0)
                 else:
                     kt = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r],
@@ -615,7 +834,7 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
                 r = idx[q]
                 if tflag[q] != 0.0:
                     flag[r] = 2.0  # the general path decides
-                elif kind == _SHEAR_R and tv[q] >= 0.0:
+                elif kind == shear_r and tv[q] >= 0.0:
                     bv[r], bx[r] = prv[r] + tv[q], tx[q]
                 elif kind == _TENSION and tv[q] - tq[r] > 0.0:
                     bv[r], bx[r] = prv[r], tx[q]  # tension beyond T0 (T0 = 0: any)

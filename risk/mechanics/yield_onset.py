@@ -277,9 +277,11 @@ def _theta_from_psi(psi: Array, out: tuple[int, ...], order: tuple[int, ...],
     return np.transpose(theta.reshape(out), inverse).reshape(shape)
 
 
-#: Criteria with a closed-form crossing at one angle, searched on the half circle
-#: (:mod:`risk.mechanics._arc_kernel`).
-_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed")
+#: Criteria whose worst angle is searched on the half circle, the crossing at one angle in
+#: closed form or by a fixed number of bracketed Halley steps on a cubic (modified Lade)
+#: (:mod:`risk.mechanics._arc_kernel`; docs/derivations.md, secs. 15.1 and 15.3).
+_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed",
+        "modified-lade")
 
 
 def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
