@@ -263,7 +263,13 @@ def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, p
     ua = xa + za + ss
     dx = -ddev  # their slopes in psi at fixed p
     dz = -nu * ddev
-    f0, g0 = _lade_at(0.0, xa, za, ua, w, dx, dz, dw, bt, bz, ss, ks)
+    # G at p = 0 without its tension branch: where a shifted stress is not positive at p = 0
+    # it is not at p_r either (lo does not rise with p), so G(p_r) >= 0 decides first
+    iu = 1.0 / ua
+    f0 = ua * ua * ua - ks * (xa * za - w)
+    g0 = (3.0 * ua * ua * (dx + dz) - ks * (dx * za + xa * dz - dw)
+          - 2.0 * f0 * (dx + dz) * iu) * iu * iu * _THIRD
+    f0 = f0 * iu * iu * _THIRD
     fr, gr = _lade_at(p_r, xa, za, ua, w, dx, dz, dw, bt, bz, ss, ks)
     # the crossing where G(0) >= 0 > G(p_r): every shifted stress is positive on [0, p_r]
     # there and P has one sign change in it (derivations, sec. 15.3)
@@ -274,16 +280,15 @@ def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, p
         x_ = xa - bt * x
         z_ = za - bz * x
         u = ua - ub * x
-        iu = 1.0 / u
         pl = u * u * u - ks * (x_ * z_ - w)
         d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
         d2 = 6.0 * u * ub * ub - bb
-        e1 = d1 + 3.0 * ub * pl * iu  # (P/u^3)' u^3
-        e2 = d2 + (6.0 * ub * d1 + 12.0 * ub * ub * pl * iu) * iu  # (P/u^3)'' u^3
+        e1 = d1 * u + 3.0 * ub * pl  # (P/u^3)' u^4
+        e2 = (d2 * u + 6.0 * ub * d1) * u + 12.0 * ub * ub * pl  # (P/u^3)'' u^5
         fail = pl >= 0.0
         lo = x if fail else lo
         hi = hi if fail else x
-        xn = x - 2.0 * pl * e1 / (2.0 * e1 * e1 - pl * e2)
+        xn = x - 2.0 * pl * e1 * u / (2.0 * e1 * e1 - pl * e2)
         inside = (xn >= lo) & (xn <= hi)  # false for nan
         xn = xn if inside else 0.5 * (lo + hi)
         last = abs(xn - x)
