@@ -1,10 +1,11 @@
-"""Compiled Drucker-Prager yield onset at a cavity wall on the half circle (numba).
+"""Compiled Drucker-Prager and modified Lade yield onset at a cavity wall on the half circle.
 
-The fast path of :func:`risk.mechanics.yield_onset.critical_wall_pressure` for the three
-Drucker-Prager matchings (Drucker & Prager 1952); conventions, outcomes and the stress path
-are documented there. It follows the Mohr-Coulomb kernel (:mod:`risk.mechanics._mc_kernel`):
-the answer is the largest, over the wall angle, of the critical wall pressure at one angle,
-taken in closed form, and the angle search is confined by a derived argument.
+The fast path (numba) of :func:`risk.mechanics.yield_onset.critical_wall_pressure` for the
+three Drucker-Prager matchings (Drucker & Prager 1952) and modified Lade (Ewy 1999);
+conventions, outcomes and the stress path are documented there. It follows the
+Mohr-Coulomb kernel (:mod:`risk.mechanics._mc_kernel`): the answer is the largest, over the
+wall angle, of the critical wall pressure at one angle, taken in closed form (or by a fixed
+number of steps), and the angle search is confined by a derived argument.
 
 Value at one angle
     With psi = 2 theta and the direction (cos psi, sin psi), the wall's principal effective
@@ -18,6 +19,16 @@ Value at one angle
     it never fails: continuous in the angle where F(p_r) < 0, and its slope (-F_psi/F_p at
     the root, F_psi at the ends) keeps its sign across the joins (docs/derivations.md,
     sec. 15.1).
+
+Modified Lade
+    The same search on a function of the same sign as Ewy's excess, G = P/(3 u^2) with
+    P = (I1'')^3 - K I3'' where every shifted principal stress is positive, else the smaller
+    shifted one's negative (docs/derivations.md, sec. 15.3). At one angle P is a cubic in p
+    with one sign change in [0, p_r] where G(0) >= 0 > G(p_r) (the Lade surface is convex),
+    found by a fixed number of Halley steps on P/u^3 kept in their bracket: 4 from p = 0 on
+    the grid, 2 from the case's last crossing in the later steps, 6 from p = 0 for the final
+    value, whose last step must have moved by less than 1e-7 (1 + p_r) MPa (else the case
+    takes the general path).
 
 Where to look for the worst angle
     F is convex in the stress and even in the hoop-axial shear, so at fixed hoop and axial
@@ -45,7 +56,11 @@ Search
 References
 ----------
 Drucker, D.C. & Prager, W. (1952) Soil mechanics and plastic analysis or limit design.
-Q. Appl. Math. 10, 157-165. Anderson, N. & Bjorck, A. (1973) A new high order method of
+Q. Appl. Math. 10, 157-165. Ewy, R.T. (1999) Wellbore-stability predictions by use of a
+modified Lade criterion. SPE Drill. & Completion 14(2), 85-91. Lade, P.V. (1977)
+Elasto-plastic stress-strain theory for cohesionless soil with curved yield surfaces. Int. J.
+Solids Struct. 13, 1019-1035. Halley's iteration: Press, W.H. et al. (2007) Numerical
+Recipes, 3rd ed., sec. 9.4. Anderson, N. & Bjorck, A. (1973) A new high order method of
 regula falsi type for computing a root of an equation. BIT 13, 253-264. Brent, R.P. (1973)
 Algorithms for Minimization without Derivatives, ch. 4.
 """
@@ -70,8 +85,9 @@ _ROUNDS = 6  # Anderson-Bjorck steps for every case
 _THIRD = 1.0 / 3.0
 _VALUE, _TENSION, _SHEAR_R, _POLISHED = 0, 1, 2, 3  # the function a search maximises
 _L_VALUE, _L_POLISHED, _L_SHEAR_R = 4, 5, 6  # the same for modified Lade
-_HALLEY = 4  # Halley steps of the modified Lade crossing in the search
-_HALLEY_POLISH = 6  # and for the final value (derivations, sec. 15.3)
+_HALLEY = 4  # Halley steps of the modified Lade crossing on the search's grid, from p = 0
+_HALLEY_WARM = 2  # in its later steps, from the crossing last found for the case
+_HALLEY_POLISH = 6  # and for the final value, from p = 0 (derivations, sec. 15.3)
 
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -243,12 +259,13 @@ def _lade_at(p: float, xa: float, za: float, ua: float, w: float, dx: float, dz:
 @_jit_inline
 def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, pp: float,
               qq: float, w0: float, w1: float, w2: float, bt: float, bz: float, nu: float,
-              p_r: float, ss: float, ks: float, polish: bool) -> tuple[float, float]:
+              p_r: float, ss: float, ks: float, x0: float, steps: int, check: bool
+              ) -> tuple[float, float]:
     """As :func:`_dir` for modified Lade (ss = S, ks = K S): the crossing in [0, p_r] is the
-    root of the cubic P by Halley steps on P/u^3 from p = 0 inside the bracket, _HALLEY of
-    them, or with ``polish`` _HALLEY_POLISH of them and the slope set to nan where the last
-    step still moved by more than 1e-7 (1 + p_r) (the caller then takes the general path;
-    docs/derivations.md, sec. 15.3). Branch-free (vectorises)."""
+    root of the cubic P by ``steps`` Halley steps on P/u^3 from x0 inside the bracket [0,
+    p_r]; with ``check`` the slope is set to nan where the last step still moved by more
+    than 1e-7 (1 + p_r) (the caller then takes the general path; docs/derivations.md,
+    sec. 15.3). Branch-free (vectorises)."""
     t2 = t * t
     inv = 1.0 / (1.0 + t2)
     cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
@@ -275,8 +292,8 @@ def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, p
     # there and P has one sign change in it (derivations, sec. 15.3)
     ub = bt + bz
     bb = 2.0 * ks * bt * bz
-    x, lo, hi, last = 0.0, 0.0, p_r, 0.0
-    for _ in range(_HALLEY_POLISH if polish else _HALLEY):
+    x, lo, hi, last = x0, 0.0, p_r, 0.0
+    for _ in range(steps):
         x_ = xa - bt * x
         z_ = za - bz * x
         u = ua - ub * x
@@ -299,7 +316,7 @@ def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, p
     d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
     dpl = 3.0 * u * u * (dx + dz) - ks * (dx * z_ + x_ * dz - dw)
     gx = -dpl / d1
-    if polish:
+    if check:
         gx = gx if last <= 1e-7 * (1.0 + p_r) else math.nan
     top = fr >= 0.0
     bottom = (f0 < 0.0) & (not top)
@@ -326,6 +343,24 @@ def _lade_shear_r(t: float, cm: float, sm: float, sg: float, k0: float, z0: floa
     xa = k0 - dev + ss
     za = z0 - nu * dev + ss
     return _lade_at(p_r, xa, za, xa + za + ss, w, -ddev, -nu * ddev, dw, bt, bz, ss, ks)
+
+
+@_jit_inline
+def _tension_bound_u(p: float, k: tuple) -> float:
+    """A bound over every wall angle of -lo - T0 at wall pressure p, tighter than
+    :func:`risk.mechanics._onset_kernel._tension_bound` (which bounds m and h apart): both
+    are affine in u = -dev in [-U, U], U = (P^2 + Q^2)^(1/2), and with w at its largest,
+    sqrt(h(u)^2 + w_max) - m(u) is convex in u, so at most its larger value at u = -U, U
+    (docs/derivations.md, sec. 15.3). k: the tuple of :func:`_tension_bound`."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, _, t0 = k
+    amp = math.sqrt(pp * pp + qq * qq)
+    mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
+    hc = 0.5 * (k0 - z0) - 0.5 * (bt - bz) * p
+    wm = w0 + math.sqrt(w1 * w1 + w2 * w2)
+    a = 0.5 * (1.0 - nu) * amp
+    b = 0.5 * (1.0 + nu) * amp
+    hp, hm = hc + a, hc - a
+    return max(math.sqrt(hp * hp + wm) - mc - b, math.sqrt(hm * hm + wm) - mc + b) - t0
 
 
 @_jit_inline
@@ -422,7 +457,8 @@ def _loop_l_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k
     vn, gn = np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
         v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], False)
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], 0.0, _HALLEY,
+                         False)
         vn[r] = v
         gn[r] = g
     return vn, gn
@@ -435,7 +471,22 @@ def _loop_l_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r
     vn, gn = np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
         v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], True)
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], 0.0,
+                         _HALLEY_POLISH, True)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` at every case from the start xs (see :func:`_search`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], xs[r],
+                         _HALLEY_WARM, False)
         vn[r] = v
         gn[r] = g
     return vn, gn
@@ -584,8 +635,19 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         good = (disc >= 0.0) & (s_ > 0.0) & (s_ < 1.0)
         s_ = min(max(s_, 0.05), 0.95) if good else 0.5
         tt[r] = a + s_ * h
-    vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
-                       lam2)
+    # modified Lade: from here on each crossing starts from the case's last one (the angle
+    # moves less and less), first from the bracket's end of the larger value
+    warm = kind == _L_VALUE
+    xs = np.zeros(cnt)
+    if warm:
+        for r in range(cnt):
+            xe = vh[r] if vh[r] > vl[r] else vl[r]
+            xs[r] = xe if (xe >= 0.0) & (xe <= p_r[r]) else 0.0
+        vn, gn = _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                              kk, lam2)
+    else:
+        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                           kk, lam2)
     for r in range(cnt):
         tn, v, g = tt[r], vn[r], gn[r]
         better = v > bv[r]
@@ -606,8 +668,15 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             # point on itself)
             gap = 0.01 * (hi[r] - lo[r])
             tt[r] = min(max(tn, lo[r] + gap), hi[r] - gap)
-        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
-                           kk, lam2)
+        if warm:
+            for r in range(cnt):
+                xe = vn[r]
+                xs[r] = xe if (xe >= 0.0) & (xe <= p_r[r]) else xs[r]
+            vn, gn = _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                                  p_r, kk, lam2)
+        else:
+            vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                               p_r, kk, lam2)
         for r in range(cnt):
             tn, v, g = tt[r], vn[r], gn[r]
             better = v > bv[r]
@@ -657,7 +726,7 @@ def _value_one(lade: bool, t: float, cm: float, sm: float, sg: float, k: tuple,
     k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2 = k
     if lade:
         return _lade_dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2,
-                         polish)
+                         0.0, _HALLEY_POLISH if polish else _HALLEY, polish)
     return _dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, polish)
 
 
@@ -826,7 +895,8 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
                     kt = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r],
                           nuv[r], prv[r], tq[r])
                     sel[r] = ((bv[r] < prv[r]) & (tq[r] < math.inf)
-                              & (_tension_bound(prv[r], kt) > 0.0))
+                              & (_tension_bound(prv[r], kt) > 0.0)
+                              & (_tension_bound_u(prv[r], kt) > 0.0))
             idx = np.nonzero(sel & (flag != 2.0))[0]
             if idx.size == 0:
                 continue

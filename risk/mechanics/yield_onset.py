@@ -22,13 +22,15 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
   a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
   arguments, and on the remaining arc it is the root of the closed form's slope.
-- **Drucker-Prager** (three matchings): a compiled kernel built like the Mohr-Coulomb one
-  (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in closed form, the worst
-  angle on a derived half circle (docs/derivations.md, sec. 15.1).
+- **Drucker-Prager** (three matchings) and **modified Lade**: a compiled kernel built like
+  the Mohr-Coulomb one (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in
+  closed form (for modified Lade the root of a cubic by a fixed number of bracketed Halley
+  steps, sec. 15.3), the worst angle on a derived half circle (docs/derivations.md,
+  sec. 15.1).
 - **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
   with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
   below.
-- **the other criteria** (Mogi-Coulomb, modified Lade): the envelope iteration (Notes of
+- **the other criteria** (Mogi-Coulomb): the envelope iteration (Notes of
   :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
   one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
   is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):

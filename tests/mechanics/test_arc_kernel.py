@@ -266,7 +266,7 @@ def test_modified_lade_crossing_at_one_angle_against_brentq():
     # taken by six bracketed Halley steps; against scipy.optimize.brentq on Ewy's (1999)
     # criterion (risk.mechanics.criteria.modified_lade via wall_excess) at random angles, and
     # its slope in psi against central differences of brentq roots
-    from risk.mechanics._arc_kernel import _lade_dir
+    from risk.mechanics._arc_kernel import _HALLEY_POLISH, _lade_dir
 
     loc, a, nu, p_r, s, _ = _corpus(41, 4000)
     consts, _, _ = _one_angle(loc, a, nu, p_r, s)
@@ -283,7 +283,7 @@ def test_modified_lade_crossing_at_one_angle_against_brentq():
                                      strength=prm, criterion=LADE))
 
         k = [float(c[i]) for c in consts]
-        v, g = _lade_dir(0.0, np.cos(psi[i]), np.sin(psi[i]), 1.0, *k[:10], k[10], k[11], k[12],
+        v, g = _lade_dir(0.0, np.cos(psi[i]), np.sin(psi[i]), 1.0, *k, 0.0, _HALLEY_POLISH,
                          True)
         f0, fr = f(0.0, psi[i]), f(p_r[i], psi[i])
         if fr >= 0.0:
@@ -329,3 +329,32 @@ def test_modified_lade_sign_function_against_the_formula():
     clear = np.abs(f) > 1e-9 * (1.0 + np.abs(s1) + shift)
     np.testing.assert_array_equal((g >= 0.0)[clear], fails[clear])
     assert np.sum(~fails) > 1000 and np.sum(fails & (lo + shift <= 0.0)) > 1000
+
+
+def test_tension_bound_over_the_angle_against_a_dense_scan():
+    # docs/derivations.md, sec. 15.3: the bound of -lo - T0 over every wall angle from the
+    # two ends of u = -dev; against a dense scan of the wall stresses of
+    # risk.mechanics.stresses.wall_stresses (Kirsch's solution with steady inflow, sec. 1)
+    from risk.mechanics._arc_kernel import _setup_block, _tension_bound_u
+
+    loc, a, nu, p_r, s, t0 = _corpus(43, 400)
+    x = [np.ascontiguousarray(v, dtype=float) for v in (
+        loc.sxx + loc.syy, loc.sxx - loc.syy, loc.sxy, loc.szz, loc.sxz, loc.syz, p_r, a, nu,
+        np.ones_like(p_r), np.ones_like(p_r))]
+    c = _setup_block(*x)
+    theta = np.linspace(0.0, np.pi, 20001)
+    tight = 0
+    for i in range(p_r.size):
+        one = st.LocalStress(*(float(np.asarray(v)[i]) for v in loc))
+        p = 0.5 * p_r[i]  # any wall pressure will do; the middle of [0, p_r]
+        w = st.wall_stresses(one, theta=theta, wall_pressure=p, reservoir_pressure=p_r[i],
+                             poro_coefficient=a[i], poisson_ratio=nu[i])
+        ht, hz = w.hoop - p, w.axial - p
+        lo = 0.5 * (ht + hz) - np.sqrt(0.25 * (ht - hz) ** 2 + w.shear_hoop_axial ** 2)
+        t_cut = 0.0 if np.isinf(t0[i]) else t0[i]
+        k = (*(float(v[i]) for v in c[:10]), p_r[i], t_cut)
+        bound = _tension_bound_u(p, k)
+        worst = np.max(-lo - t_cut)
+        assert bound >= worst - 1e-9 * (1.0 + abs(worst))
+        tight += bound < worst + 0.05 * (1.0 + abs(worst))
+    assert tight > 40  # the bound is attained, to 5 %, in some cases
