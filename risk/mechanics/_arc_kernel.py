@@ -521,7 +521,8 @@ def _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k
 def _setup_block(x0, x1, x2, x3, x4, x5, x6, x7, x8, x9, x10):
     """Per-case constants of a block from its gathered inputs (sum_xy, diff_xy, sxy, szz, sxz,
     syz, p_r, A, nu, k, lambda): k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k, 2 lambda, and
-    the half circle's middle direction (cm, sm) and turning sign sg. Branch-free (every
+    the half circle's middle direction (cm, sm) and turning sign sg (modified Lade passes S
+    and K S/2 for k and lambda, so kk = S and lam2 = K S). Branch-free (every
     output its own allocation, so the compiler knows none alias and vectorises the loop)."""
     cnt = x0.size
     k0, z0, pp, qq = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
