@@ -1,10 +1,11 @@
-"""Compiled Drucker-Prager yield onset at a cavity wall on the half circle (numba).
+"""Compiled Drucker-Prager and modified Lade yield onset at a cavity wall on the half circle.
 
-The fast path of :func:`risk.mechanics.yield_onset.critical_wall_pressure` for the three
-Drucker-Prager matchings (Drucker & Prager 1952); conventions, outcomes and the stress path
-are documented there. It follows the Mohr-Coulomb kernel (:mod:`risk.mechanics._mc_kernel`):
-the answer is the largest, over the wall angle, of the critical wall pressure at one angle,
-taken in closed form, and the angle search is confined by a derived argument.
+The fast path (numba) of :func:`risk.mechanics.yield_onset.critical_wall_pressure` for the
+three Drucker-Prager matchings (Drucker & Prager 1952) and modified Lade (Ewy 1999);
+conventions, outcomes and the stress path are documented there. It follows the
+Mohr-Coulomb kernel (:mod:`risk.mechanics._mc_kernel`): the answer is the largest, over the
+wall angle, of the critical wall pressure at one angle, taken in closed form (or by a fixed
+number of steps), and the angle search is confined by a derived argument.
 
 Value at one angle
     With psi = 2 theta and the direction (cos psi, sin psi), the wall's principal effective
@@ -18,6 +19,16 @@ Value at one angle
     it never fails: continuous in the angle where F(p_r) < 0, and its slope (-F_psi/F_p at
     the root, F_psi at the ends) keeps its sign across the joins (docs/derivations.md,
     sec. 15.1).
+
+Modified Lade
+    The same search on a function of the same sign as Ewy's excess, G = P/(3 u^2) with
+    P = (I1'')^3 - K I3'' where every shifted principal stress is positive, else the smaller
+    shifted one's negative (docs/derivations.md, sec. 15.3). At one angle P is a cubic in p
+    with one sign change in [0, p_r] where G(0) >= 0 > G(p_r) (the Lade surface is convex),
+    found by a fixed number of Halley steps on P/u^3 kept in their bracket: 4 from p = 0 on
+    the grid, 2 from the case's last crossing in the later steps, 6 from p = 0 for the final
+    value, whose last step must have moved by less than 1e-7 (1 + p_r) MPa (else the case
+    takes the general path).
 
 Where to look for the worst angle
     F is convex in the stress and even in the hoop-axial shear, so at fixed hoop and axial
@@ -45,7 +56,11 @@ Search
 References
 ----------
 Drucker, D.C. & Prager, W. (1952) Soil mechanics and plastic analysis or limit design.
-Q. Appl. Math. 10, 157-165. Anderson, N. & Bjorck, A. (1973) A new high order method of
+Q. Appl. Math. 10, 157-165. Ewy, R.T. (1999) Wellbore-stability predictions by use of a
+modified Lade criterion. SPE Drill. & Completion 14(2), 85-91. Lade, P.V. (1977)
+Elasto-plastic stress-strain theory for cohesionless soil with curved yield surfaces. Int. J.
+Solids Struct. 13, 1019-1035. Halley's iteration: Press, W.H. et al. (2007) Numerical
+Recipes, 3rd ed., sec. 9.4. Anderson, N. & Bjorck, A. (1973) A new high order method of
 regula falsi type for computing a root of an equation. BIT 13, 253-264. Brent, R.P. (1973)
 Algorithms for Minimization without Derivatives, ch. 4.
 """
@@ -57,13 +72,22 @@ import math
 import numpy as np
 from numba import njit, prange, types
 
-from risk.mechanics._onset_kernel import _solve_case, _strength_constants, _tension_bound
+from risk.mechanics._onset_kernel import (
+    _LADE,
+    _solve_case,
+    _strength_constants,
+    _tension_bound,
+)
 
 _BLOCK = 256  # cases per block: the state of a block stays in the processor's cache
 _GRID = 8  # intervals of the grid in t over the half circle
 _ROUNDS = 6  # Anderson-Bjorck steps for every case
 _THIRD = 1.0 / 3.0
 _VALUE, _TENSION, _SHEAR_R, _POLISHED = 0, 1, 2, 3  # the function a search maximises
+_L_VALUE, _L_POLISHED, _L_SHEAR_R = 4, 5, 6  # the same for modified Lade
+_HALLEY = 4  # Halley steps of the modified Lade crossing on the search's grid, from p = 0
+_HALLEY_WARM = 2  # in its later steps, from the crossing last found for the case
+_HALLEY_POLISH = 6  # and for the final value, from p = 0 (derivations, sec. 15.3)
 
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -206,6 +230,162 @@ def _shear_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float
     return max(f_lo, f_hi) - kk
 
 
+@_jit_inline
+def _lade_at(p: float, xa: float, za: float, ua: float, w: float, dx: float, dz: float,
+             dw: float, bt: float, bz: float, ss: float, ks: float) -> tuple[float, float]:
+    """The modified Lade excess in sign, G [MPa], at wall pressure p, and its slope in psi
+    (docs/derivations.md, sec. 15.3): G = P/(3 u^2), P = u^3 - K S (X Z - w), where every
+    shifted principal stress is positive (u = I1'', X, Z the shifted hoop and axial stresses;
+    xa, za, ua their values at p = 0 and dx, dz their slopes in psi), else the smaller shifted
+    eigenvalue's negative, -(lo + S) = r - (X + Z)/2 > 0: G has the sign of the excess of
+    risk.mechanics.criteria.modified_lade. Branch-free."""
+    x_ = xa - bt * p
+    z_ = za - bz * p
+    u = ua - (bt + bz) * p
+    du = dx + dz
+    hh = 0.5 * (x_ - z_)
+    rr = math.sqrt(hh * hh + w)
+    ten = rr - 0.5 * (x_ + z_)  # -(lo + S)
+    gten = (hh * 0.5 * (dx - dz) + 0.5 * dw) / max(rr, 1e-300) - 0.5 * du
+    iu = 1.0 / u
+    pl = u * u * u - ks * (x_ * z_ - w)
+    dpl = 3.0 * u * u * du - ks * (dx * z_ + x_ * dz - dw)
+    gl = pl * iu * iu * _THIRD
+    ggl = (dpl - 2.0 * pl * du * iu) * iu * iu * _THIRD
+    use = (u > 0.0) & (gl >= ten)
+    return (gl if use else ten), (ggl if use else gten)
+
+
+@_jit_inline
+def _lade_dir(t: float, cm: float, sm: float, sg: float, k0: float, z0: float, pp: float,
+              qq: float, w0: float, w1: float, w2: float, bt: float, bz: float, nu: float,
+              p_r: float, ss: float, ks: float, x0: float, steps: int, check: bool
+              ) -> tuple[float, float]:
+    """As :func:`_dir` for modified Lade (ss = S, ks = K S): the crossing in [0, p_r] is the
+    root of the cubic P by ``steps`` Halley steps on P/u^3 from x0 inside the bracket [0,
+    p_r]; with ``check`` the slope is set to nan where the last step still moved by more
+    than 1e-7 (1 + p_r) (the caller then takes the general path; docs/derivations.md,
+    sec. 15.3). Branch-free (vectorises)."""
+    t2 = t * t
+    inv = 1.0 / (1.0 + t2)
+    cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
+    c = cm * cx - sm * sx
+    s = sm * cx + cm * sx
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    ddev = sg * (qq * c - pp * s)
+    dw = sg * (w2 * c - w1 * s)
+    xa = k0 - dev + ss  # shifted hoop and axial stresses and I1'' at p = 0
+    za = z0 - nu * dev + ss
+    ua = xa + za + ss
+    dx = -ddev  # their slopes in psi at fixed p
+    dz = -nu * ddev
+    # G at p = 0 without its tension branch: where a shifted stress is not positive at p = 0
+    # it is not at p_r either (lo does not rise with p), so G(p_r) >= 0 decides first
+    iu = 1.0 / ua
+    f0 = ua * ua * ua - ks * (xa * za - w)
+    g0 = (3.0 * ua * ua * (dx + dz) - ks * (dx * za + xa * dz - dw)
+          - 2.0 * f0 * (dx + dz) * iu) * iu * iu * _THIRD
+    f0 = f0 * iu * iu * _THIRD
+    fr, gr = _lade_at(p_r, xa, za, ua, w, dx, dz, dw, bt, bz, ss, ks)
+    # the crossing where G(0) >= 0 > G(p_r): every shifted stress is positive on [0, p_r]
+    # there and P has one sign change in it (derivations, sec. 15.3)
+    ub = bt + bz
+    bb = 2.0 * ks * bt * bz
+    x, lo, hi, last = x0, 0.0, p_r, 0.0
+    for _ in range(steps):
+        x_ = xa - bt * x
+        z_ = za - bz * x
+        u = ua - ub * x
+        pl = u * u * u - ks * (x_ * z_ - w)
+        d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
+        d2 = 6.0 * u * ub * ub - bb
+        e1 = d1 * u + 3.0 * ub * pl  # (P/u^3)' u^4
+        e2 = (d2 * u + 6.0 * ub * d1) * u + 12.0 * ub * ub * pl  # (P/u^3)'' u^5
+        fail = pl >= 0.0
+        lo = x if fail else lo
+        hi = hi if fail else x
+        xn = x - 2.0 * pl * e1 * u / (2.0 * e1 * e1 - pl * e2)
+        inside = (xn >= lo) & (xn <= hi)  # false for nan
+        xn = xn if inside else 0.5 * (lo + hi)
+        last = abs(xn - x)
+        x = xn
+    x_ = xa - bt * x
+    z_ = za - bz * x
+    u = ua - ub * x
+    d1 = -3.0 * u * u * ub + ks * (bt * z_ + bz * x_)
+    dpl = 3.0 * u * u * (dx + dz) - ks * (dx * z_ + x_ * dz - dw)
+    gx = -dpl / d1
+    if check:
+        gx = gx if last <= 1e-7 * (1.0 + p_r) else math.nan
+    top = fr >= 0.0
+    bottom = (f0 < 0.0) & (not top)
+    v = p_r + fr if top else (f0 if bottom else x)
+    g = gr if top else (g0 if bottom else gx)
+    return v, g
+
+
+@_jit_inline
+def _lade_shear_r(t: float, cm: float, sm: float, sg: float, k0: float, z0: float,
+                  pp: float, qq: float, w0: float, w1: float, w2: float, bt: float, bz: float,
+                  nu: float, p_r: float, ss: float, ks: float) -> tuple[float, float]:
+    """G of :func:`_lade_at` at p_r at the direction turned from (cm, sm) by 2 atan(t), and
+    its slope in psi. Branch-free."""
+    t2 = t * t
+    inv = 1.0 / (1.0 + t2)
+    cx, sx = (1.0 - t2) * inv, sg * 2.0 * t * inv
+    c = cm * cx - sm * sx
+    s = sm * cx + cm * sx
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    ddev = sg * (qq * c - pp * s)
+    dw = sg * (w2 * c - w1 * s)
+    xa = k0 - dev + ss
+    za = z0 - nu * dev + ss
+    return _lade_at(p_r, xa, za, xa + za + ss, w, -ddev, -nu * ddev, dw, bt, bz, ss, ks)
+
+
+@_jit_inline
+def _tension_bound_u(p: float, k: tuple) -> float:
+    """A bound over every wall angle of -lo - T0 at wall pressure p, tighter than
+    :func:`risk.mechanics._onset_kernel._tension_bound` (which bounds m and h apart): both
+    are affine in u = -dev in [-U, U], U = (P^2 + Q^2)^(1/2), and with w at its largest,
+    sqrt(h(u)^2 + w_max) - m(u) is convex in u, so at most its larger value at u = -U, U
+    (docs/derivations.md, sec. 15.3). k: the tuple of :func:`_tension_bound`."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, _, t0 = k
+    amp = math.sqrt(pp * pp + qq * qq)
+    mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
+    hc = 0.5 * (k0 - z0) - 0.5 * (bt - bz) * p
+    wm = w0 + math.sqrt(w1 * w1 + w2 * w2)
+    a = 0.5 * (1.0 - nu) * amp
+    b = 0.5 * (1.0 + nu) * amp
+    hp, hm = hc + a, hc - a
+    return max(math.sqrt(hp * hp + wm) - mc - b, math.sqrt(hm * hm + wm) - mc + b) - t0
+
+
+@_jit_inline
+def _lade_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float, w1: float,
+                w2: float, bt: float, bz: float, nu: float, ss: float, ks: float) -> float:
+    """A number of the sign of an upper bound over every wall angle of the modified Lade
+    excess at wall pressure p (as :func:`_shear_bound`): with m in [m_lo, m_hi] and
+    r^2 <= r2, where m_lo + S > sqrt(r2) (every shifted stress positive at every angle), L =
+    I1'' - cbrt(K I3'') rises with r and is convex in m (derivations, sec. 15.3), so its
+    largest value is at an end with r^2 = r2; else 1 (not ruled out)."""
+    amp = math.sqrt(pp * pp + qq * qq)
+    mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
+    m_lo = mc - 0.5 * (1.0 + nu) * amp
+    m_hi = mc + 0.5 * (1.0 + nu) * amp
+    h_max = abs(0.5 * (k0 - z0) - 0.5 * p) + 0.5 * (1.0 - nu) * amp
+    r2 = h_max * h_max + w0 + math.sqrt(w1 * w1 + w2 * w2)
+    u_lo = 2.0 * m_lo + 3.0 * ss
+    u_hi = 2.0 * m_hi + 3.0 * ss
+    y_lo = m_lo + ss
+    y_hi = m_hi + ss
+    g_lo = (u_lo * u_lo * u_lo - ks * (y_lo * y_lo - r2)) / (3.0 * u_lo * u_lo)
+    g_hi = (u_hi * u_hi * u_hi - ks * (y_hi * y_hi - r2)) / (3.0 * u_hi * u_hi)
+    return max(g_lo, g_hi) if y_lo > math.sqrt(r2) else 1.0
+
+
 @_jit
 def _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
     """The function a search maximises, at t = tt[r] for every case r of a block: the value
@@ -219,6 +399,14 @@ def _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
         return _loop_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
     if kind == _SHEAR_R:
         return _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    if kind == _L_VALUE:
+        return _loop_l_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
+    if kind == _L_POLISHED:
+        return _loop_l_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                                lam2)
+    if kind == _L_SHEAR_R:
+        return _loop_l_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
+                               lam2)
     return _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2)
 
 
@@ -261,6 +449,61 @@ def _loop_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k
     return vn, gn
 
 
+
+@_jit
+def _loop_l_value(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], 0.0, _HALLEY,
+                         False)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_polished(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` with the final steps at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], 0.0,
+                         _HALLEY_POLISH, True)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_dir` at every case from the start xs (see :func:`_search`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_dir(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                         w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r], xs[r],
+                         _HALLEY_WARM, False)
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
+
+@_jit
+def _loop_l_shear_r(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
+    """:func:`_lade_shear_r` at every case (see :func:`_evaluate`)."""
+    cnt = tt.size
+    vn, gn = np.empty(cnt), np.empty(cnt)
+    for r in range(cnt):
+        v, g = _lade_shear_r(tt[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                             w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], kk[r], lam2[r])
+        vn[r] = v
+        gn[r] = g
+    return vn, gn
+
 @_jit
 def _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2):
     """:func:`_tension` at every case (see :func:`_evaluate`)."""
@@ -278,7 +521,8 @@ def _loop_tension(tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k
 def _setup_block(x0, x1, x2, x3, x4, x5, x6, x7, x8, x9, x10):
     """Per-case constants of a block from its gathered inputs (sum_xy, diff_xy, sxy, szz, sxz,
     syz, p_r, A, nu, k, lambda): k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, k, 2 lambda, and
-    the half circle's middle direction (cm, sm) and turning sign sg. Branch-free (every
+    the half circle's middle direction (cm, sm) and turning sign sg (modified Lade passes S
+    and K S/2 for k and lambda, so kk = S and lam2 = K S). Branch-free (every
     output its own allocation, so the compiler knows none alias and vectorises the loop)."""
     cnt = x0.size
     k0, z0, pp, qq = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
@@ -392,8 +636,19 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         good = (disc >= 0.0) & (s_ > 0.0) & (s_ < 1.0)
         s_ = min(max(s_, 0.05), 0.95) if good else 0.5
         tt[r] = a + s_ * h
-    vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
-                       lam2)
+    # modified Lade: from here on each crossing starts from the case's last one (the angle
+    # moves less and less), first from the bracket's end of the larger value
+    warm = kind == _L_VALUE
+    xs = np.zeros(cnt)
+    if warm:
+        for r in range(cnt):
+            xe = vh[r] if vh[r] > vl[r] else vl[r]
+            xs[r] = xe if (xe >= 0.0) & (xe <= p_r[r]) else 0.0
+        vn, gn = _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                              kk, lam2)
+    else:
+        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
+                           kk, lam2)
     for r in range(cnt):
         tn, v, g = tt[r], vn[r], gn[r]
         better = v > bv[r]
@@ -414,8 +669,15 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             # point on itself)
             gap = 0.01 * (hi[r] - lo[r])
             tt[r] = min(max(tn, lo[r] + gap), hi[r] - gap)
-        vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
-                           kk, lam2)
+        if warm:
+            for r in range(cnt):
+                xe = vn[r]
+                xs[r] = xe if (xe >= 0.0) & (xe <= p_r[r]) else xs[r]
+            vn, gn = _loop_l_warm(tt, xs, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                                  p_r, kk, lam2)
+        else:
+            vn, gn = _evaluate(kind, tt, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                               p_r, kk, lam2)
         for r in range(cnt):
             tn, v, g = tt[r], vn[r], gn[r]
             better = v > bv[r]
@@ -441,7 +703,7 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
             fh[r] = nfh
             kept[r] = 1.0 if right else -1.0
     # the polished value at the best point, and its slope
-    polish = _POLISHED if kind == _VALUE else kind
+    polish = _POLISHED if kind == _VALUE else (_L_POLISHED if kind == _L_VALUE else kind)
     vn, gn = _evaluate(polish, bx, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk,
                        lam2)
     for r in range(cnt):
@@ -449,21 +711,34 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, cm, sm,
         # converged: the slope's root bracketed to 1e-7 in t, or the slope at the best point
         # below 1e-6 MPa/rad (the value is then the maximum to g^2/(2|v''|))
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
-        flag_out[r] = 2.0 if peaks[r] > 1.0 else (1.0 if open_ else 0.0)
+        # a modified Lade crossing not converged in its fixed steps: nan slope, finite value
+        stuck = (gn[r] != gn[r]) & (vn[r] == vn[r])
+        flag_out[r] = 2.0 if (peaks[r] > 1.0) | stuck else (1.0 if open_ else 0.0)
     bv_out[:] = bv
     bx_out[:] = bx
     return lo, hi
 
 
+@_jit_inline
+def _value_one(lade: bool, t: float, cm: float, sm: float, sg: float, k: tuple,
+               polish: bool) -> tuple[float, float]:
+    """The value and its slope at one t of one case: :func:`_dir` (Drucker-Prager) or
+    :func:`_lade_dir` (modified Lade)."""
+    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2 = k
+    if lade:
+        return _lade_dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2,
+                         0.0, _HALLEY_POLISH if polish else _HALLEY, polish)
+    return _dir(t, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, polish)
+
+
 @_jit
-def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: float,
-               sg: float, k: tuple) -> tuple[float, float]:
+def _brent_max(lade: bool, a: float, b: float, best_v: float, best_t: float, cm: float,
+               sm: float, sg: float, k: tuple) -> tuple[float, float]:
     """Brent's zero finder (Brent 1973, ch. 4, 'zeroin') on the slope in t over a bracket
     [a, b] of its root, keeping the largest value seen: the fallback of the vectorised
     steps (as in the Mohr-Coulomb kernel)."""
-    k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2 = k
-    va, fa = _dir(a, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
-    vb, fb = _dir(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
+    va, fa = _value_one(lade, a, cm, sm, sg, k, False)
+    vb, fb = _value_one(lade, b, cm, sm, sg, k, False)
     fa = fa if fa > 0.0 else 1e-300
     fb = fb if fb < 0.0 else -1e-300
     c, fc = a, fa
@@ -505,7 +780,7 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
             e = m
         a, fa = b, fb
         b = b + dlt if abs(dlt) > tol else b + math.copysign(tol, m)
-        vb, fb = _dir(b, cm, sm, sg, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, kk, lam2, False)
+        vb, fb = _value_one(lade, b, cm, sm, sg, k, False)
         if vb > best_v:
             best_v, best_t = vb, b
     return best_v, best_t
@@ -515,8 +790,9 @@ def _brent_max(a: float, b: float, best_v: float, best_t: float, cm: float, sm: 
 def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi, mb, hb_s,
               hb_a, code, n_theta, out_p, out_c, out_s):
     """Critical wall pressure [MPa] into out_p and (cos, sin) of psi = 2 theta at the worst
-    wall angle into (out_c, out_s) (nan where never) for a Drucker-Prager criterion ``code``
-    (the codes of :data:`risk.mechanics._onset_kernel.CODES`), for 3-D inputs that broadcast
+    wall angle into (out_c, out_s) (nan where never) for a Drucker-Prager criterion or
+    modified Lade, ``code`` (the codes of :data:`risk.mechanics._onset_kernel.CODES`), for
+    3-D inputs that broadcast
     to shape (n0, n1, n2) (strides may be zero); outputs flat, in C order of that shape.
     ``n_theta``: grid angles of the general path taken by the cases flagged in the module
     docstring."""
@@ -525,6 +801,7 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
     cos_g = np.cos(np.arange(n_theta) * (2.0 * math.pi / n_theta))
     sin_g = np.sin(np.arange(n_theta) * (2.0 * math.pi / n_theta))
     nblocks = (total + _BLOCK - 1) // _BLOCK
+    lade = code == _LADE
     for blk in prange(nblocks):
         first = blk * _BLOCK
         cnt = min(_BLOCK, total - first)
@@ -542,7 +819,10 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             if ph != last_phi:
                 last_phi = ph
                 k_unit, lam, _, _ = _strength_constants(code, 1.0, ph, 0.0, 0.0, 0.0)
-            x[9, r], x[10, r] = k_unit * ucs[i, j, m], lam
+            # modified Lade: S = c/tan phi is proportional to UCS, and K = 27 + eta; the
+            # block's constants are S and K S (kk and lam2 below)
+            kx = k_unit * ucs[i, j, m]
+            x[9, r], x[10, r] = kx, (0.5 * lam * kx if lade else lam)
             m += 1
             if m == n2:
                 m = 0
@@ -560,10 +840,16 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
         sel = np.empty(cnt, dtype=np.bool_)
         for r in range(cnt):
             # (not "< 0": nan inputs take the search and give nan, as elsewhere)
-            sel[r] = not (_shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
-                                       bt[r], bz[r], nuv[r], kk[r], lam2[r]) < 0.0)
+            if lade:
+                bound = _lade_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                    bt[r], bz[r], nuv[r], kk[r], lam2[r])
+            else:
+                bound = _shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                     bt[r], bz[r], nuv[r], kk[r], lam2[r])
+            sel[r] = not (bound < 0.0)
         idx = np.nonzero(sel)[0]
-        value = np.int64(_VALUE)  # not a literal: one compiled search serves every kind
+        # not a literal: one compiled search serves every kind
+        value = np.int64(_L_VALUE if lade else _VALUE)
         if idx.size == cnt:
             lo, hi = _search(value, k0, z0, pp, qq, w0, w1, w2, bt, bz, nuv, prv, kk, lam2, cm,
                              sm, sg, bv, bx, flag)
@@ -577,10 +863,12 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             if flag[r] == 1.0:
                 k = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r], nuv[r],
                      prv[r], kk[r], lam2[r])
-                bv[r], bx[r] = _brent_max(lo[r], hi[r], bv[r], bx[r], cm[r], sm[r], sg[r], k)
-                bv[r] = _dir(bx[r], cm[r], sm[r], sg[r], k0[r], z0[r], pp[r], qq[r], w0[r],
-                             w1[r], w2[r], bt[r], bz[r], nuv[r], prv[r], kk[r], lam2[r],
-                             True)[0]
+                bv[r], bx[r] = _brent_max(lade, lo[r], hi[r], bv[r], bx[r], cm[r], sm[r],
+                                          sg[r], k)
+                vf, gf = _value_one(lade, bx[r], cm[r], sm[r], sg[r], k, True)
+                bv[r] = vf
+                if gf != gf and vf == vf:
+                    flag[r] = 2.0  # a modified Lade crossing not converged: general path
         # with no drawdown, where the value search found no failure: the criterion at p_r
         # (an angle may fail at p_r but not at 0, in a sector the grid can miss; the value
         # there is p_r + F(p_r), not reached from the crossing's side), then the tensile
@@ -592,17 +880,24 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
             i, rem = flat // (n1 * n2), flat % (n1 * n2)
             j, m = rem // n2, rem % n2
             tq[r] = t0[i, j, m]
-        for kind in (_SHEAR_R, _TENSION):
+        shear_r = _L_SHEAR_R if lade else _SHEAR_R
+        for kind in (shear_r, _TENSION):
             for r in range(cnt):
-                if kind == _SHEAR_R:
-                    bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                                         w2[r], bt[r], bz[r], nuv[r], kk[r], lam2[r])
+                if kind == shear_r:
+                    if lade:
+                        bound = _lade_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                                            w2[r], bt[r], bz[r], nuv[r], kk[r], lam2[r])
+                    else:
+                        bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                             w1[r], w2[r], bt[r], bz[r], nuv[r], kk[r],
+                                             lam2[r])
                     sel[r] = (bv[r] < prv[r]) & (bound >= 0.0)
                 else:
                     kt = (k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r], bz[r],
                           nuv[r], prv[r], tq[r])
                     sel[r] = ((bv[r] < prv[r]) & (tq[r] < math.inf)
-                              & (_tension_bound(prv[r], kt) > 0.0))
+                              & (_tension_bound(prv[r], kt) > 0.0)
+                              & (_tension_bound_u(prv[r], kt) > 0.0))
             idx = np.nonzero(sel & (flag != 2.0))[0]
             if idx.size == 0:
                 continue
@@ -615,7 +910,7 @@ def arc_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi,
                 r = idx[q]
                 if tflag[q] != 0.0:
                     flag[r] = 2.0  # the general path decides
-                elif kind == _SHEAR_R and tv[q] >= 0.0:
+                elif kind == shear_r and tv[q] >= 0.0:
                     bv[r], bx[r] = prv[r] + tv[q], tx[q]
                 elif kind == _TENSION and tv[q] - tq[r] > 0.0:
                     bv[r], bx[r] = prv[r], tx[q]  # tension beyond T0 (T0 = 0: any)

@@ -24,18 +24,20 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   (:mod:`risk.mechanics._mc_kernel`). At each angle the critical wall pressure is the root of
   a quadratic in closed form; where the worst angle can lie is narrowed by derived monotonicity
   arguments, and on the remaining arc it is the root of the closed form's slope.
-- **Drucker-Prager** (three matchings): a compiled kernel built like the Mohr-Coulomb one
-  (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in closed form, the worst
-  angle on a derived half circle (docs/derivations.md, sec. 15.1).
+- **Drucker-Prager** (three matchings) and **modified Lade**: a compiled kernel built like
+  the Mohr-Coulomb one (:mod:`risk.mechanics._arc_kernel`): the crossing at one angle in
+  closed form (for modified Lade the root of a cubic by a fixed number of bracketed Halley
+  steps, sec. 15.3), the worst angle on a derived half circle (docs/derivations.md,
+  sec. 15.1).
 - **Hoek-Brown**: on walls compressive all round it is Mohr-Coulomb's branch ``hi = UCS``
   with ``UCS = sigma_ci s^a``, solved by the Mohr-Coulomb kernel (sec. 15.2); other walls as
   below.
 - **Mogi-Coulomb**: a compiled kernel on the whole circle (:mod:`risk.mechanics._mogi_kernel`):
   the crossing at one angle by a fixed number of safeguarded steps, the worst angle searched
   as for Drucker-Prager but on the whole circle (docs/derivations.md, sec. 15.4).
-- **the other criteria** (modified Lade): the envelope iteration (Notes of
+- **the fallback of every kernel above**: the envelope iteration (Notes of
   :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
-  one case per loop iteration; also the fallback of the Drucker-Prager kernel); its numpy form
+  one case per loop iteration); its numpy form
   is kept as the reference path for every criterion but Mohr-Coulomb (``compiled=False``):
   bracketed roots in the wall pressure (Chandrupatla 1997,
   ``scipy.optimize.elementwise.find_root``) and maxima over ``n_theta`` grid angles refined by
@@ -282,9 +284,11 @@ def _theta_from_psi(psi: Array, out: tuple[int, ...], order: tuple[int, ...],
     return np.transpose(theta.reshape(out), inverse).reshape(shape)
 
 
-#: Criteria with a closed-form crossing at one angle, searched on the half circle
-#: (:mod:`risk.mechanics._arc_kernel`).
-_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed")
+#: Criteria whose worst angle is searched on the half circle, the crossing at one angle in
+#: closed form or by a fixed number of bracketed Halley steps on a cubic (modified Lade)
+#: (:mod:`risk.mechanics._arc_kernel`; docs/derivations.md, secs. 15.1 and 15.3).
+_ARC = ("drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed",
+        "modified-lade")
 
 
 def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: str,
@@ -300,9 +304,10 @@ def _compiled_general(arrays: list[Array], shape: tuple[int, ...], criterion: st
 
 def _compiled_kernels(arrays: list[Array], shape: tuple[int, ...], criterion: str,
                       n_theta: int) -> OnsetResult:
-    """Drucker-Prager by the half-circle kernel (:mod:`risk.mechanics._arc_kernel`),
-    Mogi-Coulomb by the whole-circle kernel (:mod:`risk.mechanics._mogi_kernel`), any other
-    criterion by the compiled envelope iteration (:mod:`risk.mechanics._onset_kernel`)."""
+    """Drucker-Prager and modified Lade by the half-circle kernel
+    (:mod:`risk.mechanics._arc_kernel`), Mogi-Coulomb by the whole-circle kernel
+    (:mod:`risk.mechanics._mogi_kernel`), any other criterion by the compiled envelope
+    iteration (:mod:`risk.mechanics._onset_kernel`, also the kernels' fallback)."""
     from risk.mechanics._onset_kernel import CODES, onset
 
     sxx, syy, szz, sxy, sxz, syz, p_r, big_a, nu, t0 = arrays[:10]

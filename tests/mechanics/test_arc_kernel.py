@@ -1,5 +1,6 @@
-"""The half-circle kernel (risk.mechanics._arc_kernel, Drucker-Prager) and the Hoek-Brown
-path through the Mohr-Coulomb kernel (risk.mechanics.yield_onset._compiled_hoek_brown).
+"""The half-circle kernel (risk.mechanics._arc_kernel, Drucker-Prager and modified Lade) and
+the Hoek-Brown path through the Mohr-Coulomb kernel
+(risk.mechanics.yield_onset._compiled_hoek_brown).
 
 Checks against things outside these paths:
 - the compiled envelope iteration (risk.mechanics._onset_kernel: grid and Brent's minimiser
@@ -8,7 +9,12 @@ Checks against things outside these paths:
   cases per criterion, to 1e-9 MPa;
 - the derivation of docs/derivations.md, sec. 15.1 (the worst angle lies on a half circle)
   against a dense scan of the criterion formulas of risk.mechanics.criteria over the whole
-  circle (Drucker & Prager 1952; Hoek, Carranza-Torres & Corkum 2002, eq. 1);
+  circle (Drucker & Prager 1952; Hoek, Carranza-Torres & Corkum 2002, eq. 1; Ewy 1999,
+  SPE Drill. & Completion 14(2), 85, eqs. 4-7);
+- modified Lade (sec. 15.3): the compiled answers and angles against the numpy reference path
+  and the scipy brute force; the Halley crossing at one angle against scipy's brentq on the
+  criterion formula of Ewy (1999), and its slope against central differences of brentq roots;
+  the sign function G against that formula, tensile walls included;
 - the published Mogi-Coulomb formula (Al-Ajmi & Zimmerman 2005, IJRMMS 42, 431, eqs. 13-15):
   its excess falls as the shear rises near equal hoop and axial stresses, the reason the
   kernel does not take Mogi-Coulomb;
@@ -25,6 +31,7 @@ import warnings
 
 import numpy as np
 import pytest
+from scipy.optimize import brentq
 
 from risk.mechanics import stresses as st
 from risk.mechanics.criteria import CRITERIA, StrengthParameters
@@ -38,7 +45,7 @@ from tests.mechanics.test_onset_kernel import _corpus
 from tests.mechanics.test_yield_onset import _brute
 
 FAST = ["drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed",
-        "hoek-brown"]
+        "hoek-brown", "modified-lade"]
 
 
 def _envelope(arrays, shape, criterion):
@@ -115,9 +122,11 @@ def test_worst_angle_lies_on_the_half_circle(criterion):
     # densely, so its maximum may only exceed the whole circle's by the scan's resolution)
     full, half = _half_circle_and_full_maxima(criterion, np.random.default_rng(7), 300)
     scale = 1.0 + np.abs(full)
-    if criterion == "hoek-brown":
-        # F itself is not convex where m_b s3/sigma_ci + s < 0 (the power's kink), but its
-        # elastic domain is: the failure decision, F >= 0 somewhere, is the half circle's
+    if criterion in ("hoek-brown", "modified-lade"):
+        # F itself is not convex where m_b s3/sigma_ci + s < 0 (the power's kink), nor
+        # modified Lade's where a shifted principal stress is not positive (sec. 15.3), but
+        # their elastic domains are: the failure decision, F >= 0 somewhere, is the half
+        # circle's
         full = np.minimum(full, 0.0)
     assert np.all(half >= full - 1e-5 * scale)
 
@@ -170,3 +179,182 @@ def test_sector_failing_with_no_drawdown_only():
                                  poisson_ratio=kw["nu"], strength=kw["strength"],
                                  tensile_strength=kw["t0"], criterion=kw["criterion"])
     assert ref == kw["p_r"] and float(got.wall_pressure) == ref
+
+
+LADE = "modified-lade"
+
+
+def _lade_constants(s):
+    """S = c/tan phi and K = 27 + eta of Ewy (1999), eqs. 4-7, from UCS and phi (the cohesion
+    of Jaeger, Cook & Zimmerman 2007, eq. 4.11), written out here from the paper."""
+    ucs, phi = np.asarray(s.ucs, dtype=float), np.asarray(s.friction_angle, dtype=float)
+    coh = ucs * (1.0 - np.sin(phi)) / (2.0 * np.cos(phi))
+    eta = 4.0 * np.tan(phi) ** 2 * (9.0 - 7.0 * np.sin(phi)) / (1.0 - np.sin(phi))
+    return coh / np.tan(phi), 27.0 + eta
+
+
+def _ewy_fails(s1, s2, s3, shift, k):
+    """Ewy (1999): failed where (I1'')^3/I3'' >= 27 + eta with s'' = s + S, or where a shifted
+    principal stress is not positive (the convention of risk.mechanics.criteria)."""
+    a, b, d = s1 + shift, s2 + shift, s3 + shift
+    positive = (a > 0) & (b > 0) & (d > 0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = (a + b + d) ** 3 / (a * b * d)
+    return ~positive | (ratio >= k)
+
+
+def test_modified_lade_equals_numpy_reference_wide_ranges():
+    # Reference: the numpy envelope iteration (risk.mechanics.yield_onset, compiled=False:
+    # scipy's bracketed root, parabolic angle refinement over the whole circle), on two
+    # corpora other than test_onset_kernel.py's: answers to 1e-9 MPa and worst angles
+    for seed in (23, 24):
+        loc, a, nu, p_r, s, t0 = _corpus(seed, 3000)
+        kw = dict(reservoir_pressure=p_r, poro_coefficient=a, poisson_ratio=nu, strength=s,
+                  tensile_strength=t0, criterion=LADE)
+        got = critical_wall_pressure(loc, **kw)
+        ref = critical_wall_pressure(loc, compiled=False, **kw)
+        g, r = got.wall_pressure, ref.wall_pressure
+        np.testing.assert_array_equal(np.isneginf(g), np.isneginf(r))
+        np.testing.assert_array_equal(g == p_r, r == p_r)
+        finite = np.isfinite(r)
+        np.testing.assert_allclose(g[finite], r[finite], rtol=0, atol=1e-9)
+        inside = finite & (r > 1e-6) & (r < p_r - 1e-6)
+        assert inside.sum() >= 50  # the crossing occurs
+        d = np.abs(got.theta[inside] - ref.theta[inside])
+        assert np.all(np.minimum(d, np.pi - d) < 1e-4)
+
+
+def test_modified_lade_against_brute_force():
+    # Reference: the independent brute force of test_yield_onset.py (eigvalsh of the wall
+    # tensor, a 3,601-point angle scan refined by scipy's minimize_scalar, scipy's brentq in
+    # the wall pressure), on the three outcomes
+    loc, a, nu, p_r, s, t0 = _corpus(31, 2000)
+    got = critical_wall_pressure(loc, reservoir_pressure=p_r, poro_coefficient=a,
+                                 poisson_ratio=nu, strength=s, tensile_strength=t0,
+                                 criterion=LADE).wall_pressure
+    inside = np.nonzero((got > 0) & (got < p_r))[0][:6]
+    zero = np.nonzero(got == p_r)[0][:3]
+    never = np.nonzero(np.isneginf(got))[0][:3]
+    assert len(inside) == 6 and len(zero) == 3 and len(never) == 3
+    for i in (*inside, *zero, *never):
+        one = st.LocalStress(*(np.asarray(c)[i] for c in loc))
+        prm = StrengthParameters(*(float(np.asarray(v)[i]) for v in s))
+        with warnings.catch_warnings():  # the brute force's scalar minimiser meets -inf
+            warnings.simplefilter("ignore", RuntimeWarning)
+            ref = _brute(one, p_r=p_r[i], A=a[i], nu=nu[i], strength=prm, t0=t0[i],
+                         criterion=LADE)
+        if np.isinf(ref):
+            assert got[i] == ref, i
+        else:
+            assert got[i] == pytest.approx(ref, abs=1e-7), (i, got[i], ref)
+
+
+def _one_angle(loc, a, nu, p_r, s):
+    """The kernel's per-case constants (risk.mechanics._arc_kernel._setup_block) for modified
+    Lade: S in kk and K S in lam2."""
+    from risk.mechanics._arc_kernel import _setup_block
+
+    shift, k = _lade_constants(s)
+    x = [np.ascontiguousarray(v, dtype=float) for v in (
+        loc.sxx + loc.syy, loc.sxx - loc.syy, loc.sxy, loc.szz, loc.sxz, loc.syz, p_r, a, nu,
+        shift, 0.5 * k * shift)]
+    return _setup_block(*x)[:13], shift, k
+
+
+def test_modified_lade_crossing_at_one_angle_against_brentq():
+    # docs/derivations.md, sec. 15.3: at one wall angle the crossing is the root of a cubic,
+    # taken by six bracketed Halley steps; against scipy.optimize.brentq on Ewy's (1999)
+    # criterion (risk.mechanics.criteria.modified_lade via wall_excess) at random angles, and
+    # its slope in psi against central differences of brentq roots
+    from risk.mechanics._arc_kernel import _HALLEY_POLISH, _lade_dir
+
+    loc, a, nu, p_r, s, _ = _corpus(41, 4000)
+    consts, _, _ = _one_angle(loc, a, nu, p_r, s)
+    rng = np.random.default_rng(5)
+    psi = rng.uniform(0.0, 2.0 * np.pi, p_r.size)
+    checked = 0
+    for i in range(p_r.size):
+        one = st.LocalStress(*(np.asarray(c)[i] for c in loc))
+        prm = StrengthParameters(*(float(np.asarray(v)[i]) for v in s))
+
+        def f(p, ps, i=i, one=one, prm=prm):
+            return float(wall_excess(p, 0.5 * ps, one, reservoir_pressure=p_r[i],
+                                     poro_coefficient=a[i], poisson_ratio=nu[i],
+                                     strength=prm, criterion=LADE))
+
+        k = [float(c[i]) for c in consts]
+        v, g = _lade_dir(0.0, np.cos(psi[i]), np.sin(psi[i]), 1.0, *k, 0.0, _HALLEY_POLISH,
+                         True)
+        f0, fr = f(0.0, psi[i]), f(p_r[i], psi[i])
+        if fr >= 0.0:
+            assert v >= p_r[i]
+        elif f0 < 0.0:
+            assert v < 0.0
+        else:
+            root = brentq(f, 0.0, p_r[i], args=(psi[i],), xtol=1e-14, rtol=1e-15)
+            assert v == pytest.approx(root, abs=1e-9 * (1.0 + root))
+            if checked < 40 and 1e-3 < root < p_r[i] - 1e-3:
+                h = 1e-5
+                lo = brentq(f, 0.0, p_r[i], args=(psi[i] - h,), xtol=1e-14, rtol=1e-15)
+                hi = brentq(f, 0.0, p_r[i], args=(psi[i] + h,), xtol=1e-14, rtol=1e-15)
+                assert g == pytest.approx((hi - lo) / (2 * h), rel=1e-4, abs=1e-5)
+            checked += 1
+    assert checked >= 100  # the crossing occurs at many of the angles
+
+
+def test_modified_lade_sign_function_against_the_formula():
+    # docs/derivations.md, sec. 15.3: G has the sign of Ewy's (1999) criterion, on walls
+    # compressive and tensile (a shifted principal stress at or below zero: failed), at
+    # random hoop, axial and hoop-axial shear stresses of a wall (radial stress 0)
+    from risk.mechanics._arc_kernel import _lade_at
+
+    rng = np.random.default_rng(11)
+    n = 20000
+    s = StrengthParameters(rng.uniform(1.0, 200.0, n), rng.uniform(0.05, 1.3, n))
+    shift, k = _lade_constants(s)
+    scale = rng.choice([1.0, 5.0, 50.0], n)
+    st_, sz_ = rng.uniform(-2.0, 1.0, n) * shift * scale, rng.uniform(-2.0, 1.0, n) * shift * scale
+    tau = rng.normal(0.0, 1.0, n) * shift * rng.choice([0.0, 0.1, 1.0], n)
+    m, h = 0.5 * (st_ + sz_), 0.5 * (st_ - sz_)
+    r = np.sqrt(h * h + tau * tau)
+    hi, lo = m + r, m - r
+    s1, s3 = np.maximum(hi, 0.0), np.minimum(lo, 0.0)
+    s2 = np.minimum(np.maximum(lo, 0.0), hi)
+    fails = _ewy_fails(s1, s2, s3, shift, k)
+    g = np.array([_lade_at(0.0, st_[i] + shift[i], sz_[i] + shift[i],
+                           st_[i] + sz_[i] + 3.0 * shift[i], tau[i] ** 2, 0.0, 0.0, 0.0, 1.5,
+                           0.5, shift[i], k[i] * shift[i])[0] for i in range(n)])
+    # the same decision but within rounding of the surface
+    f = CRITERIA[LADE](s1, s2, s3, s)
+    clear = np.abs(f) > 1e-9 * (1.0 + np.abs(s1) + shift)
+    np.testing.assert_array_equal((g >= 0.0)[clear], fails[clear])
+    assert np.sum(~fails) > 1000 and np.sum(fails & (lo + shift <= 0.0)) > 1000
+
+
+def test_tension_bound_over_the_angle_against_a_dense_scan():
+    # docs/derivations.md, sec. 15.3: the bound of -lo - T0 over every wall angle from the
+    # two ends of u = -dev; against a dense scan of the wall stresses of
+    # risk.mechanics.stresses.wall_stresses (Kirsch's solution with steady inflow, sec. 1)
+    from risk.mechanics._arc_kernel import _setup_block, _tension_bound_u
+
+    loc, a, nu, p_r, s, t0 = _corpus(43, 400)
+    x = [np.ascontiguousarray(v, dtype=float) for v in (
+        loc.sxx + loc.syy, loc.sxx - loc.syy, loc.sxy, loc.szz, loc.sxz, loc.syz, p_r, a, nu,
+        np.ones_like(p_r), np.ones_like(p_r))]
+    c = _setup_block(*x)
+    theta = np.linspace(0.0, np.pi, 20001)
+    tight = 0
+    for i in range(p_r.size):
+        one = st.LocalStress(*(float(np.asarray(v)[i]) for v in loc))
+        p = 0.5 * p_r[i]  # any wall pressure will do; the middle of [0, p_r]
+        w = st.wall_stresses(one, theta=theta, wall_pressure=p, reservoir_pressure=p_r[i],
+                             poro_coefficient=a[i], poisson_ratio=nu[i])
+        ht, hz = w.hoop - p, w.axial - p
+        lo = 0.5 * (ht + hz) - np.sqrt(0.25 * (ht - hz) ** 2 + w.shear_hoop_axial ** 2)
+        t_cut = 0.0 if np.isinf(t0[i]) else t0[i]
+        k = (*(float(v[i]) for v in c[:10]), p_r[i], t_cut)
+        bound = _tension_bound_u(p, k)
+        worst = np.max(-lo - t_cut)
+        assert bound >= worst - 1e-9 * (1.0 + abs(worst))
+        tight += bound < worst + 0.05 * (1.0 + abs(worst))
+    assert tight > 40  # the bound is attained, to 5 %, in some cases

@@ -141,9 +141,9 @@ def test_drucker_prager_crossing_closed_form(match):
         assert root == pytest.approx(r.wall_pressure[i], abs=1e-8)
 
 
-@pytest.mark.parametrize("criterion", ["mogi-coulomb", "drucker-prager-circumscribed",
-                                       "drucker-prager-middle", "drucker-prager-inscribed",
-                                       "hoek-brown"])
+@pytest.mark.parametrize("criterion", ["mogi-coulomb", "modified-lade",
+                                       "drucker-prager-circumscribed", "drucker-prager-middle",
+                                       "drucker-prager-inscribed", "hoek-brown"])
 @pytest.mark.parametrize("half", [slice(0, 300), slice(300, 900)])
 def test_same_inputs_same_answers_whatever_the_layout(criterion, half):
     # deterministic: each case is computed on its own (blocks only share the loop), so
