@@ -208,7 +208,7 @@ def _load_kernels(*, quiet: bool) -> float:
 
 @app.command("warm-up")
 def warm_up() -> None:
-    """Compile (or load) the yield-onset kernels now: once per machine, about 1-2 minutes; later
+    """Compile (or load) the yield-onset kernels now: once per machine, about 2-3 minutes; later
     runs load them in about a second. `make demo` and `make test` call it after installing."""
     from risk.kernel_cache import configure
 

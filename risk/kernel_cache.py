@@ -31,7 +31,7 @@ from pathlib import Path
 __all__ = ["CacheChoice", "choose", "configure", "choice", "warm_up", "COMPILING"]
 
 #: What the command line says when loading the kernels takes long: they are being compiled.
-COMPILING = ("compiling the yield-onset kernels (once per machine and version, about 1-2 min; "
+COMPILING = ("compiling the yield-onset kernels (once per machine and version, about 2-3 min; "
              "`risk warm-up` does it ahead of a run)...")
 #: The compiled modules, in the order they are loaded.
 KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel",
@@ -132,7 +132,7 @@ def warm_up(*, notify: Callable[[str], None] | None = None, after: float = 1.5) 
     """Load the compiled kernels, compiling them first where numba has no valid cache.
 
     Their modules compile at import (fixed signatures), so importing them is the whole work:
-    from the cache it takes about a second; compiling takes 1-2 minutes once per machine and
+    from the cache it takes about a second; compiling takes 2-3 minutes once per machine and
     version. ``notify`` is called once with :data:`COMPILING` if it is still loading after
     ``after`` seconds (from a timer thread, so the message appears while the compiler works and
     never when the cache is warm). Returns the time taken [s].
