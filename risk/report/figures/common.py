@@ -5,6 +5,7 @@ small readers of the results dict (JSON numbers as floats, the mechanisms with f
 
 from __future__ import annotations
 
+import contextvars
 import functools
 import math
 from collections.abc import Iterator, Mapping, Sequence
@@ -116,5 +117,23 @@ def _styled() -> Iterator[None]:
         yield
 
 
+class _Sized(Exception):  # noqa: N818 - a signal, not an error
+    """Raised by :func:`_new_figure` while a figure's size is asked for
+    (:func:`~risk.report.figures.render.figure_size`): the new, empty figure."""
+
+    def __init__(self, figure: Figure) -> None:
+        super().__init__("figure size")
+        self.figure = figure
+
+
+#: True while :func:`~risk.report.figures.render.figure_size` asks a plotting function for
+#: its figure's size: :func:`_new_figure` then stops it with :class:`_Sized`.
+_SIZE_ONLY: contextvars.ContextVar[bool] = contextvars.ContextVar("risk_figure_size_only",
+                                                                  default=False)
+
+
 def _new_figure(height: float, width: float = PAGE_WIDTH) -> Figure:
-    return Figure(figsize=(width, height), layout="constrained")
+    fig = Figure(figsize=(width, height), layout="constrained")
+    if _SIZE_ONLY.get():
+        raise _Sized(fig)
+    return fig

@@ -27,7 +27,7 @@ from PIL import Image
 from PIL.PngImagePlugin import PngInfo
 
 from risk.report.figures.calibration import plot_calibration, plot_value_of_information
-from risk.report.figures.common import DPI, _styled
+from risk.report.figures.common import _SIZE_ONLY, DPI, _Sized, _styled
 from risk.report.figures.curves import (
     plot_envelope,
     plot_failure_probability,
@@ -130,6 +130,24 @@ def pixel_size(fig: Figure) -> tuple[int, int]:
     truncated as matplotlib's canvas does (``FigureCanvasBase.get_width_height``: whole pixels,
     a size within 1e-8 px below a whole number counting as that number)."""
     return (int(fig.get_figwidth() * DPI + 1e-8), int(fig.get_figheight() * DPI + 1e-8))
+
+
+def figure_size(name: str, results: Mapping[str, Any]) -> tuple[int, int] | None:
+    """Width and height [px] of figure ``name`` of these results as :func:`render_all` draws
+    it (:func:`pixel_size`), or None where it does not apply, without drawing it: its plotting
+    function runs up to the point where it creates its figure (every figure's size follows
+    from the results alone, before anything is plotted), a few milliseconds."""
+    token = _SIZE_ONLY.set(True)
+    try:
+        drawn = FIGURES[name](results)
+    except _Sized as sized:
+        return pixel_size(sized.figure)
+    finally:
+        _SIZE_ONLY.reset(token)
+    if drawn is None:
+        return None
+    # a figure created otherwise than by _new_figure: built whole, then measured
+    return pixel_size(drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True))
 
 
 def _png(fig: Figure, description: str = "", key: str = "") -> bytes:
