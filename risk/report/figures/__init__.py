@@ -23,8 +23,8 @@ Layout (every public name is importable from this package):
 - ``sensitivity`` Sobol/Shapley bars and the tornado;
 - ``inputs``      input histograms and rank correlation;
 - ``render``      the :data:`FIGURES` registry, PNG provenance and :func:`render_all`;
-- ``background``  figures drawn in a forked process, their sizes announced first (used by the
-                  memo; not re-exported here).
+- ``background``  figures drawn in a forked process while the memo's PDF is laid out around
+                  their sizes, known from the results (used by the memo; not re-exported here).
 
 Text formatting (:func:`format_value`, :func:`input_label`, :func:`output_name`) lives in
 :mod:`risk.report.formatting`, shared with the memo; it is re-exported here.
