@@ -285,3 +285,67 @@ def test_domain_turns_inwards_at_triaxial_extension():
         a_, b_ = on_surface(0.3), on_surface(-0.3)
         assert abs(f(a_)) < 1e-9 and abs(f(b_)) < 1e-9
         assert f(0.5 * (a_ + b_)) > 1e-3
+
+
+def test_floor_is_the_value_where_the_angle_fails_nowhere():
+    # docs/derivations.md sec. 15.4 ("Later steps without the crossing"): where F(0) < 0 and
+    # F(p_r) < 0 at an angle, _floor gives F(0) (checked against the criterion function of
+    # risk.mechanics.criteria, Al-Ajmi & Zimmerman 2005, through wall_excess) and, to the last
+    # bit, the value search's value, slope, F and -lo at p_r; elsewhere a value > 0.
+    from risk.mechanics._mogi_kernel import _FLOOR, _VALUE, _evaluate
+
+    loc, a, nu, p_r, s, t0 = _corpus(9, 4000)
+    theta = np.random.default_rng(9).uniform(0.0, np.pi, p_r.size)
+    k = _block(loc, a, nu, p_r, s)
+    zero, c2, s2 = np.zeros(p_r.size), np.cos(2.0 * theta), np.sin(2.0 * theta)
+    fl = _evaluate(np.int64(_FLOOR), 1, zero, c2, s2, *k)
+    kw = dict(reservoir_pressure=p_r, poro_coefficient=a, poisson_ratio=nu, strength=s,
+              criterion=MOGI)
+    f0 = wall_excess(0.0, theta, loc, **kw)
+    fr = wall_excess(p_r, theta, loc, **kw)
+    never = (f0 < -1e-9) & (fr < -1e-9)
+    assert 500 < never.sum() < p_r.size - 500
+    np.testing.assert_allclose(fl[0][never], f0[never], rtol=0, atol=1e-9)
+    failing = (f0 > 1e-9) | (fr > 1e-9)
+    assert np.all(fl[0][failing] > 0.0)
+    for mode in (0, 1, 2):
+        va = _evaluate(np.int64(_VALUE), mode, zero, c2, s2, *k)
+        both = fl[0] < 0.0
+        np.testing.assert_array_equal(fl[0][both], va[0][both])
+        np.testing.assert_array_equal(fl[1][both], va[1][both])
+        if mode < 2:  # the polishing call returns the last step's size instead
+            np.testing.assert_array_equal(fl[2][both], va[2][both])
+            np.testing.assert_array_equal(fl[3][both], va[3][both])
+
+
+def test_search_with_floor_steps_equals_the_value_search():
+    # docs/derivations.md sec. 15.4: a block's search that takes the later steps of its
+    # no-failure cases on _floor ends as the search on the value for every case (answer,
+    # angle, flag and screens, to the last bit), but for the few flagged 2.0 (an angle
+    # visited after the grid fails: mogi_onset searches those again on the value). The
+    # "never" answers so found are checked against a dense scan of the criterion (Al-Ajmi &
+    # Zimmerman 2005, through wall_excess): no angle fails with no drawdown.
+    from risk.mechanics._mogi_kernel import _VALUE, _VALUE_ALL, _search
+
+    loc, a, nu, p_r, s, t0 = _corpus(1001, 8192)
+    k = _block(loc, a, nu, p_r, s)
+    out = {}
+    for kind in (_VALUE, _VALUE_ALL):
+        o = [np.empty(p_r.size) for _ in range(6)]
+        for j in range(0, p_r.size, 256):
+            _search(np.int64(kind), *(np.ascontiguousarray(x[j:j + 256]) for x in k),
+                    *(x[j:j + 256] for x in o))
+        out[kind] = o
+    redo = out[_VALUE][3] == 2.0
+    assert redo.sum() < 0.01 * p_r.size
+    for x, y in zip(out[_VALUE], out[_VALUE_ALL], strict=True):
+        np.testing.assert_array_equal(x[~redo], y[~redo])
+    never = np.nonzero(~redo & (out[_VALUE][0] < 0.0) & (out[_VALUE][3] == 0.0))[0]
+    assert never.size > 1000  # the floor's steps are taken
+    theta = np.linspace(0.0, np.pi, 721)
+    for i in never[:200]:
+        one = st.LocalStress(*(np.full(theta.size, np.asarray(c)[i]) for c in loc))
+        prm = StrengthParameters(*(float(np.asarray(c)[i]) for c in s))
+        f0 = wall_excess(0.0, theta, one, reservoir_pressure=p_r[i], poro_coefficient=a[i],
+                         poisson_ratio=nu[i], strength=prm, criterion=MOGI)
+        assert f0.max() <= out[_VALUE][0][i] + 1e-9, i
