@@ -29,13 +29,6 @@ Where to look for the worst angle
     circle only where the value grid's largest F and -lo at p_r, plus a Lipschitz bound over
     half a grid step, do not rule them out.
 
-Cases that fail at no angle of the grid
-    take their later steps on F(0) alone (:func:`_floor`: the value there, without the
-    crossing's steps, which branch-free code would compute and discard), and keep the result
-    where every angle visited fails nowhere: then the value search would have visited the
-    same angles with the same values to the last bit; the others are searched again on the
-    value (docs/derivations.md, sec. 15.4).
-
 The Mogi-Coulomb elastic domain is not convex (derivations sec. 15.4): where the failing
 wall pressures at one angle form a middle interval, this kernel (like the envelope iteration
 and the numpy reference path) does not see them.
@@ -75,8 +68,7 @@ _ROUNDS = 6  # Anderson-Bjorck steps for every case
 _S = math.sqrt(2.0) / 3.0  # tau_oct = _S sqrt(m^2 + 3 r^2) at the wall
 _S2 = 2.0 / 9.0
 _HALF_STEP = math.pi / _GRID  # every direction lies within this of a grid direction [rad]
-_VALUE, _TENSION, _SHEAR_R, _FLOOR = 0, 1, 2, 3  # the function a search maximises
-_VALUE_ALL = 4  # the value with every case's steps on the slope taken on the value itself
+_VALUE, _TENSION, _SHEAR_R = 0, 1, 2  # the function a search maximises
 
 _jit = njit(cache=True, error_model="numpy", nogil=True)
 _jit_inline = njit(cache=True, error_model="numpy", nogil=True, inline="always")
@@ -223,35 +215,6 @@ def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: fl
 
 
 @_jit_inline
-def _floor(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: float,
-           w0: float, w1: float, w2: float, bt: float, bz: float, nu: float, p_r: float,
-           aa: float, bb: float) -> tuple[float, float, float, float]:
-    """:func:`_dir` where the angle fails neither with no drawdown nor at p_r (F(0) < 0 and
-    F(p_r) < 0: the value is F(0)) with no crossing computed: the same value, slope, F and -lo
-    at p_r, to the last bit (the same arithmetic). Elsewhere the value is |F(0)| + 1 > 0 (a
-    case whose search meets such an angle is rejected and takes the value search; sec. 15.4
-    of docs/derivations.md)."""
-    c, s = _turn(t, cb, sb)
-    dev = pp * c + qq * s
-    w = max(w0 + w1 * c + w2 * s, 0.0)
-    ddev = qq * c - pp * s
-    dw = w2 * c - w1 * s
-    at = k0 - dev
-    az = z0 - nu * dev
-    ma = 0.5 * (at + az)
-    ha = 0.5 * (at - az)
-    mb = 0.5 * (bt + bz)
-    dm = -0.5 * (1.0 + nu) * ddev
-    dh = -0.5 * (1.0 - nu) * ddev
-    f0, fm0, fh0, fw0 = _mogi(ma, ha, w, aa, bb)
-    fr, _fmr, _fhr, _fwr = _mogi(ma - mb * p_r, ha - 0.5 * p_r, w, aa, bb)
-    bottom = (f0 < 0.0) & (fr < 0.0)
-    h_r = ha - 0.5 * p_r
-    return (f0 if bottom else abs(f0) + 1.0, fm0 * dm + fh0 * dh + fw0 * dw, fr,
-            math.sqrt(h_r * h_r + w) - (ma - mb * p_r))
-
-
-@_jit_inline
 def _at_p_r(kind: int, t: float, cb: float, sb: float, k0: float, z0: float, pp: float,
             qq: float, w0: float, w1: float, w2: float, bt: float, bz: float, nu: float,
             p_r: float, aa: float, bb: float) -> tuple[float, float]:
@@ -283,9 +246,7 @@ def _evaluate(kind, mode, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_
     Returns (values, slopes, and F and -lo at p_r for the value (the last steps
     twice polished; the values twice for the others)). One plain loop per kind, its outputs
     allocated in it (such loops vectorise; see the Drucker-Prager kernel)."""
-    if kind == _FLOOR:
-        return _loop_floor(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb)
-    if (kind == _VALUE) | (kind == _VALUE_ALL):
+    if kind == _VALUE:
         if mode == 2:
             return _loop_polished(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r,
                                   aa, bb)
@@ -342,23 +303,6 @@ def _loop_polished(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, 
 
 
 @_jit
-def _loop_floor(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
-    """:func:`_floor` at every case (see :func:`_evaluate`): values, slopes, F and -lo at p_r
-    (the polishing call reads the third output as the last step's size: F(p_r) < 0 wherever
-    the case is accepted, so it flags nothing there)."""
-    cnt = tt.size
-    vn, gn, fn, tn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
-    for r in range(cnt):
-        v, g, f, t = _floor(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                            w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r])
-        vn[r] = v
-        gn[r] = g
-        fn[r] = f
-        tn[r] = t
-    return vn, gn, fn, tn
-
-
-@_jit
 def _loop_p_r(kind, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
     """:func:`_at_p_r` at every case (see :func:`_evaluate`)."""
     cnt = tt.size
@@ -369,28 +313,6 @@ def _loop_p_r(kind, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa,
         vn[r] = v
         gn[r] = g
     return vn, gn, vn, vn
-
-
-@_jit
-def _evaluate_split(mode, tt, cb, sb, fi, vi, f_in, v_in):
-    """:func:`_evaluate` of the value for a block whose cases ``fi`` take :func:`_floor`
-    (their inputs gathered in ``f_in``) and the others ``vi`` the value (inputs ``v_in``);
-    outputs scattered back in the block's order."""
-    cnt = tt.size
-    vn, gn, fn, tn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
-    a = _loop_floor(tt[fi], cb[fi], sb[fi], f_in[0], f_in[1], f_in[2], f_in[3], f_in[4],
-                    f_in[5], f_in[6], f_in[7], f_in[8], f_in[9], f_in[10], f_in[11], f_in[12])
-    for q in range(fi.size):
-        r = fi[q]
-        vn[r], gn[r], fn[r], tn[r] = a[0][q], a[1][q], a[2][q], a[3][q]
-    if vi.size:
-        b = _evaluate(np.int64(_VALUE), mode, tt[vi], cb[vi], sb[vi], v_in[0], v_in[1],
-                      v_in[2], v_in[3], v_in[4], v_in[5], v_in[6], v_in[7], v_in[8], v_in[9],
-                      v_in[10], v_in[11], v_in[12])
-        for q in range(vi.size):
-            r = vi[q]
-            vn[r], gn[r], fn[r], tn[r] = b[0][q], b[1][q], b[2][q], b[3][q]
-    return vn, gn, fn, tn
 
 
 @_jit
@@ -465,22 +387,6 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
         bcb[r] = math.cos(jb * 2.0 * math.pi / _GRID)
         bsb[r] = math.sin(jb * 2.0 * math.pi / _GRID)
         peaks[r] = 2.0 if other_up > key + 1e-11 * (1.0 + abs(key)) else 1.0
-    # cases whose every grid direction fails neither with no drawdown nor at p_r (value
-    # F(0) < 0 there; p_r > 0 keeps the other outcomes' values >= 0) take their later steps
-    # on :func:`_floor`, the same value without the crossing's steps, while the angles they
-    # visit stay such (else flag 2.0: the caller takes the search again as _VALUE_ALL);
-    # docs/derivations.md, sec. 15.4
-    fsel = np.zeros(cnt, dtype=np.bool_)
-    if kind == _VALUE:
-        for r in range(cnt):
-            fsel[r] = (bv[r] < 0.0) & (p_r[r] > 0.0)
-    fi = np.nonzero(fsel)[0]
-    vi = np.nonzero(~fsel)[0]
-    split = fi.size > 0
-    f_in = (k0[fi], z0[fi], pp[fi], qq[fi], w0[fi], w1[fi], w2[fi], bt[fi], bz[fi], nu[fi],
-            p_r[fi], aa[fi], bb[fi])
-    v_in = (k0[vi], z0[vi], pp[vi], qq[vi], w0[vi], w1[vi], w2[vi], bt[vi], bz[vi], nu[vi],
-            p_r[vi], aa[vi], bb[vi])
     # first step: the root of the quadratic slope of the cubic Hermite model of the value
     # between the bracket's ends, kept to the middle 90 % (a bisection where it has none)
     for r in range(cnt):
@@ -511,11 +417,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
                 # secant point on itself)
                 gap = 0.01 * (hi[r] - lo[r])
                 tt[r] = min(max(tn, lo[r] + gap), hi[r] - gap)
-        if split:
-            vn, gn, _f, _t = _evaluate_split(1, tt, cb, sb, fi, vi, f_in, v_in)
-        else:
-            vn, gn, _f, _t = _evaluate(kind, 1, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt,
-                                       bz, nu, p_r, aa, bb)
+        vn, gn, _f, _t = _evaluate(kind, 1, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                              p_r, aa, bb)
         for r in range(cnt):
             tn, v, g = tt[r], vn[r], gn[r]
             better = v > bv[r]
@@ -543,11 +446,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
             fh[r] = nfh
             kept[r] = (1.0 if right else -1.0) if rnd > 0 else 0.0
     # the polished value at the best point, and its slope
-    if split:
-        vn, gn, dn, _d = _evaluate_split(2, bx, bcb, bsb, fi, vi, f_in, v_in)
-    else:
-        vn, gn, dn, _d = _evaluate(kind, 2, bx, bcb, bsb, k0, z0, pp, qq, w0, w1, w2, bt, bz,
-                                   nu, p_r, aa, bb)
+    vn, gn, dn, _d = _evaluate(kind, 2, bx, bcb, bsb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
+                           p_r, aa, bb)
     for r in range(cnt):
         # the search compared values of fewer steps: where the polished one differs, those
         # were not converged and the comparison is not trusted (flag)
@@ -561,10 +461,6 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
         # last step below 1e-9 MPa (the error after it is of its square's order)
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
         flag_out[r] = 1.0 if (peaks[r] > 1.0) | open_ | (dn[r] > 1e-9) | loose else 0.0
-    for q in range(fi.size):
-        r = fi[q]
-        if not vn[r] < 0.0:  # an angle visited after the grid was not of the floor's kind
-            flag_out[r] = 2.0
 
 
 @_jit_inline
@@ -656,16 +552,6 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
             _search(value, k0[idx], z0[idx], pp[idx], qq[idx], w0[idx], w1[idx], w2[idx],
                     bt[idx], bz[idx], nuv[idx], prv[idx], aa[idx], bb[idx], sv, sc, ss, sg,
                     s1, s2)
-            bv[idx], bc[idx], bs[idx], flag[idx], sf[idx], stn[idx] = sv, sc, ss, sg, s1, s2
-        # cases whose later steps left the floor's kind: the search again, on the value
-        idx = np.nonzero(flag == 2.0)[0]
-        if idx.size:
-            sv, sc, ss, sg = (np.empty(idx.size), np.empty(idx.size), np.empty(idx.size),
-                              np.empty(idx.size))
-            s1, s2 = np.empty(idx.size), np.empty(idx.size)
-            _search(np.int64(_VALUE_ALL), k0[idx], z0[idx], pp[idx], qq[idx], w0[idx],
-                    w1[idx], w2[idx], bt[idx], bz[idx], nuv[idx], prv[idx], aa[idx], bb[idx],
-                    sv, sc, ss, sg, s1, s2)
             bv[idx], bc[idx], bs[idx], flag[idx], sf[idx], stn[idx] = sv, sc, ss, sg, s1, s2
         # with no drawdown, where the value search found no failure: the criterion at p_r (an
         # angle may fail at p_r but not at 0, in a sector the grid can miss), then the tensile
