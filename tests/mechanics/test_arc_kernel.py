@@ -41,7 +41,11 @@ from risk.mechanics.yield_onset import (
     critical_wall_pressure,
     wall_excess,
 )
-from tests.mechanics.test_onset_kernel import _corpus
+from tests.mechanics.test_onset_kernel import (
+    _corpus,
+    assert_matches_brute_force,
+    assert_matches_envelope,
+)
 from tests.mechanics.test_yield_onset import _brute
 
 FAST = ["drucker-prager-circumscribed", "drucker-prager-middle", "drucker-prager-inscribed",
@@ -70,24 +74,7 @@ def test_equals_the_envelope_iteration_on_many_wide_cases(criterion):
         arrays = [np.asarray(v, dtype=float) for v in (*loc, p_r, a, nu, t0, *s)]
         got = _compiled_general(arrays, p_r.shape, criterion, 24)
         ref, psi = _envelope(arrays, p_r.shape, criterion)
-        np.testing.assert_array_equal(np.isneginf(got.wall_pressure), np.isneginf(ref))
-        np.testing.assert_array_equal(got.wall_pressure == p_r, ref == p_r)
-        finite = np.isfinite(ref)
-        np.testing.assert_allclose(got.wall_pressure[finite], ref[finite], rtol=0, atol=1e-9)
-        inside = finite & (ref > 1e-6) & (ref < p_r - 1e-6)
-        assert inside.sum() > 300  # the interesting outcome occurs
-        d = np.abs(got.theta[inside] - np.mod(psi[inside], 2 * np.pi) / 2)
-        d = np.minimum(d, np.pi - d)
-        # the same worst angle, but where two angles tie (symmetric walls: either is the
-        # answer) the criterion is reached at the angle reported, at the answer
-        other = np.nonzero(inside)[0][d >= 1e-4]
-        assert other.size <= 0.02 * inside.sum()
-        one = st.LocalStress(*(np.asarray(c)[other] for c in loc))
-        f = wall_excess(got.wall_pressure[other], got.theta[other], one,
-                        reservoir_pressure=p_r[other], poro_coefficient=a[other],
-                        poisson_ratio=nu[other], criterion=criterion,
-                        strength=StrengthParameters(*(np.asarray(v)[other] for v in s)))
-        assert np.all(np.abs(f) < 1e-7)
+        assert_matches_envelope(got, ref, psi, loc, a, nu, p_r, s, criterion)
 
 
 def _half_circle_and_full_maxima(criterion, rng, n):
@@ -236,17 +223,7 @@ def test_modified_lade_against_brute_force():
     zero = np.nonzero(got == p_r)[0][:3]
     never = np.nonzero(np.isneginf(got))[0][:3]
     assert len(inside) == 6 and len(zero) == 3 and len(never) == 3
-    for i in (*inside, *zero, *never):
-        one = st.LocalStress(*(np.asarray(c)[i] for c in loc))
-        prm = StrengthParameters(*(float(np.asarray(v)[i]) for v in s))
-        with warnings.catch_warnings():  # the brute force's scalar minimiser meets -inf
-            warnings.simplefilter("ignore", RuntimeWarning)
-            ref = _brute(one, p_r=p_r[i], A=a[i], nu=nu[i], strength=prm, t0=t0[i],
-                         criterion=LADE)
-        if np.isinf(ref):
-            assert got[i] == ref, i
-        else:
-            assert got[i] == pytest.approx(ref, abs=1e-7), (i, got[i], ref)
+    assert_matches_brute_force(got, (*inside, *zero, *never), loc, a, nu, p_r, s, t0, LADE)
 
 
 def _one_angle(loc, a, nu, p_r, s):
