@@ -9,6 +9,7 @@ Mara, Tarantola & Annoni (2015); Castro, Gomez & Tejada (2009): see :mod:`risk.s
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Sequence
 from itertools import product
@@ -33,9 +34,15 @@ MAX_EXACT_SHAPLEY_INPUTS: Final = 16
 # ---------------------------------------------------------------------------------------------
 
 
+@functools.lru_cache(maxsize=32)
 def _gauss_hermite(npts: int) -> tuple[Array, Array]:
+    """Nodes and weights (summing to 1) of the ``npts``-point probabilists' Gauss-Hermite
+    rule, computed once per size (read-only arrays)."""
     t, w = np.polynomial.hermite_e.hermegauss(npts)
-    return t, w / w.sum()
+    w = w / w.sum()
+    t.setflags(write=False)
+    w.setflags(write=False)
+    return t, w
 
 
 def _plane_maps(g: Array, top: int) -> list[Array]:
@@ -75,6 +82,34 @@ def _givens(r: Array) -> tuple[list[tuple[int, int, Array]], Array]:
             rw[[row - 1, row], :] = g @ rw[[row - 1, row], :]
             rots.append((row - 1, row, g))
     return rots, np.sign(np.diag(rw))
+
+
+_Plan = tuple[tuple[tuple[int, int, tuple[Array, ...]], ...], Array]
+
+
+def _rotation_plan(rmat: Array, top: int) -> _Plan:
+    """The plane rotations of ``rmat`` (:func:`_givens`) with each one's coefficient maps
+    (:func:`_plane_maps`) up to degree ``top``, and the signs; computed once per rotation.
+
+    Every output of a run, and every subset of a block, needs the same few rotations (they
+    depend on the correlation matrix and the ordering only), so the maps are cached by the
+    rotation's exact bits: the cached numbers are those a fresh computation would give.
+    """
+    r = np.ascontiguousarray(rmat, dtype=float)
+    return _rotation_plan_of(r.tobytes(), r.shape[0], int(top))
+
+
+@functools.lru_cache(maxsize=1024)
+def _rotation_plan_of(rbytes: bytes, b: int, top: int) -> _Plan:
+    rots, signs = _givens(np.frombuffer(rbytes, dtype=float).reshape(b, b))
+    plan = []
+    for i, j, g in rots:
+        maps = _plane_maps(g.T, top)
+        for mp in maps:
+            mp.setflags(write=False)
+        plan.append((i, j, tuple(maps)))
+    signs.setflags(write=False)
+    return tuple(plan), signs
 
 
 class _Closure:
@@ -156,12 +191,11 @@ class _Closure:
         ``psi_n(-x) = (-1)^n psi_n(x)`` and then each plane map (:func:`_plane_maps`).
         """
         out = coef.copy()
-        rots, signs = _givens(rmat)
+        rots, signs = _rotation_plan(rmat, self.top)
         for col, sgn in zip(block, signs, strict=True):
             if sgn < 0:
                 out *= np.where(self.indices[:, col] % 2 == 1, -1.0, 1.0)[:, None]
-        for i, j, g in reversed(rots):
-            maps = _plane_maps(g.T, self.top)
+        for i, j, maps in reversed(rots):
             tables = self.pair_table(int(block[i]), int(block[j]))
             for n in range(1, self.top + 1):
                 tab = tables[n]
