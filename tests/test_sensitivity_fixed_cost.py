@@ -6,6 +6,10 @@ Reference values:
   resample refits least squares on n rows drawn with replacement; the reference forms the
   resampled design ``Psi[rows]`` row by row and solves with numpy.linalg.lstsq (LAPACK gelsd,
   an independent solver), and its Gram matrix as ``Psi[rows]^T Psi[rows]``.
+- Least squares and leave-one-out by brute force: numpy.linalg.lstsq on the pursuit's chosen
+  columns, and the n refits each leaving one row out; the correction factor
+  ``n / (n - p) (1 + tr((Psi^T Psi)^-1))`` of Blatman & Sudret (2010, eqs. 18-21 -- from
+  memory; Chapelle, Vapnik & Bengio 2002) from numpy.linalg.inv.
 - Gaussian conditioning (Anderson 2003, An Introduction to Multivariate Statistical Analysis,
   3rd ed., Theorem 2.5.1 -- from memory): for z ~ N(0, C) and Y = b . z,
   ``Var(Y | z_u) = b_v^T (C_vv - C_vu C_uu^-1 C_uv) b_v`` (v the other inputs), so
@@ -24,8 +28,10 @@ import scipy.linalg.blas
 import scipy.stats
 
 from risk.sensitivity.pce import (
+    _DGKS,
     PolynomialChaos,
     _bootstrap_coefficients,
+    _omp,
     _resampled_gram,
     design_matrix,
     multi_indices,
@@ -86,6 +92,36 @@ def test_rotation_plans_are_computed_once_and_equal_a_fresh_computation() -> Non
                 assert np.array_equal(cached, fresh) and not cached.flags.writeable
                 # a rotation maps the orthonormal products of each degree orthogonally
                 np.testing.assert_allclose(cached @ cached.T, np.eye(len(cached)), atol=1e-12)
+
+
+def test_pursuit_coefficients_and_loo_error_equal_brute_force_least_squares() -> None:
+    n = 120
+    rng = np.random.default_rng(9)
+    base = _basis(n, 3, 3, seed=10)  # 20 orthonormal products
+    # mix the columns strongly so that Gram-Schmidt often needs its second pass
+    mix = np.triu(rng.uniform(0.5, 1.5, (20, 20)))
+    mix[0] = 0.0
+    mix[0, 0] = 1.0  # keep the constant column
+    psi = base @ mix
+    y = base @ rng.uniform(0.5, 1.0, 20) + 0.05 * rng.standard_normal(n)
+    active, coef, err = _omp(psi, y, 30, 10)
+    x = psi[:, active]
+    # the second pass was needed somewhere along this path
+    leave = [np.linalg.norm(x[:, k] - x[:, :k] @ np.linalg.lstsq(x[:, :k], x[:, k],
+                                                                 rcond=None)[0])
+             / np.linalg.norm(x[:, k]) for k in range(1, len(active))]
+    assert min(leave) < _DGKS
+    # numpy.linalg.lstsq on the chosen columns
+    np.testing.assert_allclose(coef, np.linalg.lstsq(x, y, rcond=None)[0], rtol=0, atol=1e-9)
+    # leave-one-out residuals by n refits, and the correction factor from the inverse Gram
+    loo = np.empty(n)
+    for i in range(n):
+        keep = np.arange(n) != i
+        loo[i] = y[i] - x[i] @ np.linalg.lstsq(x[keep], y[keep], rcond=None)[0]
+    p = len(active)
+    factor = n / (n - p) * (1.0 + np.trace(np.linalg.inv(x.T @ x)))
+    ref = np.mean(loo**2) / np.var(y, ddof=1) * factor
+    assert math.isclose(err, ref, rel_tol=1e-9)
 
 
 def _gaussian_linear_shapley(b: np.ndarray, c: np.ndarray) -> tuple[np.ndarray, ...]:

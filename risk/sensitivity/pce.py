@@ -269,15 +269,28 @@ def _loo_from_qr(q: Array, r: Array, y: Array, var_y: Array) -> Array:
 
 _AUTO_MAX = 10
 
+#: Gram-Schmidt is repeated when a pass leaves less than this share of the vector's norm
+#: (Daniel, Gragg, Kaufman & Stewart 1976: a second pass is then needed, and enough)
+_DGKS = 1.0 / math.sqrt(2.0)
+
 
 def _omp(psi: Array, y: Array, max_terms: int, patience: int) -> tuple[IntArray, Array, float]:
     """Orthogonal matching pursuit (Pati et al. 1993) stopped at the least corrected LOO error.
 
     The constant term (column 0) enters first. Each step adds the column most correlated with
-    the residual, orthogonalised by Gram-Schmidt with one re-orthogonalisation; the corrected
-    leave-one-out error is updated in O(n + s^2). The path stops ``patience`` steps after its
-    best point or at ``max_terms``; the returned basis is the one at the best point and its
-    coefficients are its least-squares fit.
+    the residual, orthogonalised by classical Gram-Schmidt against the columns already in,
+    with a second pass only when the first left less than ``1/sqrt(2)`` of its norm (Daniel
+    et al. 1976: then one more pass restores orthogonality to working precision; otherwise
+    the first already has); the corrected leave-one-out error is updated in O(n + s) per
+    step (``||R^-1||_F^2`` kept as a running sum over the columns of ``R^-1``). The path
+    stops ``patience`` steps after its best point or at ``max_terms``; the returned basis is
+    the one at the best point and its coefficients are its least-squares fit.
+
+    References
+    ----------
+    Daniel, J.W., Gragg, W.B., Kaufman, L., Stewart, G.W. (1976). Reorthogonalization and
+        stable algorithms for updating the Gram-Schmidt QR factorization. Mathematics of
+        Computation 30, 772-795.
     """
     path = _omp_path(psi, y, max_terms, patience)
     try:
@@ -334,6 +347,7 @@ def _omp_path(psi: Array, y: Array, max_terms: int, patience: int
     h = np.zeros(n)
     resid = y.astype(float).copy()
     best = (math.inf, 0)
+    trace = 0.0  # squared Frobenius norm of R^-1 so far
     k = 0
     while len(active) < max_terms:
         s = len(active)
@@ -346,11 +360,15 @@ def _omp_path(psi: Array, y: Array, max_terms: int, patience: int
                 break
         v = psi[:, k].copy()
         rcol = np.zeros(s)
-        for _ in range(2):
+        size = norms[k]
+        for _ in range(2):  # classical Gram-Schmidt, repeated only when it cancelled much
             c = q[:, :s].T @ v
             v -= q[:, :s] @ c
             rcol += c
-        rho = float(np.linalg.norm(v))
+            rho = float(np.linalg.norm(v))
+            if rho >= _DGKS * size:
+                break
+            size = rho
         usable[k] = False
         if rho <= 1e-8 * norms[k]:
             continue
@@ -365,10 +383,11 @@ def _omp_path(psi: Array, y: Array, max_terms: int, patience: int
         h += q[:, s] ** 2
         active.append(k)
         p = s + 1
+        trace += float(rinv[:p, s] @ rinv[:p, s])
         if p >= 2 and n - p > 0 and var_y > 0:
             with np.errstate(divide="ignore", invalid="ignore"):
                 loo = float(np.mean((resid / (1.0 - h)) ** 2)) / var_y
-            err = loo * n / (n - p) * (1.0 + float(np.sum(rinv[:p, :p] ** 2)))
+            err = loo * n / (n - p) * (1.0 + trace)
             if not np.isfinite(err):
                 err = math.inf
             if err < best[0]:
