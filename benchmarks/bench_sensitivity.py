@@ -13,6 +13,12 @@
 3. A run's design (docs/derivations.md, sec. 17): 1,024 runs of 10 inputs, 7 outputs, total
    degree 5 (3,003 candidate terms): the sparse fit of all outputs with the matching pursuits
    side by side, against one output at a time (the same paths, checked), and the basis.
+4. The fixed cost's remaining parts on part 3's design (docs/derivations.md, sec. 17), each
+   old and new form alternated in this one process (ratios; the machine is shared): the
+   pursuits with a second Gram-Schmidt pass always / only when needed; the bootstraps'
+   Gram matrices over all n rows / over the rows drawn; correlated indices (a block of four
+   correlated inputs, 101 coefficient sets per output) with the rotations recomputed /
+   cached.
 
 BLAS is pinned to one thread through OPENBLAS_NUM_THREADS before numpy loads, since
 threadpoolctl is not installed here (threaded BLAS made these small problems ~10x slower).
@@ -25,6 +31,7 @@ import os
 
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
+import math  # noqa: E402
 import sys  # noqa: E402
 import time  # noqa: E402
 
@@ -179,11 +186,91 @@ def part3() -> None:
           f"same terms chosen: {same}")
 
 
+def _alternate(old, new, rounds: int = 3) -> tuple[float, float]:  # type: ignore[no-untyped-def]
+    """Least CPU time [s] of each of two callables, run alternately ``rounds`` times."""
+    t_old, t_new = [], []
+    for _ in range(rounds):
+        for fn, out in ((old, t_old), (new, t_new)):
+            t0 = time.process_time()
+            fn()
+            out.append(time.process_time() - t0)
+    return min(t_old), min(t_new)
+
+
+def part4() -> None:
+    import scipy.linalg.blas
+
+    from risk.sensitivity import pce, shapley
+
+    print("\n4. The rest of the fixed cost on part 3's design, old / new alternated (CPU s)")
+    rng = np.random.default_rng(7)
+    xi = ndtri(qmc.Sobol(D, scramble=True, seed=rng).random(1024))
+    u = ndtr(xi)
+    y = np.column_stack([expo_u(u), *(np.prod(1.0 + b * (u - 0.5) ** 2, axis=1)
+                                      for b in (0.5, 1.0, 2.0)),
+                         np.sin(3.0 * u[:, 0]) + u[:, 1] * u[:, 2], np.abs(u[:, 3] - 0.4),
+                         np.minimum(u @ B, 2.0)])
+    cand = sa.multi_indices(D, 5)
+    psi = sa.design_matrix(xi, cand)
+    cap, patience = 512, 51
+    dgks = pce._DGKS
+
+    def pursuits(threshold: float) -> list[tuple[np.ndarray, np.ndarray, float]]:
+        pce._DGKS = threshold  # inf: the second pass always (the former algorithm)
+        try:
+            return pce._omp_many(psi, y, cap, patience)
+        finally:
+            pce._DGKS = dgks
+
+    t_old, t_new = _alternate(lambda: pursuits(math.inf), lambda: pursuits(dgks))
+    old, new = pursuits(math.inf), pursuits(dgks)
+    same = all(np.array_equal(a[0], b[0]) for a, b in zip(old, new, strict=True))
+    diff = max(float(np.abs(a[1] - b[1]).max() / np.abs(a[1]).max())
+               for a, b in zip(old, new, strict=True))
+    print(f"   pursuits, second pass always {t_old:.2f} s, when needed {t_new:.2f} s -> "
+          f"{t_old / t_new:.2f}x; same terms: {same}; coefficients within {diff:.0e} "
+          "(relative)")
+    basis = psi[:, np.sort(new[3][0])]  # the largest basis
+    syrk = scipy.linalg.blas.get_blas_funcs("syrk", (basis,))
+    w = np.zeros((100, 1024))
+    np.add.at(w, (np.arange(100)[:, None], rng.integers(0, 1024, size=(100, 1024))), 1.0)
+    t_old, t_new = _alternate(
+        lambda: [syrk(1.0, basis * np.sqrt(wb)[:, None], trans=1) for wb in w],
+        lambda: [pce._resampled_gram(syrk, basis, wb) for wb in w])
+    iu = np.triu_indices(basis.shape[1])
+    gap = max(float(np.abs(syrk(1.0, basis * np.sqrt(wb)[:, None], trans=1)[iu]
+                           - pce._resampled_gram(syrk, basis, wb)[iu]).max()
+                    / np.abs(pce._resampled_gram(syrk, basis, wb)[iu]).max()) for wb in w[:5])
+    print(f"   100 bootstrap Gram matrices ({basis.shape[1]} terms), all rows {t_old:.2f} s, "
+          f"drawn rows {t_new:.2f} s -> {t_old / t_new:.2f}x; within {gap:.0e} (relative)")
+    corr = np.eye(D)
+    for i, j, r in ((3, 4, 0.42), (3, 7, 0.62), (3, 9, 0.52)):
+        corr[i, j] = corr[j, i] = r
+    lmat = np.linalg.cholesky(corr)
+    z = xi @ lmat.T
+    fits = pce.fit_pce(np.linalg.solve(lmat, z.T).T, y)
+    sets = [np.column_stack([f.coefficients, rng.normal(f.coefficients[:, None], 0.01,
+                                                        (len(f.coefficients), 100))])
+            for f in fits]
+
+    def indices(cached: bool) -> None:
+        for f, c in zip(fits, sets, strict=True):
+            if not cached:
+                shapley._rotation_plan_of.cache_clear()
+                shapley._gauss_hermite.cache_clear()
+            shapley.correlated_indices(f, corr, coefficients=c)
+
+    t_old, t_new = _alternate(lambda: indices(False), lambda: indices(True))
+    print(f"   correlated indices of 7 outputs, rotations recomputed for each {t_old:.2f} s, "
+          f"cached {t_new:.2f} s -> {t_old / t_new:.2f}x")
+
+
 def main() -> None:
     print(f"numpy {np.__version__}; BLAS threads {os.environ.get('OPENBLAS_NUM_THREADS')}")
     part1()
     part2("--skip-chaospy" in sys.argv)
     part3()
+    part4()
 
 
 if __name__ == "__main__":

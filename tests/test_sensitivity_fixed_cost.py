@@ -10,6 +10,9 @@ Reference values:
   columns, and the n refits each leaving one row out; the correction factor
   ``n / (n - p) (1 + tr((Psi^T Psi)^-1))`` of Blatman & Sudret (2010, eqs. 18-21 -- from
   memory; Chapelle, Vapnik & Bengio 2002) from numpy.linalg.inv.
+- The closure of a multi-index set under rotations inside blocks, by its definition: every
+  multi-index of total degree <= the set's top whose components outside the blocks and whose
+  degree in each block equal those of some index of the set, from a brute-force enumeration.
 - Gaussian conditioning (Anderson 2003, An Introduction to Multivariate Statistical Analysis,
   3rd ed., Theorem 2.5.1 -- from memory): for z ~ N(0, C) and Y = b . z,
   ``Var(Y | z_u) = b_v^T (C_vv - C_vu C_uu^-1 C_uv) b_v`` (v the other inputs), so
@@ -37,6 +40,7 @@ from risk.sensitivity.pce import (
     multi_indices,
 )
 from risk.sensitivity.shapley import (
+    _Closure,
     _givens,
     _plane_maps,
     _rotation_plan,
@@ -171,3 +175,35 @@ def test_correlated_indices_of_a_gaussian_linear_model_cold_and_cached() -> None
     np.testing.assert_allclose(first["independent_total"], ref_indep, atol=1e-12)
     np.testing.assert_allclose(first["shapley"], ref_shap, atol=1e-12)
     assert math.isclose(float(first["shapley"].sum()), 1.0, abs_tol=1e-12)
+
+
+def test_closure_rows_and_pair_tables_follow_their_definition() -> None:
+    rng = np.random.default_rng(11)
+    d = 6
+    blocks = [np.array([0, 2]), np.array([3, 4, 5])]
+    indices = multi_indices(d, 4)
+    indices = indices[rng.random(len(indices)) < 0.3]
+    clos = _Closure(indices, blocks)
+
+    def profile(row: tuple[int, ...]) -> tuple[int, ...]:
+        return (row[1], sum(row[j] for j in (0, 2)), sum(row[j] for j in (3, 4, 5)))
+
+    wanted = {profile(tuple(int(v) for v in r)) for r in indices}
+    brute = {r for r in itertools.product(range(clos.top + 1), repeat=d)
+             if sum(r) <= clos.top and profile(r) in wanted}
+    rows = [tuple(int(v) for v in r) for r in clos.indices]
+    assert len(rows) == len(set(rows)) and set(rows) == brute
+    assert all(clos.position[r] == k for k, r in enumerate(rows))
+    for i, j in ((0, 2), (3, 5), (4, 5)):
+        for n, tab in enumerate(clos.pair_table(i, j)):
+            if n == 0:
+                continue
+            # each group: the terms with a_i + a_j = n, a_i = 0..n, all else the same
+            assert tab.shape[0] == len({tuple(np.delete(r, [i, j]))
+                                                          for r in clos.indices
+                                                          if r[i] + r[j] == n})
+            for group in tab:
+                terms = clos.indices[group]
+                assert np.array_equal(terms[:, i], np.arange(n + 1))
+                assert np.all(terms[:, j] == n - terms[:, i])
+                assert np.all(np.delete(terms, [i, j], axis=1) == np.delete(terms[0], [i, j]))

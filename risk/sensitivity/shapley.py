@@ -12,7 +12,6 @@ from __future__ import annotations
 import functools
 import math
 from collections.abc import Sequence
-from itertools import product
 from typing import Final
 
 import numpy as np
@@ -129,29 +128,35 @@ class _Closure:
             in_block[blk] = True
         self.free = np.flatnonzero(~in_block)
         comps: dict[tuple[int, int], IntArray] = {}
-        seen: dict[tuple[int, ...], int] = {}
-        rows: list[IntArray] = []
-        profiles = {tuple(r[self.free]) + tuple(int(r[blk].sum()) for blk in blocks)
-                    for r in indices}
-        for prof in sorted(profiles):
+        # the profiles (components outside the blocks, degree in each block) in sorted order;
+        # each yields the product of its blocks' compositions, the last block varying fastest.
+        # A row determines its profile, so no row comes twice.
+        prof_all = np.column_stack([indices[:, self.free].astype(np.int64),
+                                    *[indices[:, blk].sum(axis=1) for blk in blocks]]) \
+            if len(indices) else np.zeros((0, len(self.free) + len(blocks)), dtype=np.int64)
+        chunks: list[IntArray] = [np.zeros((0, d), dtype=np.int64)]
+        for prof in np.unique(prof_all.reshape(len(prof_all), -1), axis=0):
             parts = []
             for i, blk in enumerate(blocks):
-                k = prof[len(self.free) + i]
-                key = (k, len(blk))
+                key = (int(prof[len(self.free) + i]), len(blk))
                 if key not in comps:
-                    comps[key] = _compositions(k, len(blk))
+                    comps[key] = _compositions(*key)
                 parts.append(comps[key])
-            for combo in product(*[range(len(p)) for p in parts]):
-                row = np.zeros(d, dtype=np.int64)
-                row[self.free] = prof[: len(self.free)]
-                for blk, part, ci in zip(blocks, parts, combo, strict=True):
-                    row[blk] = part[ci]
-                t = tuple(int(v) for v in row)
-                if t not in seen:
-                    seen[t] = len(rows)
-                    rows.append(row)
-        self.indices = np.array(rows, dtype=np.int64).reshape(-1, d)
-        self.position = seen
+            sizes = [len(p) for p in parts]
+            combo = np.indices(sizes).reshape(len(parts), math.prod(sizes))
+            rows = np.zeros((math.prod(sizes), d), dtype=np.int64)
+            rows[:, self.free] = prof[: len(self.free)]
+            for blk, part, ci in zip(blocks, parts, combo, strict=True):
+                rows[:, blk] = part[ci]
+            chunks.append(rows)
+        self.indices = np.concatenate(chunks)
+        self.position = {t: k for k, t in enumerate(map(tuple, self.indices.tolist()))}
+        if len(self.position) != len(self.indices):
+            raise RuntimeError("closure rows repeated")
+        # keys of the rows read as numbers in base top + 1, the first input the most
+        # significant digit: their order is the rows' lexicographic order
+        self._weights = ((self.top + 1) ** np.arange(d - 1, -1, -1, dtype=np.int64)
+                         if d * math.log(self.top + 1) < 43 else None)
         self._pairs: dict[tuple[int, int], list[IntArray]] = {}
 
     def embed(self, indices: IntArray, coefficients: Array) -> Array:
@@ -175,7 +180,10 @@ class _Closure:
                     continue
                 rest = a[sel].copy()
                 rest[:, [i, j]] = 0
-                _, group = np.unique(rest, axis=0, return_inverse=True)
+                if self._weights is not None:  # the same groups, numbered in the same order
+                    _, group = np.unique(rest @ self._weights, return_inverse=True)
+                else:
+                    _, group = np.unique(rest, axis=0, return_inverse=True)
                 tab = np.full((int(group.max()) + 1, n + 1), -1, dtype=np.int64)
                 tab[group.ravel(), a[sel, i]] = sel
                 if np.any(tab < 0):
