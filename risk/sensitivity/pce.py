@@ -573,4 +573,6 @@ def _resampled_gram(syrk: Any, psi: Array, counts: Array) -> Array:
     order of summation (a BLAS sums in blocks of rows; about 1e-16 relative).
     """
     drawn = np.flatnonzero(counts)
-    return syrk(1.0, psi[drawn] * np.sqrt(counts[drawn])[:, None], trans=1)
+    # formed in column-major order, the layout the Fortran routine takes without a copy
+    return syrk(1.0, np.multiply(psi[drawn], np.sqrt(counts[drawn])[:, None], order="F"),
+                trans=1)
