@@ -8,6 +8,7 @@ test; results are recorded by hand in benchmarks/README.md with the machine they
 from __future__ import annotations
 
 import argparse
+import gc
 import os
 import platform
 import resource
@@ -332,7 +333,8 @@ def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
     """The fixed cost of a run's memo on the demo's results (figures, HTML, PDF), in this
     process after one warm-up rendering (fonts and caches loaded, as in a run): wall and CPU
     time of each step, then the whole memo one step after the other and with the PDF laid out
-    while the figures are drawn in a forked process (what a run does when a core is idle)."""
+    while the figures are drawn in a forked process (what a run does when a core is idle), and
+    the full garbage collections one memo in turn still pays."""
     import json
 
     from risk.report.figures import render_all
@@ -357,6 +359,23 @@ def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
     t_seq = best_of(lambda: build_memo(results, workers=1), repeat=2)
     t_par = best_of(lambda: build_memo(results, workers=2), repeat=2)
     load = os.getloadavg()[0]
+    # full collections of the cyclic garbage collector during one memo in turn (the memo keeps
+    # it off the objects that were there before: risk.report.heap.settled)
+    full: list[float] = []
+    started = [0.0]
+
+    def watch(phase: str, info: dict[str, int]) -> None:
+        if info["generation"] == 2:
+            if phase == "start":
+                started[0] = time.perf_counter()
+            else:
+                full.append(time.perf_counter() - started[0])
+
+    gc.callbacks.append(watch)
+    try:
+        build_memo(results, workers=1)
+    finally:
+        gc.callbacks.remove(watch)
     rows.append(("memo of the demo: figures (one process)", f"{t_fig:.2f} s",
                  f"CPU {c_fig:.2f} s"))
     rows.append(("  HTML / PDF (WeasyPrint)", f"{t_html:.2f} s / {t_pdf:.2f} s",
@@ -364,6 +383,8 @@ def memo_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
     rows.append(("  whole memo: in turn / PDF laid out while drawing",
                  f"{t_seq:.2f} s / {t_par:.2f} s",
                  f"{t_seq / t_par:.2f}x; goal figures + PDF <= 1.5 s; load average {load:.1f}"))
+    rows.append(("  full garbage collections during one memo in turn", f"{len(full)}",
+                 f"{sum(full):.2f} s"))
     # what a run pays once: importing the drawing and the PDF engine after the pipeline's own
     # modules (a fresh interpreter; seaborn, and pyplot with it, is imported for the figures)
     code = ("import time, sys, risk.api, risk.cli\n"

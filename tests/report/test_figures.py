@@ -369,19 +369,38 @@ def test_figures_of_the_same_results_are_reused_not_drawn(legacy, monkeypatch):
     assert sorted(drawn) == sorted(first)
 
 
-def test_png_has_the_pixels_matplotlib_writes(legacy):
-    # The figures' PNGs are written as 8-bit RGB (no alpha) at a low zlib level; the reference
-    # is matplotlib's own PNG writer (savefig, RGBA) on the same figure drawn afresh: its alpha
-    # is opaque everywhere and its RGB pixels are the ones written here.
-    name = "failure_probability"
-    png = figures.render._png(_figure(figures.FIGURES[name](legacy)))
+@pytest.mark.parametrize("name", sorted(ALL - OPTIONAL))
+def test_png_has_the_pixels_matplotlib_writes(perforated, name):
+    # The figures' PNGs are laid out by hand and drawn once (render._draw_once: the layout
+    # engine run before savefig, titles that matplotlib would not move fixed in place), then
+    # written as 8-bit RGB (no alpha) at a low zlib level; the reference is matplotlib's own
+    # PNG writer (savefig, RGBA, its layout engine run inside) on the same figure drawn
+    # afresh: its alpha is opaque everywhere and its RGB pixels are the ones written here,
+    # for every figure (Cartesian, polar, heatmap with colour bar, figure legends).
+    drawn = figures.FIGURES[name](perforated)
+    if drawn is None:
+        pytest.skip(f"{name} does not apply to this run")
+    png = figures.render._png(_figure(drawn))
     ref = io.BytesIO()
     with figures.render._styled():
-        _figure(figures.FIGURES[name](legacy)).savefig(ref, format="png", dpi=figures.DPI)
+        _figure(figures.FIGURES[name](perforated)).savefig(ref, format="png", dpi=figures.DPI)
     ours, theirs = mpimg.imread(io.BytesIO(png)), mpimg.imread(io.BytesIO(ref.getvalue()))
     assert png[24:26] == b"\x08\x02"  # bit depth 8, colour type 2: RGB (PNG spec, IHDR)
     assert ours.shape == theirs.shape[:2] + (3,)
     assert (theirs[..., 3] == 1.0).all() and np.array_equal(ours, theirs[..., :3])
+
+
+def test_titles_are_fixed_only_where_matplotlib_would_not_move_them(perforated):
+    # matplotlib places a title above x tick labels at the top of the axes
+    # (Axes._update_title_position): such axes, and polar ones, keep its placement
+    fig = Figure(figsize=(4, 3))
+    plain, top, polar = (fig.add_subplot(1, 3, 1), fig.add_subplot(1, 3, 2),
+                         fig.add_subplot(1, 3, 3, projection="polar"))
+    top.xaxis.tick_top()
+    top.xaxis.set_label_position("top")
+    for ax in (plain, top, polar):
+        ax.set_title("t")
+    assert figures.render._fixed_titles(fig) == [plain]
 
 
 def test_figure_sizes_announced_before_drawing_are_the_png_sizes(legacy):

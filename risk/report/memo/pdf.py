@@ -14,6 +14,8 @@ import zlib
 from collections.abc import Mapping
 from typing import Any, Final
 
+from risk.report.heap import settled
+
 #: How the PDF's page refers to a figure: this prefix and the figure's name.
 FIGURE_SCHEME: Final = "risk-figure:"
 
@@ -54,6 +56,7 @@ def _fetcher(images: Mapping[str, bytes]) -> Any:
 
 
 
+@settled()
 def render_pdf(html: str, *, images: Mapping[str, bytes] | None = None) -> bytes:
     """The PDF of a memo page (WeasyPrint; A4, page numbers in the footer).
 
@@ -137,6 +140,7 @@ def blank_png(width: int, height: int) -> bytes:
             + chunk(b"IDAT", zlib.compress(rows, 1)) + chunk(b"IEND", b""))
 
 
+@settled()
 def pdf_alongside(html: str, blanks: Mapping[str, bytes],
                   figures: Any) -> tuple[bytes, dict[str, bytes]] | None:
     """The PDF of ``html`` (figures as ``risk-figure:`` references), laid out around the

@@ -17,6 +17,7 @@ from risk.errors import visible
 from risk.report.figures import DPI, render_all
 from risk.report.figures import render as figure_render
 from risk.report.figures.background import draw_in_background
+from risk.report.heap import settled
 from risk.report.memo.calibration import CALIBRATION_ASSUMPTION, calibration_context
 from risk.report.memo.common import _angle_reference, _punit
 from risk.report.memo.opening import _answer, _summary
@@ -166,6 +167,7 @@ def render_html(results: Mapping[str, Any], figures: Mapping[str, bytes], *,
         memo_context(results, figures, linked=linked))
 
 
+@settled()
 def build_memo(results: Mapping[str, Any], *, reuse: Mapping[str, bytes] | None = None,
                workers: int | None = None, previous: tuple[str, bytes] | None = None
                ) -> Memo:
