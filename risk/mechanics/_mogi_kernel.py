@@ -472,7 +472,11 @@ def _loop_p_r(kind, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa,
                        w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r])
         vn[r] = v
         gn[r] = g
-    return vn, gn, vn, vn, np.zeros(cnt)
+    # no crossing here: the third output, read by _search as the last step's size, is zero
+    # (it was the value itself, which sent every failure found at p_r to the envelope
+    # iteration)
+    zero = np.zeros(cnt)
+    return vn, gn, zero, vn, zero
 
 
 @_jit
