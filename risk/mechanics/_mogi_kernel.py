@@ -653,6 +653,31 @@ def _shear_bound(p0: float, p1: float, k0: float, z0: float, pp: float, qq: floa
     return _S * math.sqrt(m2 + 3.0 * r_max * r_max) - aa - bb * mid
 
 
+@_jit_inline
+def _vertex_bound(k0: float, z0: float, pp: float, qq: float, w0: float, w1: float, w2: float,
+                  bt: float, bz: float, nu: float, p_r: float, aa: float, bb: float) -> float:
+    """An upper bound of F over every wall angle and every wall pressure in [0, p_r] that
+    keeps m and h coupled (docs/derivations.md, sec. 15.5): F = C - (b/2) max(hi, 0) with C
+    convex in (u, p, v) (u = -dev, v = |t|), and hi >= s_t, hi >= s_z (affine), so F is at
+    most C - (b/2) s_t and C - (b/2) s_z, each convex, hence at most its largest value at the
+    8 vertices of the box [-U, U] x [0, p_r] x [0, v_max] holding every angle."""
+    amp = math.sqrt(pp * pp + qq * qq)
+    vmax2 = w0 + math.sqrt(w1 * w1 + w2 * w2)
+    best_t, best_z = -math.inf, -math.inf
+    for u in (-amp, amp):
+        for p in (0.0, p_r):
+            st = k0 + u - bt * p
+            sz = z0 + nu * u - bz * p
+            m = 0.5 * (st + sz)
+            h = 0.5 * (st - sz)
+            for v2 in (0.0, vmax2):
+                c = (_S * math.sqrt(m * m + 3.0 * (h * h + v2)) - aa
+                     + 0.5 * bb * max(math.sqrt(h * h + v2) - m, 0.0))
+                best_t = max(best_t, c - 0.5 * bb * st)
+                best_z = max(best_z, c - 0.5 * bb * sz)
+    return min(best_t, best_z)
+
+
 @_jit
 def _band(k0: float, z0: float, pp: float, qq: float, w0: float, w1: float, w2: float,
           bt: float, bz: float, nu: float, p_r: float, aa: float, bb: float, n: int
@@ -762,8 +787,8 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
                 if j == n1:
                     j = 0
                     i += 1
-        # the value's search, on the cases that may fail at some wall pressure (where a bound
-        # of F over every angle and every wall pressure in [0, p_r] is negative: never; the
+        # the value's search, on the cases that may fail at some wall pressure (where either
+        # bound of F over every angle and every wall pressure in [0, p_r] is negative: never; the
         # failing pressures of an angle can be a band, so a bound at p = 0 alone does not
         # do: sec. 15.5)
         bv, bc, bs, flag = np.full(cnt, -1.0), np.ones(cnt), np.zeros(cnt), np.zeros(cnt)
@@ -772,8 +797,13 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
         sel = np.empty(cnt, dtype=np.bool_)
         for r in range(cnt):
             # (not "< 0": nan inputs take the search and give nan, as elsewhere)
-            sel[r] = not (_shear_bound(0.0, prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                                       w2[r], bt[r], bz[r], nuv[r], aa[r], bb[r]) < 0.0)
+            sel[r] = not ((_shear_bound(0.0, prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                                        w2[r], bt[r], bz[r], nuv[r], aa[r], bb[r]) < 0.0)
+                          | (_vertex_bound(k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                           bt[r], bz[r], nuv[r], prv[r], aa[r], bb[r]) < 0.0))
+        for r in range(cnt):
+            # no angle fails at any wall pressure, so none at p_r: no search of F there
+            sf[r] = sf[r] if sel[r] else -np.inf
         value = np.int64(_VALUE)  # not a literal: one compiled search serves every kind
         idx = np.nonzero(sel)[0]
         if idx.size == cnt:

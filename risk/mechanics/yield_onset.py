@@ -463,7 +463,7 @@ def _mogi_bands(p_wc: Array, theta: Array, case: tuple[Array, ...], p_r: Array,
             c, d = b - gr * (b - a), a + gr * (b - a)
             fc = _mogi_largest(c, pr, *sub)
             fd = _mogi_largest(d, pr, *sub)
-            for _ in range(80):  # 0.618^80 of a grid step: below 1e-12 rad
+            for _ in range(64):  # 0.618^64 of a grid step: below 1e-14 rad
                 left = fc >= fd
                 b = np.where(left, d, b)
                 a = np.where(left, a, c)
@@ -485,11 +485,11 @@ def _mogi_largest(theta: Array, p_r: Array, *case: Array) -> Array:
     """Mogi-Coulomb at wall angle theta without assuming a convex domain (docs/derivations.md,
     sec. 15.5): p_r + F(p_r) where F(p_r) >= 0, else the largest wall pressure in [0, p_r)
     where F = 0 if F >= 0 anywhere there, else the larger of F(0) and F where hoop = axial
-    (negative; it climbs towards the angles where a band appears). The branches of the principal
-    stresses (lo = m - r and hi = m + r against the zero radial stress) are found by
-    bisection (lo and hi do not rise with p); on the branches with one or two tensile
-    principal stresses F is convex, so their crossing is bracketed (Chandrupatla 1997,
-    ``scipy.optimize.elementwise.find_root``); on the compressive branch the largest root is
+    (negative; it climbs towards the angles where a band appears). The branches of the
+    principal stresses (lo = m - r and hi = m + r against the zero radial stress) change
+    where m^2 - r^2, a quadratic in p, vanishes (lo and hi do not rise with p); on the
+    branches with one or two tensile principal stresses F is convex, so their crossing is
+    bracketed (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``); on the compressive branch the largest root is
     approached from above by the roots of the convex majorants with r replaced by its
     tangent (each a quadratic). Vectorised."""
     a_t, a_z, tau = _coefficients(theta, case[:8])
@@ -522,20 +522,22 @@ def _mogi_largest(theta: Array, p_r: Array, *case: Array) -> Array:
     fr = excess(pr, *args)
     out = np.where(fr >= 0.0, pr + fr, np.nan)
 
-    def zero_of(which: int) -> Array:
-        """Where lo (0) or hi (1) crosses zero in [0, p_r] (0 or p_r where it does not)."""
-        below = eig(np.zeros_like(pr))[which] < 0.0
-        above = eig(pr)[which] >= 0.0
-        a, b = np.zeros_like(pr), pr.copy()
-        for _ in range(64):
-            mid = 0.5 * (a + b)
-            neg = eig(mid)[which] < 0.0
-            b = np.where(neg, mid, b)
-            a = np.where(neg, a, mid)
-        return np.where(below, 0.0, np.where(above, pr, b))
-
-    top_b = zero_of(1)
-    top_a = np.minimum(zero_of(0), top_b)
+    # where lo and hi cross zero: the smaller and larger roots of m^2 - r^2, a quadratic in p
+    # (lo and hi do not rise with p, so each is crossed once), kept to [0, p_r]
+    d2 = mb * mb - 0.25
+    d1 = ha - 2.0 * ma * mb
+    d0 = ma * ma - ha * ha - w
+    with np.errstate(divide="ignore", invalid="ignore"):
+        half = -0.5 * (d1 + np.copysign(np.sqrt(np.maximum(d1 * d1 - 4.0 * d2 * d0, 0.0)),
+                                        d1))
+        za = np.where(d2 > 0.0, half / d2, np.copysign(np.inf, half))
+        zb = np.where(half != 0.0, d0 / half, np.inf)
+    lo0, hi0 = eig(np.zeros_like(pr))
+    lo_r, hi_r = eig(pr)
+    top_b = np.where(hi_r >= 0.0, pr, np.where(hi0 < 0.0, 0.0,
+                                               np.clip(np.maximum(za, zb), 0.0, pr)))
+    top_a = np.where(lo_r >= 0.0, pr, np.where(lo0 < 0.0, 0.0,
+                                               np.clip(np.minimum(za, zb), 0.0, top_b)))
 
     def crossing(mask: NDArray[np.bool_], lo: Array, hi: Array) -> None:
         idx = np.nonzero(mask)[0]
