@@ -489,9 +489,9 @@ def _mogi_largest(theta: Array, p_r: Array, *case: Array) -> Array:
     principal stresses (lo = m - r and hi = m + r against the zero radial stress) change
     where m^2 - r^2, a quadratic in p, vanishes (lo and hi do not rise with p); on the
     branches with one or two tensile principal stresses F is convex, so their crossing is
-    bracketed (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``); on the compressive branch the largest root is
-    approached from above by the roots of the convex majorants with r replaced by its
-    tangent (each a quadratic). Vectorised."""
+    bracketed (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``); on the
+    compressive branch the largest root is approached from above by the roots of the convex
+    majorants with r replaced by its tangent (each a quadratic). Vectorised."""
     a_t, a_z, tau = _coefficients(theta, case[:8])
     ba = case[8]
     prm = StrengthParameters(*case[9:])
