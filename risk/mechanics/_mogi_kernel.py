@@ -29,13 +29,19 @@ Where to look for the worst angle
     circle only where the value grid's largest F and -lo at p_r, plus a Lipschitz bound over
     half a grid step, do not rule them out.
 
-The Mogi-Coulomb elastic domain is not convex (derivations sec. 15.4): where the failing
-wall pressures at one angle form a middle interval, this kernel (like the envelope iteration
-and the numpy reference path) does not see them.
+The domain is not convex
+    Mogi-Coulomb's elastic domain turns inwards at the triaxial-extension corners (derivations
+    sec. 15.4), so the failing wall pressures at one angle can form a band above the crossing
+    (or with F(0) < 0). Every value on the grid and the final one carries a certificate that
+    nothing fails above it at its angle (a convex majorant on the compressive branch, the
+    excess where two principal stresses vanish; sec. 15.5), and the value search is skipped
+    only where a bound over every angle and every wall pressure in [0, p_r] is negative.
 
-Cases whose grid shows two maxima that might compete, whose slope search has not converged or
-whose polished crossing has not converged take the general envelope iteration of
-:mod:`risk.mechanics._onset_kernel` (the previous compiled path) instead.
+Cases whose grid shows two maxima that might compete, whose slope search has not converged,
+whose polished crossing has not converged or with a value not certified take the general
+envelope iteration of :mod:`risk.mechanics._onset_kernel` (the previous compiled path), then
+the band pass (:func:`_band`: the largest failing wall pressure at one angle without assuming
+a convex domain, maximised over the angle), and keep the larger answer.
 
 References
 ----------
@@ -43,7 +49,8 @@ Al-Ajmi, A.M. & Zimmerman, R.W. (2005) Relation between the Mogi and the Coulomb
 criteria. Int. J. Rock Mech. Min. Sci. 42, 431-439. Al-Ajmi, A.M. & Zimmerman, R.W. (2006)
 Stability analysis of vertical boreholes using the Mogi-Coulomb failure criterion. Int. J.
 Rock Mech. Min. Sci. 43, 1200-1211. Anderson, N. & Bjorck, A. (1973) A new high order method
-of regula falsi type for computing a root of an equation. BIT 13, 253-264.
+of regula falsi type for computing a root of an equation. BIT 13, 253-264. Kiefer, J. (1953)
+Sequential minimax search for a maximum. Proc. Amer. Math. Soc. 4, 502-506.
 """
 
 from __future__ import annotations
@@ -142,6 +149,144 @@ def _step(x: float, lo: float, hi: float, ma: float, ha: float, mb: float, w: fl
 
 
 @_jit_inline
+def _excess(p: float, ma: float, ha: float, mb: float, w: float, aa: float, bb: float
+            ) -> float:
+    """F at wall pressure p on the path of one angle (m = ma - mb p, h = ha - p/2)."""
+    return _mogi(ma - mb * p, ha - 0.5 * p, w, aa, bb)[0]
+
+
+@_jit_inline
+def _lo_hi(p: float, ma: float, ha: float, mb: float, w: float) -> tuple[float, float]:
+    """The hoop-axial block's eigenvalues lo = m - r and hi = m + r at wall pressure p."""
+    m = ma - mb * p
+    h = ha - 0.5 * p
+    r = math.sqrt(h * h + w)
+    return m - r, m + r
+
+
+@_jit_inline
+def _tangent_model(x: float, p: float, ma: float, ha: float, mb: float, w: float, aa: float,
+                   bb: float) -> float:
+    """Branch A's excess at p with r replaced by its tangent at x: S q(p) - a - (b/2)(m(p) +
+    r(x) + r'(x)(p - x)). r is convex in p, so this is >= F_A(p) everywhere, equal at x, and
+    convex in p (docs/derivations.md, sec. 15.5)."""
+    hx = ha - 0.5 * x
+    rx = math.sqrt(hx * hx + w)
+    r1 = -0.5 * hx / max(rx, 1e-300)
+    m = ma - mb * p
+    h = ha - 0.5 * p
+    q = math.sqrt(m * m + 3.0 * (h * h + w))
+    return _S * q - aa - 0.5 * bb * (m + rx + r1 * (p - x))
+
+
+@_jit_inline
+def _breaks(ma: float, ha: float, mb: float, w: float) -> tuple[float, float]:
+    """The wall pressures where lo = 0 (p_AB, branch A to B) and hi = 0 (p_BC, B to C): the
+    roots of m^2 - r^2 = d2 p^2 + d1 p + d0, the smaller and the larger (lo and hi do not rise
+    with p, so each is crossed once; a root not there is +-inf). Branch-free."""
+    d2 = max(mb * mb - 0.25, 0.0)
+    d1 = ha - 2.0 * ma * mb
+    d0 = ma * ma - ha * ha - w
+    sd = math.sqrt(max(d1 * d1 - 4.0 * d2 * d0, 0.0))
+    half = -0.5 * (d1 + (sd if d1 >= 0.0 else -sd))
+    za = half / d2 if d2 > 0.0 else (math.inf if half > 0.0 else -math.inf)
+    zb = d0 / half if half != 0.0 else math.inf
+    return min(za, zb), max(za, zb)
+
+
+@_jit_inline
+def _certified(x: float, p_r: float, fr: float, ma: float, ha: float, mb: float, w: float,
+               aa: float, bb: float) -> float:
+    """0.0 where no wall pressure in (x, p_r] fails at this angle (F(x) <= 0 and F(p_r) < 0
+    given), else 1.0 (not shown; docs/derivations.md, sec. 15.5): on branch A the tangent
+    model at x is a convex majorant of F, so it suffices that it is negative where branch A
+    ends; on branches B and C F is convex, so it suffices that F is negative at the end of B
+    (the concave kink hi = 0). Branch-free."""
+    p_ab, p_bc = _breaks(ma, ha, mb, w)
+    lo_x, hi_x = _lo_hi(x, ma, ha, mb, w)
+    lo_r, hi_r = _lo_hi(p_r, ma, ha, mb, w)
+    end_a = p_r if lo_r >= 0.0 else min(max(p_ab, x), p_r)
+    ok_a = (lo_x < 0.0) | (_tangent_model(x, end_a, ma, ha, mb, w, aa, bb) < 0.0)
+    f_bc = _excess(min(max(p_bc, x), p_r), ma, ha, mb, w, aa, bb)
+    ok_c = (hi_r >= 0.0) | (hi_x < 0.0) | (f_bc < 0.0)
+    return 0.0 if (ok_a & ok_c & (fr < 0.0)) else 1.0
+
+
+@_jit
+def _root_between(lo: float, hi: float, ma: float, ha: float, mb: float, w: float, aa: float,
+                  bb: float) -> float:
+    """The crossing in [lo, hi] where F(lo) >= 0 > F(hi) and F is convex there (branch B or
+    C): the safeguarded steps of :func:`_step` until they stop moving."""
+    x = 0.5 * (lo + hi)
+    for _ in range(60):
+        x, lo, hi, dx = _step(x, lo, hi, ma, ha, mb, w, aa, bb)
+        if dx <= 1e-14 * (1.0 + abs(x)):
+            break
+    return x
+
+
+@_jit
+def _largest(ma: float, ha: float, mb: float, w: float, aa: float, bb: float, p_r: float
+             ) -> float:
+    """The value at one angle without assuming a convex domain (docs/derivations.md,
+    sec. 15.5): p_r + F(p_r) where F(p_r) >= 0, else the largest wall pressure in [0, p_r)
+    where F = 0 if F >= 0 anywhere there, else the larger of F(0) and F where hoop = axial
+    (negative: never at this angle; the second climbs towards angles where a band appears,
+    sec. 15.5). Branches
+    C, B, A are taken from the top: on C and B F is convex (one crossing below a negative
+    end), on A the largest root is approached from above by the roots of convex majorants
+    (the tangent models of :func:`_tangent_model`), each step keeping F < 0 above it."""
+    fr = _excess(p_r, ma, ha, mb, w, aa, bb)
+    if fr >= 0.0:
+        return p_r + fr
+    p_ab, p_bc = _breaks(ma, ha, mb, w)
+    lo0, hi0 = _lo_hi(0.0, ma, ha, mb, w)
+    lo_r, hi_r = _lo_hi(p_r, ma, ha, mb, w)
+    # the ends of the branches within [0, p_r]
+    top_b = p_r if hi_r >= 0.0 else (0.0 if hi0 < 0.0 else min(max(p_bc, 0.0), p_r))
+    top_a = p_r if lo_r >= 0.0 else (0.0 if lo0 < 0.0 else min(max(p_ab, 0.0), top_b))
+    if top_b < p_r:  # branch C on [top_b, p_r]
+        if _excess(top_b, ma, ha, mb, w, aa, bb) >= 0.0:
+            return _root_between(top_b, p_r, ma, ha, mb, w, aa, bb)
+    if top_a < top_b:  # branch B on [top_a, top_b], F(top_b) < 0
+        if _excess(top_a, ma, ha, mb, w, aa, bb) >= 0.0:
+            return _root_between(top_a, top_b, ma, ha, mb, w, aa, bb)
+    f0 = max(_excess(0.0, ma, ha, mb, w, aa, bb),
+             _excess(min(max(2.0 * ha, 0.0), p_r), ma, ha, mb, w, aa, bb))
+    if top_a <= 0.0:
+        return f0
+    # branch A on [0, top_a], F(top_a) < 0: descend by the majorants' roots
+    x = top_a
+    for _ in range(200):
+        hx = ha - 0.5 * x
+        rx = math.sqrt(hx * hx + w)
+        r1 = -0.5 * hx / max(rx, 1e-300)
+        e0 = aa + 0.5 * bb * (ma + rx - r1 * x)
+        e1 = 0.5 * bb * (mb - r1)
+        q2 = _S2 * (mb * mb + 0.75) - e1 * e1
+        q1 = -_S2 * (2.0 * ma * mb + 3.0 * ha) + 2.0 * e0 * e1
+        q0 = _S2 * (ma * ma + 3.0 * (ha * ha + w)) - e0 * e0
+        disc = q1 * q1 - 4.0 * q2 * q0
+        if disc < 0.0:
+            return f0  # the majorant is negative everywhere
+        sd = math.sqrt(disc)
+        half = -0.5 * (q1 + (sd if q1 >= 0.0 else -sd))
+        best = -math.inf
+        for z in (half / q2 if q2 != 0.0 else math.nan, q0 / half if half != 0.0 else math.nan):
+            # a root within rounding of x (F(x) is then -0) counts as x itself
+            if (z == z) and (z < x + 1e-12 * (1.0 + x)) and (e0 - e1 * z >= 0.0) \
+                    and (z > best):
+                best = min(z, x)
+        if best < 0.0:
+            return f0  # the majorant, hence F, is negative on [0, x]
+        moved = x - best
+        x = best
+        if _excess(x, ma, ha, mb, w, aa, bb) >= 0.0 or moved <= 1e-14 * (1.0 + x):
+            return x
+    return x
+
+
+@_jit_inline
 def _turn(t: float, cb: float, sb: float) -> tuple[float, float]:
     """(cos, sin) of the direction turned from (cb, sb) by 2 atan(t)."""
     t2 = t * t
@@ -153,10 +298,13 @@ def _turn(t: float, cb: float, sb: float) -> tuple[float, float]:
 @_jit_inline
 def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: float, w0: float,
          w1: float, w2: float, bt: float, bz: float, nu: float, p_r: float, aa: float,
-         bb: float, refine: bool, polish: bool) -> tuple[float, float, float, float, float]:
+         bb: float, refine: bool, polish: bool, certify: bool
+         ) -> tuple[float, float, float, float, float, float]:
     """The value at the direction turned from (cb, sb) by 2 atan(t), its slope in psi, the
-    size of the last step (module docstring; docs/derivations.md, sec. 15.4), and F and
-    -lo at p_r (for the screens of :func:`_search`)."""
+    size of the last step (module docstring; docs/derivations.md, sec. 15.4), F and
+    -lo at p_r (for the screens of :func:`_search`), and (``certify``) 1.0 where the value
+    is not shown to be the largest failing wall pressure at this angle (:func:`_certified`),
+    else 0.0."""
     c, s = _turn(t, cb, sb)
     dev = pp * c + qq * s
     w = max(w0 + w1 * c + w2 * s, 0.0)
@@ -210,8 +358,12 @@ def _dir(t: float, cb: float, sb: float, k0: float, z0: float, pp: float, qq: fl
     g = (fmr * dm + fhr * dh + fwr * dw) if top else (
         (fm0 * dm + fh0 * dh + fw0 * dw) if bottom else gx)
     h_r = ha - 0.5 * p_r
+    cert = 0.0
+    if certify:
+        cert = 0.0 if top else _certified(0.0 if bottom else x, p_r, fr, ma, ha, mb, w, aa,
+                                          bb)
     return (v, g, 0.0 if (top | bottom) else dx, fr,
-            math.sqrt(h_r * h_r + w) - (ma - mb * p_r))
+            math.sqrt(h_r * h_r + w) - (ma - mb * p_r), cert)
 
 
 @_jit_inline
@@ -243,8 +395,9 @@ def _evaluate(kind, mode, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_
     """The function a search maximises at t = tt[r] from (cb[r], sb[r]) for every case r of a
     block: the value (kind _VALUE; steps 1 for ``mode`` 0 (the grid), 3 for 1 (the
     steps on the slope), 8 for 2 (the final value)), F at p_r or -lo at p_r.
-    Returns (values, slopes, and F and -lo at p_r for the value (the last steps
-    twice polished; the values twice for the others)). One plain loop per kind, its outputs
+    Returns (values, slopes, F and -lo at p_r for the value (the last steps twice
+    polished; the values twice for the others), and the certificates of :func:`_certified`
+    on the grid and the final value (zeros for the others)). One plain loop per kind, its outputs
     allocated in it (such loops vectorise; see the Drucker-Prager kernel)."""
     if kind == _VALUE:
         if mode == 2:
@@ -260,46 +413,53 @@ def _evaluate(kind, mode, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_
 
 @_jit
 def _loop_value(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
-    """:func:`_dir` at every case (see :func:`_evaluate`): values, slopes, F and -lo at p_r."""
+    """:func:`_dir` at every case (see :func:`_evaluate`): values, slopes, F and -lo at p_r,
+    certificates."""
     cnt = tt.size
-    vn, gn, fn, tn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
+    vn, gn, fn, tn, cn = (np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt),
+                          np.empty(cnt))
     for r in range(cnt):
-        v, g, _d, f, t = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                              w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r], False, False)
+        v, g, _d, f, t, c = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                 w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r],
+                                 False, False, True)
         vn[r] = v
         gn[r] = g
         fn[r] = f
         tn[r] = t
-    return vn, gn, fn, tn
+        cn[r] = c
+    return vn, gn, fn, tn, cn
 
 
 @_jit
 def _loop_refine(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
-    """:func:`_dir` with 3 steps at every case (see :func:`_evaluate`)."""
+    """:func:`_dir` with 3 steps at every case (see :func:`_evaluate`; no certificates)."""
     cnt = tt.size
     vn, gn, fn, tn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
-        v, g, _d, f, t = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                              w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r], True, False)
+        v, g, _d, f, t, _c = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                  w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r],
+                                  True, False, False)
         vn[r] = v
         gn[r] = g
         fn[r] = f
         tn[r] = t
-    return vn, gn, fn, tn
+    return vn, gn, fn, tn, np.zeros(cnt)
 
 
 @_jit
 def _loop_polished(tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb):
     """:func:`_dir` with the polishing steps at every case (see :func:`_evaluate`)."""
     cnt = tt.size
-    vn, gn, dn = np.empty(cnt), np.empty(cnt), np.empty(cnt)
+    vn, gn, dn, cn = np.empty(cnt), np.empty(cnt), np.empty(cnt), np.empty(cnt)
     for r in range(cnt):
-        v, g, d, _f, _t = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                               w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r], True, True)
+        v, g, d, _f, _t, c = _dir(tt[r], cb[r], sb[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                  w1[r], w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r],
+                                  True, True, True)
         vn[r] = v
         gn[r] = g
         dn[r] = d
-    return vn, gn, dn, dn
+        cn[r] = c
+    return vn, gn, dn, dn, cn
 
 
 @_jit
@@ -312,7 +472,11 @@ def _loop_p_r(kind, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa,
                        w2[r], bt[r], bz[r], nu[r], p_r[r], aa[r], bb[r])
         vn[r] = v
         gn[r] = g
-    return vn, gn, vn, vn
+    # no crossing here: the third output, read by _search as the last step's size, is zero
+    # (it was the value itself, which sent every failure found at p_r to the envelope
+    # iteration)
+    zero = np.zeros(cnt)
+    return vn, gn, zero, vn, zero
 
 
 @_jit
@@ -334,6 +498,7 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
     bv, bx, bcb, bsb, peaks = np.empty(cnt), np.zeros(cnt), np.empty(cnt), np.empty(cnt), \
         np.empty(cnt)
     kept = np.zeros(cnt)
+    unc = np.zeros(cnt)  # 1.0: a grid value not shown to be its angle's largest failing p
     vv = np.empty(_GRID * cnt)
     gg = np.empty(_GRID * cnt)
     tt = np.zeros(cnt)
@@ -341,8 +506,10 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
     for j in range(_GRID):
         gc[:] = math.cos(j * 2.0 * math.pi / _GRID)
         gs[:] = math.sin(j * 2.0 * math.pi / _GRID)
-        vn, gn, fn, tn = _evaluate(kind, 0, tt, gc, gs, k0, z0, pp, qq, w0, w1, w2, bt, bz,
-                                   nu, p_r, aa, bb)
+        vn, gn, fn, tn, cn = _evaluate(kind, 0, tt, gc, gs, k0, z0, pp, qq, w0, w1, w2, bt,
+                                       bz, nu, p_r, aa, bb)
+        for r in range(cnt):
+            unc[r] = max(unc[r], cn[r])
         vv[j * cnt:(j + 1) * cnt] = vn
         gg[j * cnt:(j + 1) * cnt] = gn
         if j == 0:
@@ -417,8 +584,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
                 # secant point on itself)
                 gap = 0.01 * (hi[r] - lo[r])
                 tt[r] = min(max(tn, lo[r] + gap), hi[r] - gap)
-        vn, gn, _f, _t = _evaluate(kind, 1, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
-                              p_r, aa, bb)
+        vn, gn, _f, _t, _c = _evaluate(kind, 1, tt, cb, sb, k0, z0, pp, qq, w0, w1, w2, bt,
+                                       bz, nu, p_r, aa, bb)
         for r in range(cnt):
             tn, v, g = tt[r], vn[r], gn[r]
             better = v > bv[r]
@@ -446,8 +613,8 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
             fh[r] = nfh
             kept[r] = (1.0 if right else -1.0) if rnd > 0 else 0.0
     # the polished value at the best point, and its slope
-    vn, gn, dn, _d = _evaluate(kind, 2, bx, bcb, bsb, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu,
-                           p_r, aa, bb)
+    vn, gn, dn, _d, cn = _evaluate(kind, 2, bx, bcb, bsb, k0, z0, pp, qq, w0, w1, w2, bt,
+                                   bz, nu, p_r, aa, bb)
     for r in range(cnt):
         # the search compared values of fewer steps: where the polished one differs, those
         # were not converged and the comparison is not trusted (flag)
@@ -460,25 +627,116 @@ def _search(kind, k0, z0, pp, qq, w0, w1, w2, bt, bz, nu, p_r, aa, bb, bv_out, b
         # below 1e-6 MPa/rad (the value is then the maximum to g^2/(2|v''|)); the crossing's
         # last step below 1e-9 MPa (the error after it is of its square's order)
         open_ = (hi[r] - lo[r] > 1e-7) & (abs(gn[r]) > 1e-6)
-        flag_out[r] = 1.0 if (peaks[r] > 1.0) | open_ | (dn[r] > 1e-9) | loose else 0.0
+        # and where a value on the grid or the final one is not certified as its angle's
+        # largest failing wall pressure (the domain is not convex: sec. 15.5)
+        flag_out[r] = 1.0 if ((peaks[r] > 1.0) | open_ | (dn[r] > 1e-9) | loose
+                              | (unc[r] > 0.0) | (cn[r] > 0.0)) else 0.0
 
 
 @_jit_inline
-def _shear_bound(p: float, k0: float, z0: float, pp: float, qq: float, w0: float, w1: float,
-                 w2: float, bt: float, bz: float, nu: float, aa: float, bb: float) -> float:
-    """An upper bound over every wall angle of F at wall pressure p (cheap; skips searches
-    that cannot reach zero): m lies in [m_lo, m_hi] and r in [0, r_max], so sqrt(m^2 + 3 r^2)
-    <= sqrt(max(m_lo^2, m_hi^2) + 3 r_max^2) and mid >= (max(m_lo, 0) + min(m_lo - r_max, 0))/2
-    (max(m + r, 0) rises with m and r, min(m - r, 0) rises with m and falls with r)."""
+def _shear_bound(p0: float, p1: float, k0: float, z0: float, pp: float, qq: float, w0: float,
+                 w1: float, w2: float, bt: float, bz: float, nu: float, aa: float, bb: float
+                 ) -> float:
+    """An upper bound of F over every wall angle and every wall pressure in [p0, p1] (cheap;
+    skips searches that cannot reach zero): m lies in [m_lo, m_hi] and r in [0, r_max], so
+    sqrt(m^2 + 3 r^2) <= sqrt(max(m_lo^2, m_hi^2) + 3 r_max^2) and mid >= (max(m_lo, 0) +
+    min(m_lo - r_max, 0))/2 (max(m + r, 0) rises with m and r, min(m - r, 0) rises with m and
+    falls with r); m falls with p, and |h| is largest at an end of [p0, p1]."""
     amp = math.sqrt(pp * pp + qq * qq)  # |dev| <= amp
-    mc = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p
-    m_lo = mc - 0.5 * (1.0 + nu) * amp
-    m_hi = mc + 0.5 * (1.0 + nu) * amp
-    h_max = abs(0.5 * (k0 - z0) - 0.5 * p) + 0.5 * (1.0 - nu) * amp
+    m_lo = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p1 - 0.5 * (1.0 + nu) * amp
+    m_hi = 0.5 * (k0 + z0) - 0.5 * (bt + bz) * p0 + 0.5 * (1.0 + nu) * amp
+    h_max = (max(abs(0.5 * (k0 - z0) - 0.5 * p0), abs(0.5 * (k0 - z0) - 0.5 * p1))
+             + 0.5 * (1.0 - nu) * amp)
     r_max = math.sqrt(h_max * h_max + w0 + math.sqrt(w1 * w1 + w2 * w2))
     m2 = max(m_lo * m_lo, m_hi * m_hi)
     mid = 0.5 * (max(m_lo, 0.0) + min(m_lo - r_max, 0.0))
     return _S * math.sqrt(m2 + 3.0 * r_max * r_max) - aa - bb * mid
+
+
+@_jit_inline
+def _vertex_bound(k0: float, z0: float, pp: float, qq: float, w0: float, w1: float, w2: float,
+                  bt: float, bz: float, nu: float, p_r: float, aa: float, bb: float) -> float:
+    """An upper bound of F over every wall angle and every wall pressure in [0, p_r] that
+    keeps m and h coupled (docs/derivations.md, sec. 15.5): F = C - (b/2) max(hi, 0) with C
+    convex in (u, p, v) (u = -dev, v = |t|), and hi >= s_t, hi >= s_z (affine), so F is at
+    most C - (b/2) s_t and C - (b/2) s_z, each convex, hence at most its largest value at the
+    8 vertices of the box [-U, U] x [0, p_r] x [0, v_max] holding every angle."""
+    amp = math.sqrt(pp * pp + qq * qq)
+    vmax2 = w0 + math.sqrt(w1 * w1 + w2 * w2)
+    best_t, best_z = -math.inf, -math.inf
+    for u in (-amp, amp):
+        for p in (0.0, p_r):
+            st = k0 + u - bt * p
+            sz = z0 + nu * u - bz * p
+            m = 0.5 * (st + sz)
+            h = 0.5 * (st - sz)
+            for v2 in (0.0, vmax2):
+                c = (_S * math.sqrt(m * m + 3.0 * (h * h + v2)) - aa
+                     + 0.5 * bb * max(math.sqrt(h * h + v2) - m, 0.0))
+                best_t = max(best_t, c - 0.5 * bb * st)
+                best_z = max(best_z, c - 0.5 * bb * sz)
+    return min(best_t, best_z)
+
+
+@_jit
+def _band(k0: float, z0: float, pp: float, qq: float, w0: float, w1: float, w2: float,
+          bt: float, bz: float, nu: float, p_r: float, aa: float, bb: float, n: int
+          ) -> tuple[float, float]:
+    """The largest, over the wall angle, of the value at one angle that does not assume a
+    convex domain (:func:`_largest`): a grid of n directions in psi, then a golden-section
+    search (Kiefer 1953) on both sides of the grid's two largest local maxima, to 1e-12 rad.
+    For the cases of the envelope iteration, whose every step assumes a convex domain
+    (docs/derivations.md, sec. 15.5). Returns (value, psi)."""
+    vals = np.empty(n)
+    step = 2.0 * math.pi / n
+    mb = 0.5 * (bt + bz)
+    j1 = 0
+    for j in range(n):
+        vals[j] = _largest_at(j * step, k0, z0, pp, qq, w0, w1, w2, nu, mb, p_r, aa, bb)
+        if vals[j] > vals[j1]:
+            j1 = j
+    j2 = -1
+    for j in range(n):
+        v = vals[j]
+        if j != j1 and v >= vals[j - 1] and v >= vals[(j + 1) % n] and (j2 < 0 or v > vals[j2]):
+            j2 = j
+    best, x_best = vals[j1], j1 * step
+    gr = 0.6180339887498949
+    for jj in (j1, j2):
+        if jj < 0:
+            continue
+        for a, b in ((jj * step - step, jj * step), (jj * step, jj * step + step)):
+            c = b - gr * (b - a)
+            d = a + gr * (b - a)
+            fc = _largest_at(c, k0, z0, pp, qq, w0, w1, w2, nu, mb, p_r, aa, bb)
+            fd = _largest_at(d, k0, z0, pp, qq, w0, w1, w2, nu, mb, p_r, aa, bb)
+            for _ in range(200):
+                if b - a < 1e-12:
+                    break
+                if fc >= fd:
+                    b, d, fd = d, c, fc
+                    c = b - gr * (b - a)
+                    fc = _largest_at(c, k0, z0, pp, qq, w0, w1, w2, nu, mb, p_r, aa, bb)
+                else:
+                    a, c, fc = c, d, fd
+                    d = a + gr * (b - a)
+                    fd = _largest_at(d, k0, z0, pp, qq, w0, w1, w2, nu, mb, p_r, aa, bb)
+            for v, x in ((fc, c), (fd, d)):
+                if v > best:
+                    best, x_best = v, x
+    return best, x_best
+
+
+@_jit_inline
+def _largest_at(psi: float, k0: float, z0: float, pp: float, qq: float, w0: float, w1: float,
+                w2: float, nu: float, mb: float, p_r: float, aa: float, bb: float) -> float:
+    """:func:`_largest` at the direction psi."""
+    c, s = math.cos(psi), math.sin(psi)
+    dev = pp * c + qq * s
+    w = max(w0 + w1 * c + w2 * s, 0.0)
+    at = k0 - dev
+    az = z0 - nu * dev
+    return _largest(0.5 * (at + az), 0.5 * (at - az), mb, w, aa, bb, p_r)
 
 
 @_jit_parallel
@@ -529,17 +787,23 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
                 if j == n1:
                     j = 0
                     i += 1
-        # the value's search, on the cases that may fail at full drawdown (where a bound of F
-        # at 0 over every angle is negative, the value is negative at every angle: never,
-        # unless the wall fails with no drawdown, decided below)
+        # the value's search, on the cases that may fail at some wall pressure (where either
+        # bound of F over every angle and every wall pressure in [0, p_r] is negative: never; the
+        # failing pressures of an angle can be a band, so a bound at p = 0 alone does not
+        # do: sec. 15.5)
         bv, bc, bs, flag = np.full(cnt, -1.0), np.ones(cnt), np.zeros(cnt), np.zeros(cnt)
         # the screens: largest F and -lo at p_r on the value's grid (+inf: not screened)
         sf, stn = np.full(cnt, np.inf), np.full(cnt, np.inf)
         sel = np.empty(cnt, dtype=np.bool_)
         for r in range(cnt):
             # (not "< 0": nan inputs take the search and give nan, as elsewhere)
-            sel[r] = not (_shear_bound(0.0, k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
-                                       bt[r], bz[r], nuv[r], aa[r], bb[r]) < 0.0)
+            sel[r] = not ((_shear_bound(0.0, prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
+                                        w2[r], bt[r], bz[r], nuv[r], aa[r], bb[r]) < 0.0)
+                          | (_vertex_bound(k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r],
+                                           bt[r], bz[r], nuv[r], prv[r], aa[r], bb[r]) < 0.0))
+        for r in range(cnt):
+            # no angle fails at any wall pressure, so none at p_r: no search of F there
+            sf[r] = sf[r] if sel[r] else -np.inf
         value = np.int64(_VALUE)  # not a literal: one compiled search serves every kind
         idx = np.nonzero(sel)[0]
         if idx.size == cnt:
@@ -564,8 +828,8 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
                 dr = 0.5 * (1.0 - nuv[r]) * amp + 0.5 * math.sqrt(2.0 * w0[r])  # |dr/dpsi|
                 dm = 0.5 * (1.0 + nuv[r]) * amp  # |dm/dpsi|
                 if kind == _SHEAR_R:
-                    bound = _shear_bound(prv[r], k0[r], z0[r], pp[r], qq[r], w0[r], w1[r],
-                                         w2[r], bt[r], bz[r], nuv[r], aa[r], bb[r])
+                    bound = _shear_bound(prv[r], prv[r], k0[r], z0[r], pp[r], qq[r], w0[r],
+                                         w1[r], w2[r], bt[r], bz[r], nuv[r], aa[r], bb[r])
                     lip = (_S + bb[r]) * dm + (_S * math.sqrt(3.0) + 0.5 * bb[r]) * dr
                     screen = sf[r] + _HALF_STEP * lip
                     sel[r] = (bv[r] < prv[r]) & (bound >= 0.0) & (screen >= -1e-9)
@@ -607,6 +871,13 @@ def mogi_onset(sum_xy, diff_xy, sxy, szz, sxz, syz, p_r, big_a, nu, t0, ucs, phi
                       prv[r], tq[r], aa[r], bb[r], 0.0, 0.0)
                 vals = np.empty(n_theta)
                 p_g, psi = _solve_case(_MOGI, kg, cos_g, sin_g, vals)
+                if p_g < prv[r]:
+                    # the failing wall pressures of an angle may form a band above the
+                    # envelope iteration's answer (sec. 15.5)
+                    v_b, psi_b = _band(k0[r], z0[r], pp[r], qq[r], w0[r], w1[r], w2[r], bt[r],
+                                       bz[r], nuv[r], prv[r], aa[r], bb[r], 4 * n_theta)
+                    if v_b >= 0.0 and min(v_b, prv[r]) > p_g:
+                        p_g, psi = min(v_b, prv[r]), psi_b
                 op[r] = p_g
                 oc[r] = math.cos(psi)
                 os_[r] = math.sin(psi)

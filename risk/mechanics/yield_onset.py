@@ -13,10 +13,11 @@ At the wall the effective radial stress is zero (permeable, producing wall: the 
     s'_t = a_t - (2 - A) p_w,     s'_z = a_z - (1 - A) p_w,     t_tz independent of p_w
 
 (:func:`risk.mechanics.stresses.wall_stresses`, Terzaghi effective stress). Every criterion in
-:mod:`risk.mechanics.criteria` has a convex elastic domain (all but Mogi-Coulomb, whose domain
-turns inwards at the triaxial-extension corners: a known limitation of every path here,
-docs/derivations.md sec. 15.4), so along this straight stress path
-the safe wall pressures at one angle form a single interval, and the tensile cut-off can only be
+:mod:`risk.mechanics.criteria` but Mogi-Coulomb has a convex elastic domain, so along this
+straight stress path the safe wall pressures at one angle form a single interval (Mogi-Coulomb's
+domain turns inwards at the triaxial-extension corners, so its failing pressures at one angle
+can form a band: every Mogi-Coulomb path handles it, docs/derivations.md sec. 15.5), and the
+tensile cut-off can only be
 reached at zero drawdown (the smallest principal effective stress does not fall as ``p_w``
 falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
 
@@ -34,7 +35,9 @@ falls; derived), so it is checked at ``p_w = p_r``. Two solvers:
   below.
 - **Mogi-Coulomb**: a compiled kernel on the whole circle (:mod:`risk.mechanics._mogi_kernel`):
   the crossing at one angle by a fixed number of safeguarded steps, the worst angle searched
-  as for Drucker-Prager but on the whole circle (docs/derivations.md, sec. 15.4).
+  as for Drucker-Prager but on the whole circle (docs/derivations.md, sec. 15.4); a value at
+  one angle not certified as the largest failing wall pressure there sends the case to the
+  envelope iteration and a band pass (sec. 15.5), as does the reference path for every case.
 - **the fallback of every kernel above**: the envelope iteration (Notes of
   :func:`critical_wall_pressure`), compiled by default (:mod:`risk.mechanics._onset_kernel`,
   one case per loop iteration); its numpy form
@@ -61,7 +64,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import elementwise
 
-from risk.mechanics.criteria import CRITERIA, StrengthParameters, tensile_cutoff
+from risk.mechanics.criteria import CRITERIA, StrengthParameters, cohesion, tensile_cutoff
 from risk.mechanics.stresses import LocalStress
 
 Array = NDArray[np.float64]
@@ -184,14 +187,17 @@ def critical_wall_pressure(
     p_{k+1} = root of F(t_k, .), t_{k+1} = argmax_t F(t, p_{k+1}) rises monotonically to it:
     F(t_k, .) touches G at p_k with the same slope (envelope theorem), so each step is at least
     as good as a Newton step on G. Every root is bracketed and every maximum is refined from a
-    grid bracket, so no step relies on a starting guess.
+    grid bracket, so no step relies on a starting guess. For Mogi-Coulomb (F not convex along
+    the path) a band pass follows: the largest failing wall pressure at one angle, maximised
+    over the angle, raises the answer where it is higher (docs/derivations.md, sec. 15.5).
 
     References
     ----------
     Wall stresses: Fjaer et al. (2008) sec. 4.4; Zoback (2007) ch. 8. Bracketed root:
     Chandrupatla, T.R. (1997) Adv. Eng. Softw. 28, 145. Mohr-Coulomb kernel: Anderson, N. &
     Bjorck, A. (1973) BIT 13, 253; Brent, R.P. (1973) Algorithms for Minimization without
-    Derivatives, chs. 4-5.
+    Derivatives, chs. 4-5. Mogi-Coulomb: Al-Ajmi, A.M. & Zimmerman, R.W. (2005) IJRMMS 42,
+    431-439; golden section: Kiefer, J. (1953) Proc. Amer. Math. Soc. 4, 502-506.
     """
     if criterion not in CRITERIA:
         raise ValueError(f"unknown criterion {criterion!r}; expected one of {sorted(CRITERIA)}")
@@ -416,7 +422,170 @@ def _general_solver(loc: LocalStress, p_r: Array, big_a: Array, nu: Array, t0: A
         active = active[~done]
     p_wc[idx] = p_k
     theta[idx] = t_k
+    if criterion == "mogi-coulomb":
+        _mogi_bands(p_wc, theta, case, p_r, n_theta)
     return p_wc, theta
+
+
+def _mogi_bands(p_wc: Array, theta: Array, case: tuple[Array, ...], p_r: Array,
+                n_theta: int) -> None:
+    """Mogi-Coulomb: raise ``p_wc`` (and set ``theta``) in place where the failing wall
+    pressures of some angle form a band above it, which the envelope iteration (it assumes a
+    convex domain) does not see (docs/derivations.md, sec. 15.5): the largest, over the wall
+    angle, of the value at one angle that does not assume it (:func:`_mogi_largest`), on a
+    grid of 4 n_theta angles, then golden-section searches (Kiefer 1953) on both sides of the
+    grid's two largest local maxima (the value jumps where a band appears, so the parabolic
+    steps of :func:`_refine_max` do not apply), to 1e-12 rad."""
+    todo = np.nonzero(p_wc < p_r)[0]
+    if todo.size == 0:
+        return
+    sub = _take(case, todo)
+    pr = p_r[todo]
+    n = 4 * n_theta
+    step = np.pi / n
+    grid = np.arange(n, dtype=float)
+    grid *= step
+    col = tuple(a[:, None] if np.ndim(a) else a for a in sub)
+    vals = _mogi_largest(grid[None, :], pr[:, None], *col)
+    rows = np.arange(todo.size)
+    k1 = np.argmax(vals, axis=1)
+    peak = (vals >= np.roll(vals, 1, axis=1)) & (vals >= np.roll(vals, -1, axis=1))
+    masked = np.where(peak, vals, -np.inf)
+    masked[rows, k1] = -np.inf
+    k2 = np.argmax(masked, axis=1)
+    k2 = np.where(np.isfinite(masked[rows, k2]), k2, k1)
+    best, t_best = vals[rows, k1], grid[k1]
+    gr = 0.5 * (np.sqrt(5.0) - 1.0)
+    for k in (k1, k2):
+        for side in (-1.0, 1.0):
+            a = grid[k] + np.minimum(side, 0.0) * step
+            b = a + step
+            c, d = b - gr * (b - a), a + gr * (b - a)
+            fc = _mogi_largest(c, pr, *sub)
+            fd = _mogi_largest(d, pr, *sub)
+            for _ in range(64):  # 0.618^64 of a grid step: below 1e-14 rad
+                left = fc >= fd
+                b = np.where(left, d, b)
+                a = np.where(left, a, c)
+                c_new = np.where(left, b - gr * (b - a), d)
+                d_new = np.where(left, c, a + gr * (b - a))
+                f_new = _mogi_largest(np.where(left, c_new, d_new), pr, *sub)
+                fc, fd = np.where(left, f_new, fd), np.where(left, fc, f_new)
+                c, d = c_new, d_new
+            for v, t in ((fc, c), (fd, d)):
+                up = v > best
+                best, t_best = np.where(up, v, best), np.where(up, t, t_best)
+    new = np.minimum(best, pr)
+    up = (best >= 0.0) & (new > p_wc[todo])
+    p_wc[todo[up]] = new[up]
+    theta[todo[up]] = np.mod(t_best[up], np.pi)
+
+
+def _mogi_largest(theta: Array, p_r: Array, *case: Array) -> Array:
+    """Mogi-Coulomb at wall angle theta without assuming a convex domain (docs/derivations.md,
+    sec. 15.5): p_r + F(p_r) where F(p_r) >= 0, else the largest wall pressure in [0, p_r)
+    where F = 0 if F >= 0 anywhere there, else the larger of F(0) and F where hoop = axial
+    (negative; it climbs towards the angles where a band appears). The branches of the
+    principal stresses (lo = m - r and hi = m + r against the zero radial stress) change
+    where m^2 - r^2, a quadratic in p, vanishes (lo and hi do not rise with p); on the
+    branches with one or two tensile principal stresses F is convex, so their crossing is
+    bracketed (Chandrupatla 1997, ``scipy.optimize.elementwise.find_root``); on the
+    compressive branch the largest root is approached from above by the roots of the convex
+    majorants with r replaced by its tangent (each a quadratic). Vectorised."""
+    a_t, a_z, tau = _coefficients(theta, case[:8])
+    ba = case[8]
+    prm = StrengthParameters(*case[9:])
+    shape = np.broadcast_shapes(np.shape(a_t), np.shape(a_z), np.shape(tau), np.shape(p_r),
+                                np.shape(ba), *(np.shape(v) for v in prm))
+    a_t, a_z, tau, pr, ba = (np.broadcast_to(v, shape).ravel() for v in (a_t, a_z, tau, p_r,
+                                                                           ba))
+    par = [np.broadcast_to(np.asarray(v, dtype=float), shape).ravel() for v in prm]
+    bt, bz = 2.0 - ba, 1.0 - ba
+    ma, ha, mb, w = 0.5 * (a_t + a_z), 0.5 * (a_t - a_z), 0.5 * (bt + bz), tau * tau
+    phi = par[1]
+    coh = cohesion(ucs=par[0], friction_angle=phi)
+    aa = 2.0 * np.sqrt(2.0) / 3.0 * coh * np.cos(phi)
+    bb = 2.0 * np.sqrt(2.0) / 3.0 * np.sin(phi)
+
+    def excess(p: Array, at: Array, az: Array, ta: Array, b_t: Array, b_z: Array,
+               *sp: Array) -> Array:
+        s1, s2, s3 = _principal(at - b_t * p, az - b_z * p, ta)
+        return CRITERIA["mogi-coulomb"](s1, s2, s3, StrengthParameters(*sp))
+
+    def eig(p: Array, sl: slice | NDArray[np.intp] = slice(None)) -> tuple[Array, Array]:
+        m = ma[sl] - mb[sl] * p
+        h = ha[sl] - 0.5 * p
+        r = np.sqrt(h * h + w[sl])
+        return m - r, m + r
+
+    args = (a_t, a_z, tau, bt, bz, *par)
+    fr = excess(pr, *args)
+    out = np.where(fr >= 0.0, pr + fr, np.nan)
+
+    # where lo and hi cross zero: the smaller and larger roots of m^2 - r^2, a quadratic in p
+    # (lo and hi do not rise with p, so each is crossed once), kept to [0, p_r]
+    d2 = mb * mb - 0.25
+    d1 = ha - 2.0 * ma * mb
+    d0 = ma * ma - ha * ha - w
+    with np.errstate(divide="ignore", invalid="ignore"):
+        half = -0.5 * (d1 + np.copysign(np.sqrt(np.maximum(d1 * d1 - 4.0 * d2 * d0, 0.0)),
+                                        d1))
+        za = np.where(d2 > 0.0, half / d2, np.copysign(np.inf, half))
+        zb = np.where(half != 0.0, d0 / half, np.inf)
+    lo0, hi0 = eig(np.zeros_like(pr))
+    lo_r, hi_r = eig(pr)
+    top_b = np.where(hi_r >= 0.0, pr, np.where(hi0 < 0.0, 0.0,
+                                               np.clip(np.maximum(za, zb), 0.0, pr)))
+    top_a = np.where(lo_r >= 0.0, pr, np.where(lo0 < 0.0, 0.0,
+                                               np.clip(np.minimum(za, zb), 0.0, top_b)))
+
+    def crossing(mask: NDArray[np.bool_], lo: Array, hi: Array) -> None:
+        idx = np.nonzero(mask)[0]
+        if idx.size:
+            sub = tuple(a[idx] for a in args)
+            res = elementwise.find_root(excess, (lo[idx], hi[idx]), args=sub,
+                                        tolerances=_ROOT_TOL)
+            out[idx] = np.where(res.success, res.x, lo[idx])
+
+    open_ = np.isnan(out)
+    crossing(open_ & (top_b < pr) & (excess(top_b, *args) >= 0.0), top_b, pr)
+    open_ = np.isnan(out)
+    crossing(open_ & (top_a < top_b) & (excess(top_a, *args) >= 0.0), top_a, top_b)
+    f0 = np.maximum(excess(np.zeros_like(pr), *args),
+                    excess(np.clip(2.0 * ha, 0.0, pr), *args))
+    # the compressive branch on [0, top_a], F(top_a) < 0: descend
+    act = np.nonzero(np.isnan(out) & (top_a > 0.0))[0]
+    x = top_a[act]
+    s2 = 2.0 / 9.0
+    for _ in range(200):
+        if act.size == 0:
+            break
+        a_, h_, m_, w_, e_a, e_b = ma[act], ha[act], mb[act], w[act], aa[act], bb[act]
+        hx = h_ - 0.5 * x
+        rx = np.sqrt(hx * hx + w_)
+        r1 = -0.5 * hx / np.maximum(rx, 1e-300)
+        e0 = e_a + 0.5 * e_b * (a_ + rx - r1 * x)
+        e1 = 0.5 * e_b * (m_ - r1)
+        q2 = s2 * (m_ * m_ + 0.75) - e1 * e1
+        q1 = -s2 * (2.0 * a_ * m_ + 3.0 * h_) + 2.0 * e0 * e1
+        q0 = s2 * (a_ * a_ + 3.0 * (h_ * h_ + w_)) - e0 * e0
+        with np.errstate(divide="ignore", invalid="ignore"):
+            sd = np.sqrt(q1 * q1 - 4.0 * q2 * q0)
+            half = -0.5 * (q1 + np.copysign(sd, q1))
+            roots = np.stack([half / q2, q0 / half])
+        tol = 1e-12 * (1.0 + x)
+        ok = np.isfinite(roots) & (roots < x + tol) & (e0 - e1 * roots >= 0.0)
+        nxt = np.minimum(np.max(np.where(ok, roots, -np.inf), axis=0), x)
+        none = nxt < 0.0  # the majorant, hence F, is negative on [0, x]
+        moved = x - nxt
+        x_new = np.where(none, 0.0, nxt)
+        sub = tuple(a[act] for a in args)
+        found = ~none & ((excess(x_new, *sub) >= 0.0) | (moved <= 1e-14 * (1.0 + x_new)))
+        out[act[found]] = x_new[found]
+        keep = ~(none | found)
+        act, x = act[keep], x_new[keep]
+    out = np.where(np.isnan(out), f0, out)
+    return out.reshape(shape)
 
 
 def _take(arrays: tuple[Array, ...], idx: NDArray[np.intp]) -> tuple[Array, ...]:

@@ -132,11 +132,10 @@ ASSUMPTIONS: Final[tuple[str, ...]] = (
     "the mean effective stress reaches P*. The wall is checked at zero drawdown (critical "
     "reservoir pressure) and at the largest drawdown assessed (probability per stage).",
     "Mogi\u2013Coulomb (when chosen; Al-Ajmi & Zimmerman 2005): its elastic domain is not "
-    "convex near triaxial extension, while the yield-onset search takes the failing wall "
-    "pressures at one wall angle to run from zero up to the critical one. Where they form a "
-    "band in between, the critical wall pressure is underestimated and the drawdown limit "
-    "overstated (non-conservative): found in about 1 wall in 80,000 of a wide random test "
-    "set, at a friction angle of 59\u00b0 (0.18 MPa).",
+    "convex near triaxial extension, so at one wall angle the failing wall pressures can form "
+    "a band between full drawdown and none. The yield-onset search takes the highest failing "
+    "wall pressure at each angle, bands included (checked against a brute-force scan of "
+    "angles and pressures); such bands occur mainly at friction angles above about 50\u00b0.",
     "Hoek\u2013Brown (when chosen): GSI below 100 applies a rock-mass reduction to a cavity a "
     "few centimetres across; a warning is given when the scenario does so.",
     "Sensitivity indices describe the critical drawdown capped at the reservoir pressure; "
