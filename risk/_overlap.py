@@ -72,6 +72,8 @@ class Forked:
         self._receive = receive
         self._what = what
         self._closed = False
+        #: what the caller started it for (checked by the caller when it takes the result)
+        self.key: Any = None
 
     def result(self) -> Any:
         """The child's value (waiting for it), or :data:`LOST` where the child ended without

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -47,8 +48,13 @@ def _check_overrides(samples: int | str | None, seed: int | str | None
 
 def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
                  samples: int | str | None = None, seed: int | str | None = None,
-                 show_progress: bool = False, force: bool = False) -> RunResult:
+                 show_progress: bool = False, force: bool = False,
+                 prepare: Callable[[], object] | None = None) -> RunResult:
     """Load, assess and write the outputs (``results.json`` ...) into the folder ``out``.
+
+    ``prepare``, when given, is called once the scenario is read and before the computing
+    starts (the command line loads the compiled kernels there: after the sensitivity step is
+    forked, where a second core is idle, :func:`risk.assessment.start_sensitivity`).
 
     Raises
     ------
@@ -59,13 +65,15 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     from risk.logs.scenario import has_logs
 
     if has_logs(path):  # a log scenario: risk over depth (risk.logs)
+        if prepare is not None:
+            prepare()
         return _run_logs(path, out, n_samples, n_seed, force)
     scenario = load_scenario(path)
     from risk.report.writer import OutputFolder
 
     # the folder is checked, created and locked before any work; held until the end
     with OutputFolder(out, force=force, inputs=[path]) as folder:
-        summary, files = _compute(scenario, path, n_samples, n_seed, show_progress)
+        summary, files = _compute(scenario, path, n_samples, n_seed, show_progress, prepare)
         kept = folder.publish(files)
     return RunResult(summary, folder.path, tuple(kept))
 
@@ -89,14 +97,29 @@ def _run_logs(path: str | Path, out: str | Path, n_samples: int | None, n_seed: 
 
 
 def _compute(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int | None,
-             show_progress: bool) -> tuple[dict[str, Any], dict[str, str | bytes]]:
+             show_progress: bool, prepare: Callable[[], object] | None = None
+             ) -> tuple[dict[str, Any], dict[str, str | bytes]]:
+    from risk.assessment import start_sensitivity
+
+    job = start_sensitivity(scenario, samples=n_samples, seed=n_seed)
+    try:
+        if prepare is not None:
+            prepare()
+        return _produce(scenario, path, n_samples, n_seed, show_progress, job)
+    finally:
+        if job is not None:
+            job.close()
+
+
+def _produce(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int | None,
+             show_progress: bool, job: Any) -> tuple[dict[str, Any], dict[str, str | bytes]]:
     from risk.assessment import assess
     from risk.report.results import summarize
 
     def produce(progress: Any = None, step: Any = None) -> tuple[dict[str, Any],
                                                                  dict[str, str | bytes]]:
         assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=progress,
-                            step=step)
+                            step=step, sensitivity=job)
         if step is not None:
             step("figures and memo")
         summary = summarize(assessment)

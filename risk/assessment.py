@@ -353,8 +353,30 @@ def _start_sensitivity(scenario: Scenario, joint: Any, n: int, seed_: int,
     replayed = -(-min(n, SENSITIVITY_RUNS + HOLDOUT_RUNS) // CHUNK) * CHUNK
     if overlap is None and (n <= replayed or not second_core_idle()):
         return None
-    return _overlap.fork_call(lambda: _head_sensitivity(scenario, joint, n, seed_),
-                              what="the sensitivity indices")
+    job = _overlap.fork_call(lambda: _head_sensitivity(scenario, joint, n, seed_),
+                             what="the sensitivity indices")
+    if job is not None:
+        job.key = (scenario, n, seed_)
+    return job
+
+
+def start_sensitivity(scenario: Scenario, *, samples: int | None = None,
+                      seed: int | None = None, overlap: bool | None = None
+                      ) -> _overlap.Forked | None:
+    """Start the sensitivity step of ``assess(scenario, samples=samples, seed=seed)`` in a
+    forked child now, to be passed on as ``assess(..., sensitivity=...)``; None where it is
+    computed in turn (``overlap`` as in :func:`assess`). For callers that load the compiled
+    kernels before the run (the command line): numba's GNU OpenMP threads, once set up in a
+    process, cannot be used in a child forked after that (:func:`risk._overlap.fork_safe`),
+    so the child is forked first and loads the kernels itself, on its own core.
+    The caller closes what it gets (:meth:`risk._overlap.Forked.close`) if it does not run
+    the assessment."""
+    n_req = scenario.samples if samples is None else int(samples)
+    seed_ = scenario.seed if seed is None else int(seed)
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    return _start_sensitivity(scenario, joint, 1 if joint.d == 0 else n_req, seed_, overlap)
 
 
 def _read_only(results: Mapping[Any, Any]) -> None:
@@ -371,7 +393,8 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
            progress: Progress | None = None,
            step: Callable[[str], None] | None = None,
            chunks: Callable[[int], ChunkOutcome] | None = None,
-           overlap: bool | None = None) -> Assessment:
+           overlap: bool | None = None,
+           sensitivity: _overlap.Forked | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
 
     Parameters
@@ -393,6 +416,9 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         default) where a second core is idle (:func:`risk._cores.second_core_idle`) and the
         run has more chunks than the child evaluates again; True wherever fork is available
         (tests); False never. The results are the same bit for bit either way.
+    sensitivity : optional
+        The step already started by :func:`start_sensitivity` for this scenario, samples
+        and seed (then ``overlap`` is not used); closed here.
 
     Notes
     -----
@@ -426,8 +452,12 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     options = scenario.options
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
     option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
-    background = None if chunks is not None else _start_sensitivity(
-        scenario, joint, n, seed_, overlap)
+    background = sensitivity if sensitivity is not None or chunks is not None else (
+        _start_sensitivity(scenario, joint, n, seed_, overlap))
+    if background is not None and (background.key[0] is not scenario
+                                   or background.key[1:] != (n, seed_)):
+        background.close()
+        raise ValueError("the sensitivity step given was started for another run")
     try:
         done = 0
         index = 0

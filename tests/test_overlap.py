@@ -225,3 +225,42 @@ print(json.dumps({{"forked": job, "same": same, "n": len(a.sensitivity)}}))
                          env=env, cwd=tmp_path, check=True)
     res = json.loads(out.stdout.strip().splitlines()[-1])
     assert res == {"forked": True, "same": True, "n": res["n"]} and res["n"] > 0
+
+
+def test_run_forks_the_sensitivity_step_before_the_kernels_load(tmp_path, monkeypatch):
+    # The command line loads the compiled kernels through run_scenario(prepare=...): after
+    # the sensitivity step is forked (a child forked once numba's GNU OpenMP threads are set
+    # up cannot use them), and the child is closed whatever happens next.
+    import risk.api as api
+
+    order: list[str] = []
+
+    class Job:
+        def close(self) -> None:
+            order.append("closed")
+
+    class Stop(Exception):
+        pass
+
+    def produce(*args: object) -> None:
+        order.append("compute")
+        raise Stop
+
+    monkeypatch.setattr(asm, "start_sensitivity",
+                        lambda scenario, **kw: order.append("fork") or Job())
+    monkeypatch.setattr(api, "_produce", produce)
+    with pytest.raises(Stop):
+        api.run_scenario(ROOT / "examples" / "ravenmoor_r7_openhole.toml", out=tmp_path / "o",
+                         samples=64, prepare=lambda: order.append("kernels"))
+    assert order == ["fork", "kernels", "compute", "closed"]
+
+
+def test_a_step_started_for_another_run_is_refused(write, forking, monkeypatch):
+    monkeypatch.setattr(asm, "_head_sensitivity", lambda *args: time.sleep(60))
+    sc = load_scenario(write(SMALL))
+    job = asm.start_sensitivity(sc, samples=2048, overlap=True)
+    assert job is not None
+    pid = job._child.pid
+    with pytest.raises(ValueError, match="another run"):
+        asm.assess(sc, samples=4096, sensitivity=job)
+    assert _reaped(pid)
