@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import importlib
+import threading
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
@@ -118,12 +120,17 @@ def _produce(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int
 
     def produce(progress: Any = None, step: Any = None) -> tuple[dict[str, Any],
                                                                  dict[str, str | bytes]]:
+        loading = _preload()
+        # no child forked from here on (the step was started, or not, by _compute): a fork
+        # while the thread imports could leave the child an import lock it never gets
         assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=progress,
-                            step=step, sensitivity=job)
+                            step=step, sensitivity=job, overlap=False)
         if step is not None:
             step("figures and memo")
         summary = summarize(assessment)
         del assessment  # the per-sample arrays are not needed for the memo
+        if loading is not None:
+            loading.join()  # before the memo forks its figure processes
         return summary, _output_files(summary, _run_info(path, summary))
 
     if show_progress:
@@ -137,6 +144,31 @@ def _produce(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int
     else:
         summary, files = produce()
     return summary, files
+
+
+#: modules of the report stack (matplotlib, seaborn, WeasyPrint: about 2.5 s of imports) that
+#: a thread imports while the run computes, where the compiled kernels and numpy's large
+#: array operations leave the interpreter free (benchmarks/README.md); () imports them where
+#: they are used, in turn
+PRELOAD: tuple[str, ...] = ("risk.report.memo", "weasyprint")
+
+
+def _preload() -> threading.Thread | None:
+    """Start importing :data:`PRELOAD` on a daemon thread (None: nothing to import). A module
+    that fails to import is left to the code that uses it, which then reports the error."""
+    if not PRELOAD:
+        return None
+
+    def load() -> None:
+        for name in PRELOAD:
+            try:
+                importlib.import_module(name)
+            except Exception:  # noqa: BLE001 - imported again where used, which raises it
+                return
+
+    thread = threading.Thread(target=load, daemon=True, name="risk-preload")
+    thread.start()
+    return thread
 
 
 def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:
