@@ -447,6 +447,7 @@ def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
         scenario = Path(tmp) / "g3_three_stages.toml"
         scenario.write_text(text, encoding="utf-8")
         per, agree = per_case_seconds(scenario, samples=3 if quick else 12)
+        load = os.getloadavg()[0]  # the run overlaps its steps only where a core is idle
         before = os.times()
         t_run, _ = run_cli(["run", str(scenario), "--out", str(Path(tmp) / "out"), "-q",
                             "--samples", str(samples)])
@@ -462,7 +463,7 @@ def whole_run_rows(rows: list[tuple[str, str, str]], quick: bool) -> None:
                  f"{t_run:.1f} s (CPU {cpu:.1f} s)",
                  f"per-sample loop {t_case * 1e3:.1f} ms x {cases:,} cases = "
                  f"{t_case * cases / 3600:.2f} h: {t_case * cases / t_run:,.0f}x "
-                 "(goal >= 2,000x)"))
+                 f"(goal >= 2,000x); load average before it {load:.1f}"))
     pore = per.pop("pore collapse (per sample)")
     tunnel = sum(per.values())
     loop = tunnel * cases + pore * samples

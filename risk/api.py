@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import importlib
+import threading
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -47,8 +50,13 @@ def _check_overrides(samples: int | str | None, seed: int | str | None
 
 def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
                  samples: int | str | None = None, seed: int | str | None = None,
-                 show_progress: bool = False, force: bool = False) -> RunResult:
+                 show_progress: bool = False, force: bool = False,
+                 prepare: Callable[[], object] | None = None) -> RunResult:
     """Load, assess and write the outputs (``results.json`` ...) into the folder ``out``.
+
+    ``prepare``, when given, is called once the scenario is read and before the computing
+    starts (the command line loads the compiled kernels there: after the sensitivity step is
+    forked, where a second core is idle, :func:`risk.assessment.start_sensitivity`).
 
     Raises
     ------
@@ -59,13 +67,15 @@ def run_scenario(path: str | Path, *, out: str | Path = "reports/run",
     from risk.logs.scenario import has_logs
 
     if has_logs(path):  # a log scenario: risk over depth (risk.logs)
+        if prepare is not None:
+            prepare()
         return _run_logs(path, out, n_samples, n_seed, force)
     scenario = load_scenario(path)
     from risk.report.writer import OutputFolder
 
     # the folder is checked, created and locked before any work; held until the end
     with OutputFolder(out, force=force, inputs=[path]) as folder:
-        summary, files = _compute(scenario, path, n_samples, n_seed, show_progress)
+        summary, files = _compute(scenario, path, n_samples, n_seed, show_progress, prepare)
         kept = folder.publish(files)
     return RunResult(summary, folder.path, tuple(kept))
 
@@ -89,18 +99,38 @@ def _run_logs(path: str | Path, out: str | Path, n_samples: int | None, n_seed: 
 
 
 def _compute(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int | None,
-             show_progress: bool) -> tuple[dict[str, Any], dict[str, str | bytes]]:
+             show_progress: bool, prepare: Callable[[], object] | None = None
+             ) -> tuple[dict[str, Any], dict[str, str | bytes]]:
+    from risk.assessment import start_sensitivity
+
+    job = start_sensitivity(scenario, samples=n_samples, seed=n_seed)
+    try:
+        if prepare is not None:
+            prepare()
+        return _produce(scenario, path, n_samples, n_seed, show_progress, job)
+    finally:
+        if job is not None:
+            job.close()
+
+
+def _produce(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int | None,
+             show_progress: bool, job: Any) -> tuple[dict[str, Any], dict[str, str | bytes]]:
     from risk.assessment import assess
     from risk.report.results import summarize
 
     def produce(progress: Any = None, step: Any = None) -> tuple[dict[str, Any],
                                                                  dict[str, str | bytes]]:
+        loading = _preload()
+        # no child forked from here on (the step was started, or not, by _compute): a fork
+        # while the thread imports could leave the child an import lock it never gets
         assessment = assess(scenario, samples=n_samples, seed=n_seed, progress=progress,
-                            step=step)
+                            step=step, sensitivity=job, overlap=False)
         if step is not None:
             step("figures and memo")
         summary = summarize(assessment)
         del assessment  # the per-sample arrays are not needed for the memo
+        if loading is not None:
+            loading.join()  # before the memo forks its figure processes
         return summary, _output_files(summary, _run_info(path, summary))
 
     if show_progress:
@@ -114,6 +144,31 @@ def _compute(scenario: Any, path: str | Path, n_samples: int | None, n_seed: int
     else:
         summary, files = produce()
     return summary, files
+
+
+#: modules of the report stack (matplotlib, seaborn, WeasyPrint: about 2.5 s of imports) that
+#: a thread imports while the run computes, where the compiled kernels and numpy's large
+#: array operations leave the interpreter free (benchmarks/README.md); () imports them where
+#: they are used, in turn
+PRELOAD: tuple[str, ...] = ("risk.report.memo", "weasyprint")
+
+
+def _preload() -> threading.Thread | None:
+    """Start importing :data:`PRELOAD` on a daemon thread (None: nothing to import). A module
+    that fails to import is left to the code that uses it, which then reports the error."""
+    if not PRELOAD:
+        return None
+
+    def load() -> None:
+        for name in PRELOAD:
+            try:
+                importlib.import_module(name)
+            except Exception:  # noqa: BLE001 - imported again where used, which raises it
+                return
+
+    thread = threading.Thread(target=load, daemon=True, name="risk-preload")
+    thread.start()
+    return thread
 
 
 def _run_info(path: str | Path, summary: dict[str, Any]) -> dict[str, Any]:

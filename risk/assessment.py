@@ -17,7 +17,16 @@ from typing import Any, Final
 import numpy as np
 from numpy.typing import NDArray
 
-from risk import __version__, decision, probability
+from risk import __version__, _overlap, decision, probability
+from risk._cores import second_core_idle
+from risk._sensitivity_step import GROUPS as GROUPS
+from risk._sensitivity_step import HOLDOUT_RUNS as HOLDOUT_RUNS
+from risk._sensitivity_step import MC_FALLBACK_RUNS as MC_FALLBACK_RUNS
+from risk._sensitivity_step import PCE_TRUNCATIONS as PCE_TRUNCATIONS
+from risk._sensitivity_step import SENSITIVITY_RUNS as SENSITIVITY_RUNS
+from risk._sensitivity_step import SHAPLEY_FALLBACK_RUNS as SHAPLEY_FALLBACK_RUNS
+from risk._sensitivity_step import _outputs as _outputs
+from risk._sensitivity_step import _sensitivity
 from risk.limit_states import (
     DEFAULT_TWC_FACTOR,
     MECHANISMS,
@@ -180,138 +189,6 @@ def _reliability(scenario: Scenario, joint: Any, mechanisms: Mapping[str, Mechan
     return out
 
 
-SENSITIVITY_RUNS: Final = 1024  # leading QMC points of the run used as the PCE design
-HOLDOUT_RUNS: Final = 4096  # the next points of the run, held out to measure the fit's error
-#: candidate truncations (q, highest degree; None = from the design size) of the expansion
-#: for independent inputs; each output keeps the one with the least held-out error (Blatman &
-#: Sudret 2011 for hyperbolic sets: high degrees in one input, low orders of interaction).
-#: With correlated inputs the total-degree set only: the correlated scheme re-expresses every
-#: term in rotated variables, and its cost grew about tenfold with degree-14 terms.
-PCE_TRUNCATIONS: Final = ((1.0, None), (0.5, 14))
-MC_FALLBACK_RUNS: Final = 512  # base sample of the Monte-Carlo fallback, n (d + 2) model runs
-#: model runs of the Monte-Carlo Shapley fallback for correlated inputs (replicates of d + 1
-#: runs each; about 1,300 replicates for 12 inputs: 95% bands about +-0.05 wide on the effects)
-SHAPLEY_FALLBACK_RUNS: Final = 16_384
-
-#: Inputs grouped for grouped indices (coupled blocks); only uncertain members count.
-GROUPS: Final[dict[str, tuple[str, ...]]] = {
-    "in-situ stresses": ("sv", "sv_gradient", "shmax", "shmax_gradient", "shmin",
-                         "shmin_gradient", "shmax_azimuth", "pp", "pp_gradient",
-                         "depletion_path", "depletion_path_shmax"),
-    "rock strength": ("ucs", "friction_angle", "tensile_strength", "twc", "twc_ratio",
-                      "twc_factor", "hb_mi", "gsi", "critical_plastic_strain",
-                      "pore_collapse_pressure", "strength_multiplier"),
-}
-
-
-def _outputs(scenario: Scenario, res: Mapping[str, MechanismResult],
-             comp: CompactionResult | None) -> tuple[list[tuple[str, int]], Array]:
-    """Capped outputs for sensitivity: min(D_c, p_r) per mechanism and stage [MPa]; pore
-    collapse as the far-field critical reservoir pressure clipped to [0, p0] [MPa]."""
-    keys: list[tuple[str, int]] = []
-    cols: list[Array] = []
-    for key, mech in res.items():
-        well = mech.well
-        for stage, p_r in enumerate(scenario.reservoir_pressure):
-            keys.append((key, stage))
-            cols.append(np.minimum(well[:, stage], p_r))
-    if comp is not None:
-        keys.append(("pore_collapse", 0))
-        far = np.where(np.isneginf(comp.far_field), 0.0, comp.far_field)
-        top = comp.initial if comp.initial is not None else np.inf
-        cols.append(np.clip(far, 0.0, top))
-    return keys, np.column_stack(cols)
-
-
-def _sensitivity(scenario: Scenario, joint: Any, mechanisms: Mapping[str, MechanismResult],
-                 compaction_all: CompactionResult | None, xi: Array, seed_: int) -> tuple[
-                     dict[tuple[str, int], Any],
-                     dict[str, dict[str, tuple[float, float, float, float]]],
-                     dict[str, float]]:
-    """Sobol/Shapley indices (PCE on the run's leading QMC points, Monte-Carlo fallback) and
-    the tornado, for every mechanism and stage. Skipped for fewer than 2 uncertain inputs or
-    fewer than 64 samples."""
-    from risk import sensitivity as sa
-    from risk.uncertainty import correlated_normals, normals_to_inputs
-
-    n_all = next(iter(mechanisms.values())).by_direction.shape[0]
-    if joint.d < 2 or n_all < 64:
-        return {}, {}, {}
-    m = min(SENSITIVITY_RUNS, n_all)
-    rng = rng_stream(seed_, "sensitivity")
-    head = {k: MechanismResult(k, r.by_direction[:m], r.theta[:m]) for k, r in mechanisms.items()}
-    comp_head = (CompactionResult(compaction_all.far_field[:m], compaction_all.wall[:m],
-                                  None if compaction_all.initial is None
-                                  else compaction_all.initial[:m])
-                 if compaction_all is not None else None)
-    keys, y = _outputs(scenario, head, comp_head)
-    names = list(joint.names)
-    with_far = compaction_all is not None
-    z = correlated_normals(joint, xi[:m])
-    groups = {g: [n for n in members if n in names] for g, members in GROUPS.items()}
-    groups = {g: v for g, v in groups.items() if len(v) >= 2}
-    correlated = bool(np.any(joint.normal_corr != np.eye(joint.d)))
-    corr = joint.normal_corr if correlated else None
-    cols_ok = np.nonzero(sa.has_spread(y))[0]
-    # runs of the sample that the fit does not see check it (no extra model runs)
-    m_ho = min(HOLDOUT_RUNS, xi.shape[0] - m)
-    holdout = None
-    if m_ho >= 2 * joint.d + 2:
-        held = slice(m, m + m_ho)
-        _, y_ho = _outputs(scenario, {k: MechanismResult(k, r.by_direction[held], r.theta[:0])
-                                      for k, r in mechanisms.items()},
-                           CompactionResult(compaction_all.far_field[held],
-                                            compaction_all.wall[held],
-                                            None if compaction_all.initial is None
-                                            else compaction_all.initial[held])
-                           if compaction_all is not None else None)
-        holdout = (correlated_normals(joint, xi[held]), y_ho[:, cols_ok])
-    res: dict[int, Any] = {}
-    if cols_ok.size:
-        def model_xi(xi_: Array, outputs: list[int]) -> Array:
-            """The outputs that fell back, from runs of only the mechanisms they need."""
-            wanted = [keys[cols_ok[c]] for c in outputs]
-            need = {k for k, _ in wanted}
-            cols = input_columns(joint, normals_to_inputs(joint, xi_))
-            out = evaluate(cols, scenario, only=need - {"pore_collapse"})
-            f = (evaluate_compaction(cols, scenario) if "pore_collapse" in need else None)
-            k2, yy = _outputs(scenario, out, f)
-            return yy[:, [k2.index(w) for w in wanted]]
-
-        with sa.blas_single_thread(), np.errstate(invalid="ignore", divide="ignore"):
-            families = sa.families_for([mg.kind for mg in joint.marginals], corr,
-                                       ppfs=[mg.ppf for mg in joint.marginals])
-            fitted = sa.sensitivity(
-                z, y[:, cols_ok], names=names, rng=rng, corr=corr, groups=groups or None,
-                model=model_xi, partial_model=True, mc_n=MC_FALLBACK_RUNS,
-                shapley_replicates=max(2, SHAPLEY_FALLBACK_RUNS // (joint.d + 1)),
-                n_bootstrap=100, families=families, holdout=holdout,
-                truncations=(PCE_TRUNCATIONS if holdout is not None and not correlated
-                             else None))
-        res = dict(zip(cols_ok.tolist(), fitted, strict=True))
-    sens = {keys[c]: r for c, r in sorted(res.items())}
-    # tornado: P10 / P90 of each input, others at P50 (one-at-a-time, correlation ignored)
-    mid = np.array([mg.quantile(0.5) for mg in joint.marginals])
-    low = np.array([mg.quantile(0.1) for mg in joint.marginals])
-    high = np.array([mg.quantile(0.9) for mg in joint.marginals])
-
-    def model_x(x: Array) -> Array:
-        out = evaluate(input_columns(joint, x), scenario)
-        f = evaluate_compaction(input_columns(joint, x), scenario) if with_far else None
-        return _outputs(scenario, out, f)[1]
-
-    swings, y_mid = sa.tornado(model_x, low, mid, high, base=True)
-    torn: dict[str, dict[str, tuple[float, float, float, float]]] = {}
-    base: dict[str, float] = {}
-    for c, (key, stage) in enumerate(keys):
-        if stage != 0:
-            continue
-        base[key] = float(y_mid[c])
-        torn[key] = {name: (float(low[j]), float(high[j]), float(swings[j, 0, c]),
-                            float(swings[j, 1, c])) for j, name in enumerate(names)}
-    return sens, torn, base
-
-
 def _calibration(scenario: Scenario, joint: Any, cols: Mapping[str, Array],
                  by_direction: Mapping[str, NDArray[Any]], seed_: int,
                  options: tuple[tuple[str, Any, Mapping[str, NDArray[Any]]], ...] = (),
@@ -444,10 +321,80 @@ def evaluate_chunks(scenario: Scenario, *, samples: int | None = None, seed: int
     return out
 
 
+def _head_sensitivity(scenario: Scenario, joint: Any, n: int, seed_: int) -> tuple[Any, ...]:
+    """:func:`_sensitivity` of the run of ``n`` samples, evaluating afresh only the leading
+    chunks it reads (the SENSITIVITY_RUNS + HOLDOUT_RUNS first samples) and storing them as
+    :func:`assess` does (its dtype): what the forked child computes while the caller
+    evaluates the rest (bit-identical to the step in turn; tests/test_overlap.py)."""
+    rows = min(n, SENSITIVITY_RUNS + HOLDOUT_RUNS, HEAD_ROWS)
+    cs = evaluate_chunks(scenario, samples=n, seed=seed_, start=0, stop=-(-rows // CHUNK))
+    dtype = np.float64 if n <= LARGE_RUN else np.float32
+
+    def cat(arrays: list[Any], cast: bool = True) -> Array:
+        out = np.concatenate(arrays)[:rows]
+        return out.astype(dtype, copy=False) if cast else out
+
+    mechs = {k: MechanismResult(k, cat([c.mechanisms[k].by_direction for c in cs]),
+                                cat([c.mechanisms[k].theta for c in cs], False))
+             for k in cs[0].mechanisms}
+    comp = None
+    if "pore_collapse_pressure" in scenario.inputs:
+        comp = CompactionResult(*(cat([getattr(c.compaction, f) for c in cs])
+                                  for f in ("far_field", "wall", "initial")))
+    return _sensitivity(scenario, joint, mechs, comp, cat([c.xi for c in cs], False), seed_)
+
+
+def _start_sensitivity(scenario: Scenario, joint: Any, n: int, seed_: int,
+                       overlap: bool | None) -> _overlap.Forked | None:
+    """The sensitivity step started in a forked child (see ``assess(overlap=...)``), or None
+    where it is computed in turn."""
+    if overlap is False or joint.d < 2 or n < 64:
+        return None
+    replayed = -(-min(n, SENSITIVITY_RUNS + HOLDOUT_RUNS) // CHUNK) * CHUNK
+    if overlap is None and (n <= replayed or not second_core_idle()):
+        return None
+    job = _overlap.fork_call(lambda: _head_sensitivity(scenario, joint, n, seed_),
+                             what="the sensitivity indices")
+    if job is not None:
+        job.key = (scenario, n, seed_)
+    return job
+
+
+def start_sensitivity(scenario: Scenario, *, samples: int | None = None,
+                      seed: int | None = None, overlap: bool | None = None
+                      ) -> _overlap.Forked | None:
+    """Start the sensitivity step of ``assess(scenario, samples=samples, seed=seed)`` in a
+    forked child now, to be passed on as ``assess(..., sensitivity=...)``; None where it is
+    computed in turn (``overlap`` as in :func:`assess`). For callers that load the compiled
+    kernels before the run (the command line): numba's GNU OpenMP threads, once set up in a
+    process, cannot be used in a child forked after that (:func:`risk._overlap.fork_safe`),
+    so the child is forked first and loads the kernels itself, on its own core.
+    The caller closes what it gets (:meth:`risk._overlap.Forked.close`) if it does not run
+    the assessment."""
+    n_req = scenario.samples if samples is None else int(samples)
+    seed_ = scenario.seed if seed is None else int(seed)
+    names = list(scenario.inputs)
+    joint = build_joint(names, [scenario.inputs[k] for k in names],
+                        [list(p) for p in scenario.correlation])
+    return _start_sensitivity(scenario, joint, 1 if joint.d == 0 else n_req, seed_, overlap)
+
+
+def _read_only(results: Mapping[Any, Any]) -> None:
+    """Make the arrays of the (unpickled) sensitivity results read-only again."""
+    for r in results.values():
+        if dataclasses.is_dataclass(r):
+            for f in dataclasses.fields(r):
+                v = getattr(r, f.name)
+                if isinstance(v, np.ndarray):
+                    v.setflags(write=False)
+
+
 def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None = None,
            progress: Progress | None = None,
            step: Callable[[str], None] | None = None,
-           chunks: Callable[[int], ChunkOutcome] | None = None) -> Assessment:
+           chunks: Callable[[int], ChunkOutcome] | None = None,
+           overlap: bool | None = None,
+           sensitivity: _overlap.Forked | None = None) -> Assessment:
     """Sample the scenario's inputs, evaluate every mechanism, return a frozen result.
 
     Parameters
@@ -463,6 +410,15 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
         Outcomes of the sample chunks evaluated elsewhere (:func:`evaluate_chunks`, e.g. on
         other processes); the run then draws and evaluates nothing itself and continues from
         them (small-risk methods, sensitivity, decisions) exactly as if it had.
+    overlap : bool, optional
+        Compute the sensitivity step in a forked child while this process evaluates the
+        chunks (it reads only the leading samples, :func:`_head_sensitivity`): None (the
+        default) where a second core is idle (:func:`risk._cores.second_core_idle`) and the
+        run has more chunks than the child evaluates again; True wherever fork is available
+        (tests); False never. The results are the same bit for bit either way.
+    sensitivity : optional
+        The step already started by :func:`start_sensitivity` for this scenario, samples
+        and seed (then ``overlap`` is not used); closed here.
 
     Notes
     -----
@@ -496,64 +452,79 @@ def assess(scenario: Scenario, *, samples: int | None = None, seed: int | None =
     options = scenario.options
     option_scenarios = [dataclasses.replace(scenario, well=o.well) for o in options]
     option_dc: list[dict[str, NDArray[Any]]] = [{} for _ in options]
-    done = 0
-    index = 0
-    while done < n:
-        m = min(CHUNK, n - done)
-        rows = slice(done, done + m)
-        h = max(0, min(m, head - done))
-        c = (chunks(index) if chunks is not None else
-             _evaluate_drawn(scenario, joint, option_scenarios, sampler.draw(m), index=index,
-                             keep=h))
-        if c.index != index or c.size != m:
-            raise ValueError(f"chunk {c.index} of {c.size} samples given where chunk {index} "
-                             f"of {m} samples belongs")
-        if index == 0:
-            profile = c.profile
-        for key, res in c.mechanisms.items():
-            if key not in dc_all:
-                dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
-                theta_head[key] = np.empty((head, n_dir, n_stage))
-            dc_all[key][rows] = res.by_direction
-            for part, arr in res.parts.items():
-                store = parts_all.setdefault(key, {})
-                if part not in store:
-                    store[part] = np.empty((n, n_dir, n_stage), dtype=dtype)
-                store[part][rows] = arr
+    background = sensitivity if sensitivity is not None or chunks is not None else (
+        _start_sensitivity(scenario, joint, n, seed_, overlap))
+    if background is not None and (background.key[0] is not scenario
+                                   or background.key[1:] != (n, seed_)):
+        background.close()
+        raise ValueError("the sensitivity step given was started for another run")
+    try:
+        done = 0
+        index = 0
+        while done < n:
+            m = min(CHUNK, n - done)
+            rows = slice(done, done + m)
+            h = max(0, min(m, head - done))
+            c = (chunks(index) if chunks is not None else
+                 _evaluate_drawn(scenario, joint, option_scenarios, sampler.draw(m), index=index,
+                                 keep=h))
+            if c.index != index or c.size != m:
+                raise ValueError(f"chunk {c.index} of {c.size} samples given where chunk {index} "
+                                 f"of {m} samples belongs")
+            if index == 0:
+                profile = c.profile
+            for key, res in c.mechanisms.items():
+                if key not in dc_all:
+                    dc_all[key] = np.empty((n, n_dir, n_stage), dtype=dtype)
+                    theta_head[key] = np.empty((head, n_dir, n_stage))
+                dc_all[key][rows] = res.by_direction
+                for part, arr in res.parts.items():
+                    store = parts_all.setdefault(key, {})
+                    if part not in store:
+                        store[part] = np.empty((n, n_dir, n_stage), dtype=dtype)
+                    store[part][rows] = arr
+                if h:
+                    theta_head[key][done:done + h] = res.theta[:h]
+            for i, osc in enumerate(option_scenarios):
+                o_dir = len(osc.well.shot_angles) if osc.well.completion == "perforated" else 1
+                for key, arr in c.options[i].items():
+                    if key not in option_dc[i]:
+                        option_dc[i][key] = np.empty((n, o_dir, n_stage), dtype=dtype)
+                    option_dc[i][key][rows] = arr
+            if with_compaction and c.compaction is not None:
+                far_all[rows] = c.compaction.far_field
+                wall_all[rows] = c.compaction.wall
+                p0_all[rows] = c.compaction.initial
+                if c.compaction.far_field_mean_stress is not None:
+                    if mean_far_all is None:
+                        mean_far_all = np.empty(n, dtype=dtype)
+                    mean_far_all[rows] = c.compaction.far_field_mean_stress
+                if c.compaction.wall_at_max_drawdown is not None:
+                    wall_dd_all[rows] = c.compaction.wall_at_max_drawdown
             if h:
-                theta_head[key][done:done + h] = res.theta[:h]
-        for i, osc in enumerate(option_scenarios):
-            o_dir = len(osc.well.shot_angles) if osc.well.completion == "perforated" else 1
-            for key, arr in c.options[i].items():
-                if key not in option_dc[i]:
-                    option_dc[i][key] = np.empty((n, o_dir, n_stage), dtype=dtype)
-                option_dc[i][key][rows] = arr
-        if with_compaction and c.compaction is not None:
-            far_all[rows] = c.compaction.far_field
-            wall_all[rows] = c.compaction.wall
-            p0_all[rows] = c.compaction.initial
-            if c.compaction.far_field_mean_stress is not None:
-                if mean_far_all is None:
-                    mean_far_all = np.empty(n, dtype=dtype)
-                mean_far_all[rows] = c.compaction.far_field_mean_stress
-            if c.compaction.wall_at_max_drawdown is not None:
-                wall_dd_all[rows] = c.compaction.wall_at_max_drawdown
-        if h:
-            for k in names:
-                col_head[k][done:done + h] = c.inputs[k][:h]
-            xi_head[done:done + h] = c.xi[:h]
-        done += m
-        index += 1
-        if progress is not None:
-            progress(done, n)
-    mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key],
-                                       parts_all.get(key, {})) for key in dc_all}
-    comp_all = (CompactionResult(far_all, wall_all, p0_all, mean_far_all, wall_dd_all)
-                if with_compaction else None)
-    reliability = _reliability(scenario, joint, mechanisms, xi_head, n, seed_, step)
-    if step is not None:
-        step("sensitivity indices")
-    sens, torn, torn_base = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
+                for k in names:
+                    col_head[k][done:done + h] = c.inputs[k][:h]
+                xi_head[done:done + h] = c.xi[:h]
+            done += m
+            index += 1
+            if progress is not None:
+                progress(done, n)
+        mechanisms = {key: MechanismResult(key, dc_all[key], theta_head[key],
+                                           parts_all.get(key, {})) for key in dc_all}
+        comp_all = (CompactionResult(far_all, wall_all, p0_all, mean_far_all, wall_dd_all)
+                    if with_compaction else None)
+        reliability = _reliability(scenario, joint, mechanisms, xi_head, n, seed_, step)
+        if step is not None:
+            step("sensitivity indices")
+        sens_ = _overlap.LOST if background is None else background.result()
+    finally:
+        if background is not None:
+            background.close()
+    if sens_ is _overlap.LOST:  # in turn (or the child ended without a word)
+        sens_ = _sensitivity(scenario, joint, mechanisms, comp_all, xi_head, seed_)
+    else:
+        _read_only(sens_[0])
+    sens, torn, torn_base = sens_
     directions = (scenario.well.shot_angles if scenario.well.completion == "perforated"
                   else (float("nan"),))
     sand, phasing = _decisions(scenario, scenario.well,

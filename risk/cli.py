@@ -179,10 +179,11 @@ def run(
     note = first_use_note()
     if note and not quiet:
         typer.echo(f"note: {_plain(note)}", err=True)
-    _load_kernels(quiet=quiet)
-
+    # the kernels are loaded once the scenario is read (and the sensitivity step forked,
+    # where a core is idle: risk.assessment.start_sensitivity)
     result = _guard(run_scenario, file, out=out, samples=samples, seed=seed, force=force,
-                    show_progress=not quiet and not as_json and sys.stderr.isatty())
+                    show_progress=not quiet and not as_json and sys.stderr.isatty(),
+                    prepare=lambda: _load_kernels(quiet=quiet))
     if result.kept_foreign and not quiet:
         _warn_kept(result.out_dir, result.kept_foreign)
     if as_json:

@@ -37,7 +37,7 @@ COMPILING = ("compiling the yield-onset kernels (once per machine and version, a
 KERNEL_MODULES = ("risk.mechanics._mc_kernel", "risk.mechanics._onset_kernel",
                   "risk.mechanics._rotation_kernel", "risk.mechanics._compaction_kernel",
                   "risk.mechanics._arc_kernel", "risk.mechanics._collapse_kernel",
-                  "risk.mechanics._mogi_kernel")
+                  "risk.mechanics._mogi_kernel", "risk.mechanics._frame_kernel")
 
 _MECHANICS = Path(__file__).resolve().parent / "mechanics"
 

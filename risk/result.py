@@ -16,7 +16,9 @@ computed has a one-file answer, here (and the statistics themselves in
 from __future__ import annotations
 
 import math
+import os
 from collections.abc import Mapping
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from types import MappingProxyType
 from typing import TYPE_CHECKING, Any
@@ -37,6 +39,7 @@ __all__ = ["GRID_POINTS", "LEVELS", "Shot", "StageResult", "MechanismSummary", "
 
 Array = NDArray[np.float64]
 
+SUMMARY_THREADS = 2  # threads over (mechanism, stage) in summarize (1: in turn)
 GRID_POINTS = 51  # drawdowns of the failure-probability curve, from 0 to max_drawdown
 LEVELS = (0.01, 0.05, 0.1, 0.25, 0.5, 0.75, 0.9)  # envelope levels (share of samples failing)
 
@@ -336,7 +339,13 @@ def _stage(a: Assessment, key: str, k: int) -> StageResult:
     # sorted once, in double precision: every probability function below then reuses it
     # (one copy, sorted in place: at 10^7 samples each extra copy is 80 MB of peak memory)
     col = mech.by_direction[:, :, k]
-    dc = (col[:, 0] if col.shape[1] == 1 else col.min(axis=1)).astype(np.float64)
+    if col.shape[1] > 1:  # one gather: each direction's column contiguous for all below
+        col = np.asfortranarray(col)
+    # pairwise minima over the few directions: the values of col.min(axis=1) (a minimum is
+    # exact), without numpy's slow reduction along a middle axis
+    dc = col[:, 0].astype(np.float64)
+    for j in range(1, col.shape[1]):
+        np.minimum(dc, col[:, j], out=dc)
     dc.sort()
     qs = probability.percentiles(dc, LEVELS)
     q = qs[[2, 4, 6]]
@@ -360,7 +369,7 @@ def _stage(a: Assessment, key: str, k: int) -> StageResult:
     del dc
     extra: dict[str, Any] = {}
     if sc.well.completion == "perforated":
-        by_dir = mech.by_direction[:, :, k]
+        by_dir = col  # (n, directions), the same values, column by column
         shots, worst, best = _shots(a, by_dir, limit, p_r)
         extra = {"shots": shots, "worst_shots": worst, "best_shots": best,
                  "best_pair": _best_pair(a.directions, by_dir, p_r, sc.accepted_risk)}
@@ -460,8 +469,19 @@ def summarize(a: Assessment) -> Result:
     """Every answer of a run, computed from its per-sample outcomes (internal units)."""
     from risk.assessment import MECHANISMS
 
+    # every (mechanism, stage) apart on a pool of threads: sorting and the other large array
+    # operations release the interpreter, so a second core shares them; each is computed
+    # as alone, so the answers are the same with any number of threads
+    items = [(key, k) for key in a.mechanisms for k in range(len(a.stages))]
+    workers = min(len(items), os.cpu_count() or 1, SUMMARY_THREADS)
+    if workers > 1:
+        with ThreadPoolExecutor(max_workers=workers, thread_name_prefix="risk-summary") as pool:
+            stages = list(pool.map(lambda item: _stage(a, *item), items))
+    else:
+        stages = [_stage(a, key, k) for key, k in items]
+    n_k = len(a.stages)
     mechanisms = {key: MechanismSummary(key, MECHANISMS[key],
-                                        tuple(_stage(a, key, k) for k in range(len(a.stages))))
-                  for key in a.mechanisms}
+                                        tuple(stages[i * n_k:(i + 1) * n_k]))
+                  for i, key in enumerate(a.mechanisms)}
     return Result(assessment=a, mechanisms=MappingProxyType(mechanisms),
                   pore_collapse=_pore_collapse(a), first_yield=_first_yield(a))

@@ -142,16 +142,21 @@ def far_field_tensor(
     return out
 
 
-_PAIRWISE = ["einsum_path", (0, 1), (0, 1)]
-
-
 def rotate_to_frame(tensor: ArrayLike, frame: ArrayLike) -> Array:
-    """S' = R S R^T: components of a NED tensor in the frame whose rows are R [MPa]."""
+    """S' = R S R^T: components of a NED tensor in the frame whose rows are R [MPa].
+
+    Broadcasts over leading axes. Computed by the compiled gufunc
+    :func:`risk.mechanics._frame_kernel.rotate`: each entry of R S and of (R S) R^T a chain of
+    fused multiply-adds in a fixed order (the roundings of numpy's matmul on BLAS kernels
+    with fused multiply-add; the same value for a case however many are computed with it).
+    """
+    from risk.mechanics._frame_kernel import rotate
+
     r = np.asarray(frame, dtype=float)
     s = np.asarray(tensor, dtype=float)
-    # two pairwise contractions, in a fixed order, instead of one three-operand loop (several
-    # times faster on stacks of tensors; rounding-level differences from the one loop)
-    return np.einsum("...ij,...jk,...lk->...il", r, s, r, optimize=_PAIRWISE)
+    if r.shape[-2:] != (3, 3) or s.shape[-2:] != (3, 3):
+        raise ValueError(f"expected 3 x 3 tensors and frames, got {s.shape} and {r.shape}")
+    return np.asarray(rotate(s, r))
 
 
 def local_stress(tensor: ArrayLike, frame: ArrayLike) -> LocalStress:

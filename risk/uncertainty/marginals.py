@@ -14,7 +14,6 @@ from typing import Any, Final
 import numpy as np
 import scipy.special as sc
 from numpy.typing import ArrayLike, NDArray
-from scipy import stats
 
 FloatArray = NDArray[np.float64]
 
@@ -274,6 +273,8 @@ class Marginal:
     @cached_property
     def _truncnorm(self) -> Any:
         p = self._p
+        from scipy import stats  # imported here: about a second, for this distribution only
+
         a, b = (p["low"] - p["mean"]) / p["sd"], (p["high"] - p["mean"]) / p["sd"]
         return stats.truncnorm(a, b, loc=p["mean"], scale=p["sd"])
 

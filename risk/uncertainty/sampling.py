@@ -3,15 +3,17 @@
 from __future__ import annotations
 
 import warnings
-from typing import Final
+from typing import TYPE_CHECKING, Final
 
 import numpy as np
 import scipy
 from numpy.typing import NDArray
-from scipy.stats import qmc
 
 from risk.errors import ScenarioError, did_you_mean
 from risk.uncertainty.marginals import U_MAX, U_MIN, FloatArray
+
+if TYPE_CHECKING:
+    from scipy.stats import qmc
 
 #: Unit-cube sampling rules.
 RULES: Final = ("sobol", "lhs", "random")
@@ -77,6 +79,10 @@ class UnitSampler:
         self._lhs: _FeistelLHS | None = None
         if total is not None and total < 1:
             raise ValueError("total must be >= 1")
+        if d > 0 and rule in ("sobol", "lhs"):
+            # imported here: scipy.stats takes about a second to import, and the scenario
+            # loader (hence `risk new`, `risk memo`) needs none of it
+            from scipy.stats import qmc
         if d > 0 and rule == "sobol":
             self._engine = qmc.Sobol(self.d, scramble=True, rng=rng)
         elif d > 0 and rule == "lhs" and total is not None:

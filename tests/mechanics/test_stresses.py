@@ -112,3 +112,57 @@ def test_in_plane_principal():
     loc = st.LocalStress(*(np.array(v) for v in (50.0, 30.0, 0.0, 10.0, 0.0, 0.0)))
     hi, lo = st.in_plane_principal(loc)
     np.testing.assert_allclose(sorted(np.linalg.eigvalsh([[50., 10.], [10., 30.]])), [lo, hi])
+
+
+def _fma_exact(a: float, b: float, c: float) -> float:
+    """a * b + c with one rounding (IEEE 754-2008 fusedMultiplyAdd), computed exactly in
+    rational arithmetic (Python's fractions) and rounded to the nearest double."""
+    from fractions import Fraction
+
+    return float(Fraction(a) * Fraction(b) + Fraction(c))
+
+
+def test_rotation_is_the_fused_product_and_numpys_to_rounding():
+    # Reference 1: the definition S' = R S R^T entry by entry, each a fused multiply-add
+    # chain fma(a2, b2, fma(a1, b1, a0 b0)) evaluated exactly with fractions (IEEE 754-2008
+    # sec. 5.4.1): every entry bit for bit. Reference 2: numpy's matmul, to rounding.
+    # Reference 3: the trace and the Frobenius norm are invariant under a rotation (any
+    # linear-algebra text, e.g. Fjaer et al. 2008 sec. 1.3 for the stress invariants).
+    rng = np.random.default_rng(7)
+    m = rng.normal(size=(40, 3, 3)) * 30.0
+    s = m + np.swapaxes(m, -1, -2)
+    r, _ = np.linalg.qr(rng.normal(size=(40, 3, 3)))
+    got = st.rotate_to_frame(s, r)
+    for p in range(0, 40, 7):
+        a = [[_fma_exact(r[p, i, 2], s[p, 2, k], _fma_exact(r[p, i, 1], s[p, 1, k],
+                                                           r[p, i, 0] * s[p, 0, k]))
+              for k in range(3)] for i in range(3)]
+        for i in range(3):
+            for j in range(3):
+                want = _fma_exact(a[i][2], r[p, j, 2], _fma_exact(a[i][1], r[p, j, 1],
+                                                                  a[i][0] * r[p, j, 0]))
+                assert got[p, i, j] == want
+    np.testing.assert_allclose(got, r @ s @ np.swapaxes(r, -1, -2), rtol=1e-12, atol=1e-12)
+    np.testing.assert_allclose(np.trace(got, axis1=-2, axis2=-1),
+                               np.trace(s, axis1=-2, axis2=-1), rtol=1e-12, atol=1e-11)
+    np.testing.assert_allclose(np.linalg.norm(got, axis=(-2, -1)),
+                               np.linalg.norm(s, axis=(-2, -1)), rtol=1e-12)
+
+
+def test_rotation_broadcasts_and_is_the_same_for_a_case_in_any_stack():
+    # One tensor per sample against one frame per shot: every (sample, shot) pair equals the
+    # pair rotated alone (the gufunc broadcasts like numpy's matmul; derived).
+    rng = np.random.default_rng(3)
+    t = st.far_field_tensor(shmax=rng.uniform(50, 60, (5, 2)), shmin=rng.uniform(40, 50, (5, 2)),
+                            sv=60.0, shmax_azimuth=0.4)  # (5, 2, 3, 3): samples x stages
+    frames = st.tunnel_frame(well_inclination=0.6, well_azimuth=1.0,
+                             shot_angle=np.radians([0.0, 90.0, 200.0]))  # (3, 3, 3)
+    many = st.rotate_to_frame(t[:, None], frames[None, :, None])
+    assert many.shape == (5, 3, 2, 3, 3)
+    for i in range(5):
+        for j in range(3):
+            for k in range(2):
+                one = st.rotate_to_frame(t[i, k], frames[j])
+                assert np.array_equal(many[i, j, k], one)
+    with pytest.raises(ValueError, match="3 x 3"):
+        st.rotate_to_frame(np.eye(2), np.eye(3))

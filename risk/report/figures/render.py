@@ -15,7 +15,6 @@ import json
 import multiprocessing
 import os
 import struct
-import time
 import zlib
 from collections.abc import Callable, Mapping
 from concurrent.futures import ProcessPoolExecutor
@@ -29,6 +28,7 @@ from matplotlib.layout_engine import PlaceHolderLayoutEngine
 from PIL import Image
 from PIL.PngImagePlugin import PngInfo
 
+from risk._cores import _idle_cores
 from risk.report.figures.calibration import plot_calibration, plot_value_of_information
 from risk.report.figures.common import _SIZE_ONLY, DPI, _Sized, _styled
 from risk.report.figures.curves import (
@@ -248,26 +248,6 @@ def _render_one(name: str, results: Mapping[str, Any], key: str = "") -> bytes |
         return None
     fig = drawn if isinstance(drawn, Figure) else drawn.get_figure(root=True)
     return _png(fig, provenance_text(results), key)
-
-
-def _idle_cores(window: float = 0.1) -> float | None:
-    """Cores left idle [-] over ``window`` [s] while this process sleeps, from the kernel's
-    CPU time counters (Linux ``/proc/stat``, first line: user, nice, system, idle, iowait,
-    irq, softirq, steal in clock ticks, summed over the CPUs); None where unreadable."""
-    def counters() -> tuple[int, int]:
-        with open("/proc/stat", "rb") as f:
-            ticks = [int(v) for v in f.readline().split()[1:9]]
-        return ticks[3] + ticks[4], sum(ticks)
-
-    try:
-        idle0, total0 = counters()
-        time.sleep(window)
-        idle1, total1 = counters()
-    except (OSError, ValueError, IndexError):
-        return None
-    if total1 <= total0:
-        return None
-    return (idle1 - idle0) / (total1 - total0) * (os.cpu_count() or 1)
 
 
 def _workers() -> int:
